@@ -1,0 +1,67 @@
+import { z } from 'zod';
+import path from 'node:path';
+
+/**
+ * All configuration, read once from the environment, checked with zod and frozen.
+ * A bad value stops the process with one line naming the variable (see main.ts).
+ */
+const LOG_LEVELS = ['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'] as const;
+
+const booleanish = z
+  .enum(['true', 'false', '1', '0', 'yes', 'no'])
+  .transform((v) => v === 'true' || v === '1' || v === 'yes');
+
+const schema = z.object({
+  PORT: z.coerce.number().int().min(0).max(65535).default(3000),
+  HOST: z.string().min(1).default('127.0.0.1'),
+  DATABASE_URL: z
+    .string()
+    .regex(/^postgres(ql)?:\/\//, 'must start with postgres:// or postgresql://')
+    .optional(),
+  VEILTALLY_DATA_DIR: z.string().min(1).default('./data'),
+  SESSION_SECRET: z.string().min(32, 'must be at least 32 characters').optional(),
+  VEILTALLY_CODE_PEPPER: z
+    .string()
+    .regex(/^[0-9a-f]{64}$/i, 'must be 64 hexadecimal characters (32 bytes)')
+    .optional(),
+  TRUST_PROXY: booleanish.default(false),
+  LOG_LEVEL: z.enum(LOG_LEVELS).default('info'),
+});
+
+export type Config = Readonly<{
+  port: number;
+  host: string;
+  databaseUrl: string | undefined;
+  dataDir: string;
+  sessionSecret: string | undefined;
+  codePepperHex: string | undefined;
+  trustProxy: boolean;
+  logLevel: (typeof LOG_LEVELS)[number];
+}>;
+
+export class ConfigError extends Error {
+  constructor(readonly variable: string, detail: string) {
+    super(`${variable}: ${detail}`);
+    this.name = 'ConfigError';
+  }
+}
+
+export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
+  const parsed = schema.safeParse(env);
+  if (!parsed.success) {
+    const issue = parsed.error.issues[0]!;
+    const variable = String(issue.path[0] ?? 'environment');
+    throw new ConfigError(variable, issue.message);
+  }
+  const e = parsed.data;
+  return Object.freeze({
+    port: e.PORT,
+    host: e.HOST,
+    databaseUrl: e.DATABASE_URL,
+    dataDir: path.resolve(e.VEILTALLY_DATA_DIR),
+    sessionSecret: e.SESSION_SECRET,
+    codePepperHex: e.VEILTALLY_CODE_PEPPER,
+    trustProxy: e.TRUST_PROXY,
+    logLevel: e.LOG_LEVEL,
+  });
+}

@@ -1,0 +1,64 @@
+import knexFactory, { type Knex } from 'knex';
+import ClientPgLite from 'knex-pglite';
+import pg from 'pg';
+import fs from 'node:fs';
+import path from 'node:path';
+
+export type Engine = 'pglite' | 'postgres';
+
+export type Db = Knex | Knex.Transaction;
+
+export interface Database {
+  readonly knex: Knex;
+  readonly engine: Engine;
+  close(): Promise<void>;
+}
+
+// bigint / numeric come back from pg as strings; counts and ids we use fit in a double.
+pg.types.setTypeParser(pg.types.builtins.INT8, (v) => Number(v));
+
+export type DatabaseOptions =
+  | { engine: 'postgres'; url: string; searchPath?: string; poolMax?: number }
+  | { engine: 'pglite'; dataDir: string | null };
+
+/**
+ * Builds knex for the embedded PGlite (a directory, or memory when dataDir is null)
+ * or for PostgreSQL. Everything that differs between the two stays in src/db.
+ */
+export function openDatabase(options: DatabaseOptions): Database {
+  if (options.engine === 'postgres') {
+    const knex = knexFactory({
+      client: 'pg',
+      connection: { connectionString: options.url },
+      searchPath: options.searchPath ? [options.searchPath] : undefined,
+      pool: { min: 0, max: options.poolMax ?? 10 },
+    });
+    return { knex, engine: 'postgres', close: () => knex.destroy() };
+  }
+  let connection: { filename?: string } = {};
+  if (options.dataDir !== null) {
+    const dir = path.join(options.dataDir, 'pglite');
+    fs.mkdirSync(dir, { recursive: true, mode: 0o700 });
+    connection = { filename: dir };
+  }
+  const knex = knexFactory({
+    client: ClientPgLite as unknown as typeof Knex.Client,
+    dialect: 'postgres',
+    connection,
+  });
+  return { knex, engine: 'pglite', close: () => knex.destroy() };
+}
+
+/** count(*) is a string in pg (bigint) and a number in PGlite: normalise here. */
+export function toCount(value: unknown): number {
+  const n = typeof value === 'number' ? value : Number(value);
+  if (!Number.isSafeInteger(n)) throw new Error('count was not an integer');
+  return n;
+}
+
+/** bytea arrives as Buffer from pg and as Uint8Array from PGlite. */
+export function toBuffer(value: unknown): Buffer {
+  if (Buffer.isBuffer(value)) return value;
+  if (value instanceof Uint8Array) return Buffer.from(value.buffer, value.byteOffset, value.byteLength);
+  throw new Error('expected binary column');
+}

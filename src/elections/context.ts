@@ -1,0 +1,34 @@
+import type { Knex } from 'knex';
+import type { Engine } from '../db/knex.ts';
+
+/** n random bytes. Production passes node:crypto; tests pass a seeded source. */
+export type RandomBytes = (byteCount: number) => Uint8Array;
+
+/** Argon2id cost for wrapping election keys (RFC 9106 §4 second option by default). */
+export interface KdfParams {
+  memoryKiB: number;
+  iterations: number;
+  parallelism: number;
+}
+
+export interface InstanceSecrets {
+  /** HMAC-SHA-256 key for ballot codes and receipts. */
+  readonly codePepper: Buffer;
+  /** 32-byte Ed25519 seed for signing published statements. */
+  readonly signingSeed: Buffer;
+}
+
+/**
+ * Everything a use-case needs from outside, passed in rather than imported,
+ * so tests choose the database, the clock and the randomness.
+ */
+export interface UseCaseContext {
+  readonly knex: Knex;
+  readonly engine: Engine;
+  readonly now: () => Date;
+  readonly random: RandomBytes;
+  readonly secrets: InstanceSecrets;
+  readonly kdf: KdfParams;
+}
+
+export const DEFAULT_KDF: KdfParams = Object.freeze({ memoryKiB: 64 * 1024, iterations: 3, parallelism: 4 });

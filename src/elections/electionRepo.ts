@@ -1,0 +1,101 @@
+import type { Db } from '../db/knex.ts';
+import { toBuffer } from '../db/knex.ts';
+
+export type ElectionState = 'draft' | 'open' | 'closed' | 'tallied' | 'published';
+export type Neighbour = 'replace-one' | 'add-remove';
+
+export interface ElectionOption {
+  position: number;
+  label: string;
+  description: string;
+}
+
+/** An election as the use-cases see it. Wrapped key and result are opaque JSON here. */
+export interface Election {
+  id: string;
+  ownerId: string;
+  title: string;
+  description: string;
+  state: ElectionState;
+  seats: number;
+  epsilon: string;
+  neighbour: Neighbour;
+  opensAt: Date;
+  closesAt: Date;
+  timeZone: string;
+  publishTurnout: boolean;
+  retentionDays: number | null;
+  expectedVoters: number | null;
+  publicKey: Buffer | null;
+  wrappedKey: unknown;
+  result: unknown;
+  ballotsCounted: number | null;
+  openedAt: Date | null;
+  closedAt: Date | null;
+  talliedAt: Date | null;
+  publishedAt: Date | null;
+  shredAfter: Date | null;
+  shreddedAt: Date | null;
+  createdAt: Date;
+  options: ElectionOption[];
+}
+
+const json = (v: unknown): unknown => (typeof v === 'string' ? JSON.parse(v) : v);
+const date = (v: unknown): Date | null => (v === null || v === undefined ? null : new Date(v as string));
+
+function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Election {
+  return {
+    id: r.id as string,
+    ownerId: r.owner_id as string,
+    title: r.title as string,
+    description: r.description as string,
+    state: r.state as ElectionState,
+    seats: r.seats as number,
+    epsilon: r.epsilon as string,
+    neighbour: r.neighbour as Neighbour,
+    opensAt: new Date(r.opens_at as string),
+    closesAt: new Date(r.closes_at as string),
+    timeZone: r.time_zone as string,
+    publishTurnout: r.publish_turnout as boolean,
+    retentionDays: (r.retention_days as number | null) ?? null,
+    expectedVoters: (r.expected_voters as number | null) ?? null,
+    publicKey: r.public_key == null ? null : toBuffer(r.public_key),
+    wrappedKey: r.wrapped_key == null ? null : json(r.wrapped_key),
+    result: r.result == null ? null : json(r.result),
+    ballotsCounted: (r.ballots_counted as number | null) ?? null,
+    openedAt: date(r.opened_at),
+    closedAt: date(r.closed_at),
+    talliedAt: date(r.tallied_at),
+    publishedAt: date(r.published_at),
+    shredAfter: date(r.shred_after),
+    shreddedAt: date(r.shredded_at),
+    createdAt: new Date(r.created_at as string),
+    options,
+  };
+}
+
+async function loadOptions(db: Db, electionId: string): Promise<ElectionOption[]> {
+  const rows = await db('options').where({ election_id: electionId }).orderBy('position');
+  return rows.map((o) => ({ position: o.position, label: o.label, description: o.description }));
+}
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** Finds an election by id; a malformed id is simply not found. */
+export async function findElection(db: Db, id: string): Promise<Election | null> {
+  if (!UUID.test(id)) return null;
+  const row = await db('elections').where({ id }).first();
+  return row ? fromRow(row, await loadOptions(db, id)) : null;
+}
+
+/** Locks the election row for the rest of the transaction (serialises tally, open, close, publish). */
+export async function lockElection(trx: Db, id: string): Promise<Election | null> {
+  if (!UUID.test(id)) return null;
+  const row = await trx('elections').where({ id }).forUpdate().first();
+  return row ? fromRow(row, await loadOptions(trx, id)) : null;
+}
+
+/** Is casting accepted at this instant? Checked on every cast, not only by a background job. */
+export function acceptsBallotsAt(e: Pick<Election, 'state' | 'opensAt' | 'closesAt'>, now: Date): boolean {
+  return e.state === 'open' && now >= e.opensAt && now < e.closesAt;
+}
