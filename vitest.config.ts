@@ -7,6 +7,7 @@ export default defineConfig({
     testTimeout: 60_000,
     hookTimeout: 60_000,
     pool: 'forks',
-    reporters: ['default'],
+    reporters: process.env.CI ? ['verbose'] : ['default'],
+    globalSetup: ['test/helpers/announceEngines.ts'],
   },
 });

@@ -24,6 +24,10 @@ const schema = z.object({
     .string()
     .regex(/^[0-9a-f]{64}$/i, 'must be 64 hexadecimal characters (32 bytes)')
     .optional(),
+  PUBLIC_URL: z
+    .string()
+    .regex(/^https?:\/\/[^\s/]+(\/[^\s]*)?$/, 'must be an http:// or https:// address, for example https://vote.example.org')
+    .optional(),
   TRUST_PROXY: booleanish.default(false),
   LOG_LEVEL: z.enum(LOG_LEVELS).default('info'),
 });
@@ -35,6 +39,8 @@ export type Config = Readonly<{
   dataDir: string;
   sessionSecret: string | undefined;
   codePepperHex: string | undefined;
+  /** Where members reach the site; used in ballot links and to decide on Secure cookies. */
+  publicUrl: string;
   trustProxy: boolean;
   logLevel: (typeof LOG_LEVELS)[number];
 }>;
@@ -61,6 +67,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     dataDir: path.resolve(e.VEILTALLY_DATA_DIR),
     sessionSecret: e.SESSION_SECRET,
     codePepperHex: e.VEILTALLY_CODE_PEPPER,
+    publicUrl: (e.PUBLIC_URL ?? `http://${e.HOST.includes(':') ? `[${e.HOST}]` : e.HOST}:${e.PORT}`).replace(/\/+$/, ''),
     trustProxy: e.TRUST_PROXY,
     logLevel: e.LOG_LEVEL,
   });

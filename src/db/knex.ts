@@ -35,11 +35,11 @@ export function openDatabase(options: DatabaseOptions): Database {
     });
     return { knex, engine: 'postgres', close: () => knex.destroy() };
   }
-  let connection: { filename?: string } = {};
+  let connection: Knex.StaticConnectionConfig = {} as Knex.StaticConnectionConfig;
   if (options.dataDir !== null) {
     const dir = path.join(options.dataDir, 'pglite');
     fs.mkdirSync(dir, { recursive: true, mode: 0o700 });
-    connection = { filename: dir };
+    connection = { filename: dir } as Knex.StaticConnectionConfig;
   }
   const knex = knexFactory({
     client: ClientPgLite as unknown as typeof Knex.Client,

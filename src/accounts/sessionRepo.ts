@@ -1,0 +1,30 @@
+import crypto from 'node:crypto';
+import type { Db } from '../db/knex.ts';
+
+/** Session rows are keyed by SHA-256 of the session id, so the table holds no usable session. */
+const key = (sid: string): string => crypto.createHash('sha256').update(sid).digest('hex');
+
+export async function readSession(db: Db, sid: string, now: Date): Promise<unknown | null> {
+  const row = await db('sessions').where({ sid_hash: key(sid) }).andWhere('expires_at', '>', now).first();
+  if (!row) return null;
+  return typeof row.data === 'string' ? JSON.parse(row.data) : row.data;
+}
+
+export async function writeSession(db: Db, sid: string, data: unknown, expiresAt: Date): Promise<void> {
+  await db('sessions')
+    .insert({ sid_hash: key(sid), data: JSON.stringify(data), expires_at: expiresAt })
+    .onConflict('sid_hash')
+    .merge(['data', 'expires_at']);
+}
+
+export async function touchSession(db: Db, sid: string, expiresAt: Date): Promise<void> {
+  await db('sessions').where({ sid_hash: key(sid) }).update({ expires_at: expiresAt });
+}
+
+export async function deleteSession(db: Db, sid: string): Promise<void> {
+  await db('sessions').where({ sid_hash: key(sid) }).delete();
+}
+
+export async function deleteExpiredSessions(db: Db, now: Date): Promise<number> {
+  return db('sessions').where('expires_at', '<=', now).delete();
+}

@@ -1,0 +1,77 @@
+import crypto from 'node:crypto';
+import type { Server } from 'node:http';
+import { ConfigError, loadConfig } from './config.ts';
+import { openConfiguredDatabase } from './db/configured.ts';
+import { MigrationFailed, migrateLatest } from './db/migrate.ts';
+import { DEFAULT_KDF, type UseCaseContext } from './elections/context.ts';
+import { createLogger } from './log.ts';
+import { loadSecrets } from './secrets.ts';
+import { createApp } from './web/app.ts';
+import { startHousekeeping } from './housekeeping.ts';
+
+function fail(line: string): never {
+  process.stderr.write(`veiltally: ${line}\n`);
+  process.exit(1);
+}
+
+async function start(): Promise<void> {
+  let config;
+  try {
+    config = loadConfig();
+  } catch (e) {
+    if (e instanceof ConfigError) fail(`bad configuration, ${e.message}`);
+    throw e;
+  }
+  const logger = createLogger(config.logLevel);
+  const secrets = loadSecrets(config);
+  const db = openConfiguredDatabase(config);
+  try {
+    await migrateLatest(db.knex);
+  } catch (e) {
+    await db.close().catch(() => undefined);
+    if (e instanceof MigrationFailed) fail(`could not prepare the database, ${e.message}`);
+    fail(`could not reach the database (${e instanceof Error ? e.message : String(e)})`);
+  }
+
+  const ctx: UseCaseContext = {
+    knex: db.knex,
+    engine: db.engine,
+    now: () => new Date(),
+    random: (n) => crypto.randomBytes(n),
+    secrets,
+    kdf: DEFAULT_KDF,
+  };
+  const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });
+  const server: Server = app.listen(config.port, config.host);
+  await new Promise<void>((resolve, reject) => {
+    server.once('listening', resolve);
+    server.once('error', reject);
+  }).catch((e: NodeJS.ErrnoException) => {
+    fail(e.code === 'EADDRINUSE' ? `port ${config.port} is already in use (set PORT)` : `could not listen (${e.message})`);
+  });
+  const address = server.address();
+  const port = typeof address === 'object' && address ? address.port : config.port;
+  const housekeeping = startHousekeeping(ctx, logger);
+  logger.info({ url: `http://${config.host}:${port}`, db: db.engine }, `Veiltally listening on http://${config.host}:${port}`);
+
+  let stopping = false;
+  const stop = (signal: string) => {
+    if (stopping) {
+      logger.warn({ signal }, 'second signal: exiting now');
+      process.exit(1);
+    }
+    stopping = true;
+    logger.info({ signal }, 'shutting down: finishing requests in flight');
+    housekeeping.stop();
+    server.close(async () => {
+      await db.close().catch((e) => logger.error({ err: e }, 'database did not close cleanly'));
+      logger.info('stopped');
+      process.exit(0);
+    });
+    server.closeIdleConnections();
+  };
+  process.on('SIGTERM', () => stop('SIGTERM'));
+  process.on('SIGINT', () => stop('SIGINT'));
+}
+
+start().catch((e) => fail(`failed to start (${e instanceof Error ? e.message : String(e)})`));

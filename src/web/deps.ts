@@ -1,0 +1,11 @@
+import type { Config } from '../config.ts';
+import type { UseCaseContext } from '../elections/context.ts';
+import type { Logger } from '../log.ts';
+
+/** What createApp is built from; main.ts and the tests assemble it. */
+export interface AppDeps {
+  readonly config: Config;
+  readonly ctx: UseCaseContext;
+  readonly logger: Logger;
+  readonly sessionSecret: string;
+}

@@ -1,0 +1,31 @@
+import { VeiltallyError } from '../errors.ts';
+
+/** Web-only failures. Domain errors live beside their use-cases. */
+export class Forbidden extends VeiltallyError {
+  readonly code = 'Forbidden';
+  override readonly status = 403;
+}
+
+export class CsrfRejected extends VeiltallyError {
+  readonly code = 'CsrfRejected';
+  override readonly status = 403;
+  constructor() {
+    super('This form had expired or was not sent by this site. Go back, reload the page and try again.');
+  }
+}
+
+export class TooManyAttempts extends VeiltallyError {
+  readonly code = 'TooManyAttempts';
+  override readonly status = 429;
+  constructor(what: string) {
+    super(`Too many ${what} in a short time. Wait a few minutes, then try again.`);
+  }
+}
+
+export class PayloadTooLarge extends VeiltallyError {
+  readonly code = 'PayloadTooLarge';
+  override readonly status = 413;
+  constructor() {
+    super('That form was larger than we accept. Shorten it and send it again.');
+  }
+}

@@ -1,0 +1,56 @@
+import fs from 'node:fs';
+import path from 'node:path';
+import type { ErrorRequestHandler, RequestHandler } from 'express';
+import { isVeiltallyError, NotFound } from '../../errors.ts';
+import type { Logger } from '../../log.ts';
+import { CsrfRejected, PayloadTooLarge } from '../errors.ts';
+import { VIEWS_DIR } from '../paths.ts';
+
+/** A friendly page per typed error when one exists (views/errors/<Code>.ejs), else the general one. */
+function viewFor(code: string): string {
+  const specific = path.join(VIEWS_DIR, 'errors', `${code}.ejs`);
+  return fs.existsSync(specific) ? `errors/${code}` : 'errors/problem';
+}
+
+export const notFoundHandler: RequestHandler = (_req, _res, next) => next(new NotFound());
+
+/** The one error handler. Messages shown are the typed errors' own, written to be safe to show. */
+export function errorHandler(logger: Logger): ErrorRequestHandler {
+  return (err, req, res, _next) => {
+    let error = err;
+    const e = err as { code?: string; type?: string; status?: number };
+    if (e?.code === 'EBADCSRFTOKEN') error = new CsrfRejected();
+    else if (e?.type === 'entity.too.large') error = new PayloadTooLarge();
+
+    if (!isVeiltallyError(error)) {
+      // Only the error's class and the route are logged: never the body, query or headers.
+      logger.error({ err: { name: (err as Error)?.name, message: (err as Error)?.message, stack: (err as Error)?.stack }, method: req.method, route: req.route?.path ?? req.path }, 'unexpected error');
+      res.status(500);
+      return res.render('errors/problem', {
+        title: 'Something went wrong on our side',
+        message: 'The request could not be completed. Nothing you entered has been shown to anyone. Please try again in a moment.',
+        status: 500,
+      });
+    }
+    if (error.status >= 500) logger.error({ code: error.code, route: req.route?.path ?? req.path }, 'server failure');
+    res.status(error.status);
+    res.set('Cache-Control', 'no-store');
+    res.render(viewFor(error.code), {
+      title: titleFor(error.status),
+      message: error.message,
+      status: error.status,
+      error: { code: error.code, ...('details' in error ? { details: (error as { details: unknown }).details } : {}) },
+    });
+  };
+}
+
+function titleFor(status: number): string {
+  if (status === 404) return 'Not found';
+  if (status === 403) return 'Not allowed';
+  if (status === 409) return 'That cannot be done now';
+  if (status === 410) return 'No longer valid';
+  if (status === 413) return 'Too large';
+  if (status === 429) return 'Please wait a moment';
+  if (status >= 500) return 'Something went wrong on our side';
+  return 'Please check what you entered';
+}

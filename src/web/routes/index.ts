@@ -1,0 +1,6 @@
+import type { Router } from 'express';
+import type { AppDeps } from '../deps.ts';
+import { siteRouter } from './site/router.ts';
+
+/** Every router of the site, one per audience. Order matters only for overlapping paths. */
+export const routers: ReadonlyArray<(deps: AppDeps) => Router> = [siteRouter];

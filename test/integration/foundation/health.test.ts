@@ -1,0 +1,56 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import request from 'supertest';
+import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
+import { testContext } from '../../helpers/context.ts';
+import { testApp } from '../../helpers/app.ts';
+
+describe.each(engines)('health and home page [%s]', (engine) => {
+  let db: TestDatabase;
+  beforeAll(async () => {
+    db = await freshDatabase(engine);
+  });
+  afterAll(async () => {
+    await db.dispose();
+  });
+
+  it('GET /healthz checks the database and names the engine', async () => {
+    const res = await request(testApp(testContext(db))).get('/healthz');
+    expect(res.status).toBe(200);
+    expect(res.body).toEqual({ status: 'ok', db: engine });
+  });
+
+  it('GET /healthz answers 503 when the database is gone', async () => {
+    const broken = await freshDatabase(engine);
+    const app = testApp(testContext(broken));
+    await broken.dispose();
+    const res = await request(app).get('/healthz');
+    expect(res.status).toBe(503);
+    expect(res.body.status).toBe('unavailable');
+  });
+
+  it('renders the home page through the layout with security headers', async () => {
+    const res = await request(testApp(testContext(db))).get('/');
+    expect(res.status).toBe(200);
+    expect(res.text).toContain('<main id="main"');
+    expect(res.text).toContain('drawn at random, weighted toward the most approved');
+    // OWASP ASVS 5.0 §3.4: CSP without inline script, no referrer.
+    expect(res.headers['content-security-policy']).toContain("script-src 'self'");
+    expect(res.headers['content-security-policy']).not.toContain('unsafe-inline');
+    expect(res.headers['referrer-policy']).toBe('no-referrer');
+    expect(res.headers['x-powered-by']).toBeUndefined();
+    // A read-only visit creates no session.
+    expect(res.headers['set-cookie']).toBeUndefined();
+  });
+
+  it('gives a friendly 404 page', async () => {
+    const res = await request(testApp(testContext(db))).get('/no-such-page');
+    expect(res.status).toBe(404);
+    expect(res.text).toContain('We could not find that page.');
+  });
+
+  it('serves the stylesheet', async () => {
+    const res = await request(testApp(testContext(db))).get('/static/style.css');
+    expect(res.status).toBe(200);
+    expect(res.headers['content-type']).toContain('text/css');
+  });
+});
