@@ -1,0 +1,19 @@
+import type { RandomBytes } from '../elections/context.ts';
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** The 16 bytes of a UUID (RFC 9562 §4), used to bind ciphertexts to their election. */
+export function uuidBytes(id: string): Buffer {
+  if (!UUID.test(id)) throw new TypeError('not a UUID');
+  return Buffer.from(id.replace(/-/g, ''), 'hex');
+}
+
+/** A random (version 4) UUID from the given source, RFC 9562 §5.4. */
+export function randomUuid(random: RandomBytes): string {
+  const b = Buffer.from(random(16));
+  if (b.length !== 16) throw new Error('random source returned the wrong number of bytes');
+  b[6] = (b[6]! & 0x0f) | 0x40;
+  b[8] = (b[8]! & 0x3f) | 0x80;
+  const h = b.toString('hex');
+  return `${h.slice(0, 8)}-${h.slice(8, 12)}-${h.slice(12, 16)}-${h.slice(16, 20)}-${h.slice(20)}`;
+}

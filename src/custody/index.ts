@@ -1,0 +1,51 @@
+/**
+ * Ballot custody: pure cryptography over libsodium (sodium-native) and Argon2id (argon2).
+ * No database, no web, no clock; randomness is passed in where it matters.
+ */
+export { createElectionKeys, unwrapElectionKey, rewrapElectionKey, parseWrappedKey, publicKeyOf, wrappedKeySchema } from './keys.ts';
+export type { WrappedKey } from './keys.ts';
+export { deriveKey, kdfParamsSchema, ARGON2_VERSION } from './kdf.ts';
+export type { KdfParams, KdfExtras } from './kdf.ts';
+export {
+  tallyPassphraseSchema,
+  checkTallyPassphrase,
+  TALLY_PASSPHRASE_MIN,
+  TALLY_PASSPHRASE_NOTICE,
+} from './passphrase.ts';
+export {
+  normaliseCode,
+  formatCode,
+  generateCode,
+  codeBytes,
+  generateReceipt,
+  normaliseReceipt,
+  CODE_SYMBOLS,
+  RECEIPT_SYMBOLS,
+} from './codes.ts';
+export type { BallotCode } from './codes.ts';
+export {
+  encodeBallot,
+  sealBallot,
+  openSealedBox,
+  encodeAndSeal,
+  openingKey,
+  openAndCount,
+  openBallot,
+  ballotLength,
+  sealedLength,
+  BALLOT_VERSION,
+  MAX_OPTIONS,
+} from './ballot.ts';
+export type { OpeningKey } from './ballot.ts';
+export { codeHash, receiptHash, hmacSha256 } from './keyedHash.ts';
+export { signStatement, verifyStatement, publicKeyFromSeed } from './signing.ts';
+export { uuidBytes, randomUuid } from './ids.ts';
+export { sodiumRandom, wipe } from './sodium.ts';
+export {
+  WrongPassphrase,
+  BallotUnreadable,
+  CodeTypo,
+  CodeMalformed,
+  ReceiptMalformed,
+  WrappedKeyInvalid,
+} from './errors.ts';
