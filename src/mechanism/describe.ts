@@ -1,0 +1,97 @@
+import { decimalWithPrecision } from './decimal.ts';
+import type { PrivacyStatement } from './statement.ts';
+
+export interface StatementText {
+  headline: string;
+  paragraphs: string[];
+  boundsSentence: string;
+  caution: string;
+}
+
+const Decimal = decimalWithPrecision(40);
+
+function listWords(items: string[], joiner: 'and' | 'or'): string {
+  if (items.length <= 1) return items.join('');
+  return `${items.slice(0, -1).join(', ')} ${joiner} ${items[items.length - 1]}`;
+}
+
+function headlineOf(s: PrivacyStatement): string {
+  const prefix = s.electionTitle ? `${s.electionTitle}: ` : '';
+  if (s.outcome === 'no-ballots') return `${prefix}No ballots cast; no winner drawn.`;
+  if (s.seats === 1) return `${prefix}${s.winners[0]} was drawn as the winner.`;
+  return `${prefix}The ${s.seats} seats were drawn, in this order: ${s.winners.join(', ')}.`;
+}
+
+function howDrawn(s: PrivacyStatement): string {
+  const nobodySaw = 'Nobody, including the organiser, was shown how many approvals any option received.';
+  if (s.seats === 1) {
+    return `The winner was drawn at random, weighted toward the most approved options: an option that more members approved was more likely to be drawn, but not certain to be. ${nobodySaw}`;
+  }
+  return `Each of the ${s.seats} seats was drawn in turn from the options not drawn yet, at random and weighted toward the most approved options: an option that more members approved was more likely to be drawn, but not certain to be. ${nobodySaw}`;
+}
+
+function privacyParagraph(s: PrivacyStatement): string {
+  const setting = `Here ε (epsilon), the privacy setting, is ${s.epsilon}.`;
+  const how = s.protects.howVoted;
+  const whether = s.protects.whetherVoted;
+  const turnoutNote = 'The turnout is published as an exact count and is not protected: it shows how many members voted.';
+  if (s.neighbour === 'replace-one') {
+    const first = `Whatever any one member ticked, the chance of this announcement changed by at most a factor of e^ε ≈ ${how.factorAtMost}.`;
+    const second = whether
+      ? 'This covers whether a member voted as well as how: not voting looks the same as a ballot with nothing ticked.'
+      : turnoutNote;
+    return `${first} ${setting} ${second}`;
+  }
+  const ticked = `What a member ticked is protected less strongly: changing one ballot changed the chance by at most a factor of e^(2ε) ≈ ${how.factorAtMost}, because a changed ballot counts as one ballot removed and another added. The organiser chose this weaker setting on purpose.`;
+  const first = whether
+    ? `Whether any one member voted changed the chance of this announcement by at most a factor of e^ε ≈ ${whether.factorAtMost}.`
+    : turnoutNote;
+  return `${first} ${setting} ${ticked}`;
+}
+
+function compositionParagraph(s: PrivacyStatement): string {
+  return `The privacy setting was split evenly over the ${s.seats} seats: each seat's draw used ε/${s.seats} = ${s.perRoundEpsilon}, and the costs of the draws add up to ε = ${s.epsilon} for the whole announcement (basic composition).`;
+}
+
+function releasedParagraph(s: PrivacyStatement): string {
+  const shown = ['the winners', 'the list of options', 'the privacy setting ε', 'the guarantees below'];
+  if (s.turnout !== null) shown.push(`the turnout (${s.turnout} ballots, exact)`);
+  const hidden = ['how many approvals any option received', 'any ballot'];
+  if (s.turnout === null) hidden.push('the turnout');
+  return `Published: ${listWords(shown, 'and')}. Never published: ${listWords(hidden, 'or')}.`;
+}
+
+function boundsSentenceOf(s: PrivacyStatement): string {
+  if (s.outcome === 'no-ballots') return 'No draw took place, so no accuracy guarantee applies.';
+  const b = s.bounds;
+  const percent = new Decimal(1).minus(b.beta).times(100).toString();
+  const m95 = b.marginFor['0.95'];
+  if (s.seats === 1) {
+    return `With probability at least ${percent}%, the winner had at least as many approvals as the most approved option, minus ${b.withinApprovals}. If the most approved option led every other option by at least ${m95} approvals, it was announced with probability at least 95%.`;
+  }
+  return `For each seat, with probability at least ${percent}%, the option drawn had at least as many approvals as the most approved option still in play, minus ${b.withinApprovals}. If that option led every other option still in play by at least ${m95} approvals, it took the seat with probability at least 95%.`;
+}
+
+const CAUTION =
+  'The winner is drawn at random, weighted toward the most approved options; it is not always the option with the most approvals. ' +
+  'With few voters or a small ε, the result is close to a lottery. ' +
+  'A randomly drawn winner is a rule your organisation must adopt before voting, in line with its bylaws and local election law. ' +
+  'This method is not for public or government elections.';
+
+/** Plain-language text for the result page and the CLI, for readers with no statistics background. */
+export function describeStatement(s: PrivacyStatement): StatementText {
+  if (s.outcome === 'no-ballots') {
+    return {
+      headline: headlineOf(s),
+      paragraphs: [
+        'No ballots were cast, so nothing was counted and no winner was drawn. Nothing about any member can be learned from this result.',
+      ],
+      boundsSentence: boundsSentenceOf(s),
+      caution: CAUTION,
+    };
+  }
+  const paragraphs = [howDrawn(s), privacyParagraph(s)];
+  if (s.seats > 1) paragraphs.push(compositionParagraph(s));
+  paragraphs.push(releasedParagraph(s));
+  return { headline: headlineOf(s), paragraphs, boundsSentence: boundsSentenceOf(s), caution: CAUTION };
+}

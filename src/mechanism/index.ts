@@ -1,0 +1,36 @@
+/**
+ * The mechanism core: exact exponential-mechanism draws over approval counts,
+ * data-free bounds and the privacy statement. Pure: no I/O, randomness passed in.
+ */
+export { type RandomSource, cryptoRandom, uniformBelow, uniformBelowSmall } from './random.ts';
+export {
+  type Epsilon,
+  parseEpsilon,
+  EPSILON_RULE,
+  EPSILON_MIN_TEXT,
+  EPSILON_MAX_TEXT,
+  EPSILON_MAX_DECIMALS,
+} from './epsilon.ts';
+export { InvalidEpsilon, InvalidMechanismConfig, InvalidScores } from './errors.ts';
+export type { Rational } from './rational.ts';
+export { bernoulliRational, bernoulliExpMinus } from './bernoulli.ts';
+export {
+  type Neighbour,
+  type ExponentialDraw,
+  type PrivacyCost,
+  NEIGHBOURS,
+  MAX_OPTIONS,
+  SENSITIVITY,
+  makeExponentialDraw,
+} from './draw.ts';
+export { type Bounds } from './bounds.ts';
+export { type ElectorateAssessment, type ElectorateLevel, PLAUSIBLE_LEAD_FRACTION, assessElectorate } from './electorate.ts';
+export {
+  type PrivacyStatement,
+  type Protection,
+  type Released,
+  type NotReleased,
+  buildStatement,
+} from './statement.ts';
+export { type StatementText, describeStatement } from './describe.ts';
+export { canonicalJson, canonicalStatementBytes } from './canonical.ts';
