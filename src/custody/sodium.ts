@@ -46,14 +46,14 @@ export interface Sodium {
   crypto_sign_verify_detached(sig: Uint8Array, m: Uint8Array, pk: Uint8Array): boolean;
 
   randombytes_buf(buf: Uint8Array): void;
-  sodium_memzero(buf: Uint8Array): void;
+  sodium_memzero(buf: ArrayBufferView): void;
   sodium_memcmp(a: Uint8Array, b: Uint8Array): boolean;
 }
 
 export const sodium = createRequire(import.meta.url)('sodium-native') as Sodium;
 
 /** Overwrites secret material we no longer need (libsodium's sodium_memzero is not optimised away). */
-export function wipe(...buffers: Array<Uint8Array | null | undefined>): void {
+export function wipe(...buffers: Array<ArrayBufferView | null | undefined>): void {
   for (const b of buffers) if (b && b.byteLength > 0) sodium.sodium_memzero(b);
 }
 

@@ -1,0 +1,61 @@
+import type { Db } from '../db/knex.ts';
+import { toBuffer } from '../db/knex.ts';
+import { acceptsBallotsAt, findElection, lockElection, type Election, type ElectionState } from './electionRepo.ts';
+import { ElectionNotFound, ElectionNotOpen, TallyKeyMissing, type NotOpenReason } from './errors.ts';
+
+/**
+ * The organiser's own election, optionally locked for the transaction. Someone else's
+ * election answers exactly like a missing one, so ids cannot be probed.
+ */
+export async function ownedElection(
+  db: Db,
+  electionId: string,
+  organiserId: string | null,
+  options: { lock: boolean },
+): Promise<Election> {
+  const e = options.lock ? await lockElection(db, electionId) : await findElection(db, electionId);
+  if (!e || (organiserId !== null && e.ownerId !== organiserId)) throw new ElectionNotFound();
+  return e;
+}
+
+export interface VotingElection {
+  id: string;
+  publicKey: Buffer;
+  optionCount: number;
+}
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/**
+ * The election a member is voting in, checked open at `now` (acceptsBallotsAt's rule).
+ * FOR SHARE: casts do not block each other, but a tally (FOR UPDATE on the same row)
+ * waits for casts in flight and casts wait for the tally, so no ballot lands mid-count.
+ */
+export async function votingElection(db: Db, electionId: string, now: Date): Promise<VotingElection> {
+  if (!UUID.test(electionId)) throw new ElectionNotFound();
+  const row = await db('elections')
+    .where({ id: electionId })
+    .forShare()
+    .first('id', 'state', 'opens_at', 'closes_at', 'public_key');
+  if (!row) throw new ElectionNotFound();
+  const state = row.state as ElectionState;
+  const opensAt = new Date(row.opens_at);
+  const closesAt = new Date(row.closes_at);
+  if (!acceptsBallotsAt({ state, opensAt, closesAt }, now)) throw new ElectionNotOpen(notOpenReason(state, opensAt, now));
+  if (row.public_key == null) throw new TallyKeyMissing();
+  return { id: electionId, publicKey: toBuffer(row.public_key), optionCount: await optionCount(db, electionId) };
+}
+
+function notOpenReason(state: ElectionState, opensAt: Date, now: Date): NotOpenReason {
+  if (state === 'draft') return 'draft';
+  if (state === 'open' && now < opensAt) return 'not-yet-open';
+  return 'closed';
+}
+
+/** d, the number of options; positions are 0..d-1, the bit index in every ballot. */
+export async function optionCount(db: Db, electionId: string): Promise<number> {
+  const row = await db('options').where({ election_id: electionId }).first(db.raw('count(*) as n'), db.raw('max(position) as top'));
+  const n = Number(row?.n ?? 0);
+  if (n > 0 && Number(row?.top) !== n - 1) throw new Error('option positions are not 0..d-1');
+  return n;
+}

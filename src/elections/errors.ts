@@ -1,0 +1,121 @@
+import { VeiltallyError } from '../errors.ts';
+
+/** Typed failures of election use-cases. Messages never carry codes, receipts, ballots or counts. */
+
+export class ElectionNotFound extends VeiltallyError {
+  readonly code = 'ElectionNotFound';
+  override readonly status = 404;
+  constructor() {
+    super('We could not find that election.');
+  }
+}
+
+export type NotOpenReason = 'not-yet-open' | 'closed' | 'draft';
+
+const NOT_OPEN: Record<NotOpenReason, string> = {
+  'not-yet-open': 'Voting in this election has not started yet.',
+  closed: 'Voting in this election has closed.',
+  draft: 'This election has not been opened for voting.',
+};
+
+export class ElectionNotOpen extends VeiltallyError {
+  readonly code = 'ElectionNotOpen';
+  override readonly status = 409;
+  constructor(readonly reason: NotOpenReason) {
+    super(NOT_OPEN[reason]);
+  }
+}
+
+/** The tally was asked for while voting is still going on. */
+export class ElectionStillOpen extends VeiltallyError {
+  readonly code = 'ElectionStillOpen';
+  override readonly status = 409;
+  constructor() {
+    super('Voting is still open. The tally can start once the election has closed.');
+  }
+}
+
+export class CodeUnknown extends VeiltallyError {
+  readonly code = 'CodeUnknown';
+  override readonly status = 404;
+  constructor() {
+    super('That ballot code is not valid for this election.');
+  }
+}
+
+export class CodeAlreadySpent extends VeiltallyError {
+  readonly code = 'CodeAlreadySpent';
+  override readonly status = 409;
+  constructor() {
+    super('That ballot code has already been used to vote.');
+  }
+}
+
+export class CodeRevoked extends VeiltallyError {
+  readonly code = 'CodeRevoked';
+  override readonly status = 410;
+  constructor() {
+    super('That ballot code was withdrawn by the organiser. Please ask them for a new one.');
+  }
+}
+
+/** Approvals that are not distinct option positions of this election. */
+export class InvalidBallot extends VeiltallyError {
+  readonly code = 'InvalidBallot';
+  override readonly status = 422;
+  constructor() {
+    super('That ballot does not match the options of this election.');
+  }
+}
+
+/** The draw happens once; a second tally would let an organiser re-roll the result. */
+export class AlreadyTallied extends VeiltallyError {
+  readonly code = 'AlreadyTallied';
+  override readonly status = 409;
+  constructor() {
+    super('This election has already been tallied. The draw is made once and cannot be repeated.');
+  }
+}
+
+export class NotTallied extends VeiltallyError {
+  readonly code = 'NotTallied';
+  override readonly status = 409;
+  constructor() {
+    super('This election has not been tallied yet, so there is no result to publish.');
+  }
+}
+
+export class AlreadyPublished extends VeiltallyError {
+  readonly code = 'AlreadyPublished';
+  override readonly status = 409;
+  constructor() {
+    super('This result has already been published.');
+  }
+}
+
+/** No tally key: the organiser has not set the tally passphrase yet. */
+export class TallyKeyMissing extends VeiltallyError {
+  readonly code = 'TallyKeyMissing';
+  override readonly status = 409;
+  constructor() {
+    super('This election has no tally passphrase yet, so it cannot take ballots.');
+  }
+}
+
+/** The key and ciphertexts were destroyed on purpose; nothing can be opened any more. */
+export class BallotsShredded extends VeiltallyError {
+  readonly code = 'BallotsShredded';
+  override readonly status = 410;
+  constructor() {
+    super('The sealed ballots of this election have been shredded and can never be opened again.');
+  }
+}
+
+/** An action that does not fit the election's current state (e.g. issuing codes after close). */
+export class ElectionStateConflict extends VeiltallyError {
+  readonly code = 'ElectionStateConflict';
+  override readonly status = 409;
+  constructor(message: string) {
+    super(message);
+  }
+}
