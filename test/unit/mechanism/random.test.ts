@@ -48,8 +48,11 @@ describe('uniformBelow (rejection sampling, no modulo)', () => {
     // Negative control for the test above: 256 % 3 = 1, so value 0 gets 86/256, others 85/256.
     // With 2 000 000 draws the bias is visible.
     const random = seededRandom(7);
-    const counts = [0, 0, 0];
-    for (let i = 0; i < 2_000_000; i += 1) counts[(random(1)[0] as number) % 3] += 1;
+    const counts: number[] = new Array(3).fill(0);
+    for (let i = 0; i < 2_000_000; i += 1) {
+      const biased = (random(1)[0] as number) % 3;
+      counts[biased] = (counts[biased] ?? 0) + 1;
+    }
     expect(chiSquarePValue(counts, [1 / 3, 1 / 3, 1 / 3]).pValue).toBeLessThan(0.001);
   });
 
