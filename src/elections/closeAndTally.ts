@@ -1,0 +1,107 @@
+import {
+  BallotUnreadable,
+  WrappedKeyInvalid,
+  parseWrappedKey,
+  publicKeyFromSeed,
+  publicKeyOf,
+  signStatement,
+  unwrapElectionKey,
+  wipe,
+} from '../custody/index.ts';
+import { buildStatement, canonicalStatementBytes, makeExponentialDraw, type PrivacyStatement } from '../mechanism/index.ts';
+import { recordEvent } from './audit.ts';
+import type { UseCaseContext } from './context.ts';
+import { ownedElection } from './electionAccess.ts';
+import { AlreadyTallied, BallotsShredded, ElectionNotOpen, ElectionStillOpen, TallyKeyMissing } from './errors.ts';
+import { countApprovals } from './tallyCounter.ts';
+
+/** What elections.result holds: the one draw, its statement and the instance signature over it. */
+export interface StoredResult {
+  winners: string[];
+  statement: PrivacyStatement;
+  /** Ed25519 over canonicalStatementBytes(statement), base64. */
+  signature: string;
+  signingPublicKey: string;
+}
+
+/**
+ * Closes (if the closing time has passed) and tallies, in one transaction holding the
+ * election row lock. The passphrase unwraps the key (WrongPassphrase otherwise); the sealed
+ * ballots are counted (BallotUnreadable stops everything, nothing is skipped); the winners
+ * are drawn ONCE with the exponential mechanism, at random and weighted toward the most
+ * approved options. The counts never leave this function: they go to the mechanism and
+ * are wiped. A second call raises AlreadyTallied, so no organiser can re-roll a draw.
+ */
+export async function closeAndTally(
+  ctx: UseCaseContext,
+  input: { electionId: string; organiserId: string; passphrase: string },
+): Promise<{ winners: string[]; statement: PrivacyStatement }> {
+  return ctx.knex.transaction(async (trx) => {
+    const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
+    const now = ctx.now();
+    if (e.state === 'tallied' || e.state === 'published') throw new AlreadyTallied();
+    if (e.state === 'draft') throw new ElectionNotOpen('draft');
+    if (e.state === 'open' && now < e.closesAt) throw new ElectionStillOpen();
+    if (e.shreddedAt) throw new BallotsShredded();
+    if (!e.publicKey || e.wrappedKey == null) throw new TallyKeyMissing();
+
+    // Every check that can fail on bad settings runs before the key is unwrapped.
+    const draw = makeExponentialDraw({
+      epsilon: e.epsilon,
+      options: e.options.length,
+      seats: e.seats,
+      neighbour: e.neighbour,
+    });
+    const secretKey = await unwrapElectionKey(parseWrappedKey(e.wrappedKey), input.passphrase, e.id);
+    let winners: number[] | null;
+    let ballots: number;
+    try {
+      if (!publicKeyOf(secretKey).equals(e.publicKey)) throw new WrappedKeyInvalid(); // key pair mismatch: never count
+      const tally = await countApprovals(trx, {
+        electionId: e.id,
+        publicKey: e.publicKey,
+        secretKey,
+        optionCount: e.options.length,
+        threads: 'auto',
+      });
+      ballots = tally.ballots;
+      try {
+        if (tally.unreadable > 0) throw new BallotUnreadable(tally.unreadable, tally.ballots);
+        winners = ballots === 0 ? null : draw.draw(Array.from(tally.counts), ctx.random);
+      } finally {
+        tally.counts.fill(0);
+      }
+    } finally {
+      wipe(secretKey);
+    }
+
+    const statement = buildStatement({
+      draw,
+      optionLabels: e.options.map((o) => o.label),
+      winners,
+      turnout: e.publishTurnout ? ballots : null,
+      electionTitle: e.title,
+    });
+    const labels = statement.winners;
+    const result: StoredResult = {
+      winners: labels,
+      statement,
+      signature: signStatement(canonicalStatementBytes(statement), ctx.secrets.signingSeed).toString('base64'),
+      signingPublicKey: publicKeyFromSeed(ctx.secrets.signingSeed).toString('base64'),
+    };
+    if (e.state === 'open') {
+      await trx('elections').where({ id: e.id }).update({ state: 'closed', closed_at: now, updated_at: now });
+      await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'closed' }, now);
+    }
+    await trx('elections').where({ id: e.id }).update({
+      state: 'tallied',
+      result: JSON.stringify(result),
+      ballots_counted: ballots,
+      tallied_at: now,
+      updated_at: now,
+    });
+    // Public timeline: no detail, since the ballot count is turnout and may be unpublished.
+    await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'tallied' }, now);
+    return { winners: labels, statement };
+  });
+}
