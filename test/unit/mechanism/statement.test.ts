@@ -1,0 +1,135 @@
+import { describe, expect, it } from 'vitest';
+import {
+  buildStatement,
+  canonicalJson,
+  canonicalStatementBytes,
+  describeStatement,
+  makeExponentialDraw,
+  type Neighbour,
+} from '../../../src/mechanism/index.ts';
+
+// A rowing club naming its new boat (invented scenario).
+const labels = ['Heron', 'Kingfisher', 'Otter', 'Swift'];
+const make = (epsilon: string, seats = 1, neighbour: Neighbour = 'replace-one') =>
+  makeExponentialDraw({ epsilon, options: 4, seats, neighbour });
+
+describe('buildStatement', () => {
+  it('records the mechanism, ε as entered, neighbour, sensitivity, seats and bounds', () => {
+    const draw = make('1.50');
+    const s = buildStatement({ draw, optionLabels: labels, winners: [1], turnout: null, electionTitle: ' New boat ' });
+    expect(s).toMatchObject({
+      statementVersion: 1,
+      electionTitle: 'New boat',
+      outcome: 'winners',
+      winners: ['Kingfisher'],
+      optionLabels: labels,
+      mechanism: 'exponential-mechanism',
+      epsilon: '1.50',
+      neighbour: 'replace-one',
+      sensitivity: 1,
+      seats: 1,
+      composition: 'single-draw',
+      perRoundEpsilon: '1.5',
+      perRoundScale: '0.75',
+      turnout: null,
+      released: ['winners', 'option-labels', 'epsilon', 'bounds'],
+      notReleased: ['approval-counts', 'ballots', 'turnout'],
+    });
+    expect(s.bounds).toEqual(draw.bounds(0.05));
+    // e^1.5 = 4.4817 → 4.49: a factor is rounded up, never understated (decimal arithmetic).
+    expect(s.protects).toEqual({
+      howVoted: { epsilon: '1.50', factorAtMost: 4.49 },
+      whetherVoted: { epsilon: '1.50', factorAtMost: 4.49 },
+    });
+  });
+
+  it('add-remove: ε for whether a member voted, 2ε for how they voted', () => {
+    const s = buildStatement({ draw: make('1', 1, 'add-remove'), optionLabels: labels, winners: [0], turnout: null });
+    // e^1 = 2.71828 → 2.72, e^2 = 7.38906 → 7.39.
+    expect(s.protects).toEqual({
+      whetherVoted: { epsilon: '1', factorAtMost: 2.72 },
+      howVoted: { epsilon: '2', factorAtMost: 7.39 },
+    });
+    const text = describeStatement(s).paragraphs.join(' ');
+    expect(text).toContain('Whether any one member voted changed the chance of this announcement by at most a factor of e^ε ≈ 2.72');
+    expect(text).toContain('e^(2ε) ≈ 7.39');
+    expect(text).toContain('one ballot removed and another added');
+  });
+
+  it('publishing turnout makes it exact and unprotected, and drops the "whether" guarantee', () => {
+    const s = buildStatement({ draw: make('1'), optionLabels: labels, winners: [2], turnout: 23 });
+    expect(s.turnout).toBe(23);
+    expect(s.protects.whetherVoted).toBeNull();
+    expect(s.released).toContain('turnout');
+    expect(s.notReleased).not.toContain('turnout');
+    const text = describeStatement(s).paragraphs.join(' ');
+    expect(text).toContain('turnout is published as an exact count and is not protected');
+    expect(text).toContain('23 ballots, exact');
+  });
+
+  it('multi-seat statements name the composition and per-round ε', () => {
+    const s = buildStatement({ draw: make('1', 3), optionLabels: labels, winners: [3, 0, 1], turnout: null });
+    expect(s).toMatchObject({ seats: 3, composition: 'basic', perRoundEpsilon: '1/3', winners: ['Swift', 'Heron', 'Kingfisher'] });
+    const text = describeStatement(s);
+    expect(text.headline).toBe('The 3 seats were drawn, in this order: Swift, Heron, Kingfisher.');
+    expect(text.paragraphs.join(' ')).toContain('ε/3 = 1/3');
+    expect(text.paragraphs.join(' ')).toContain('basic composition');
+    expect(text.boundsSentence).toMatch(/^For each seat, with probability at least 95%/);
+  });
+
+  it('zero ballots: "no ballots cast; no winner drawn"', () => {
+    const s = buildStatement({ draw: make('1'), optionLabels: labels, winners: null, turnout: 0 });
+    expect(s.outcome).toBe('no-ballots');
+    expect(s.winners).toEqual([]);
+    const text = describeStatement(s);
+    expect(text.headline).toBe('No ballots cast; no winner drawn.');
+    expect(describeStatement(buildStatement({ draw: make('1'), optionLabels: labels, winners: null, turnout: null })).headline).toBe(
+      'No ballots cast; no winner drawn.',
+    );
+  });
+});
+
+describe('describeStatement', () => {
+  const s = buildStatement({ draw: make('1'), optionLabels: labels, winners: [0], turnout: null, electionTitle: 'New boat' });
+  const text = describeStatement(s);
+
+  it('gives the plain-language privacy sentence with e^ε ≈ 2.72 for ε = 1', () => {
+    expect(text.headline).toBe('New boat: Heron was drawn as the winner.');
+    expect(text.paragraphs.join(' ')).toContain(
+      'Whatever any one member ticked, the chance of this announcement changed by at most a factor of e^ε ≈ 2.72.',
+    );
+    expect(text.paragraphs.join(' ')).toContain('Never published: how many approvals any option received, any ballot or the turnout.');
+  });
+
+  it('states the bounds in words, with the figures from the statement', () => {
+    expect(text.boundsSentence).toContain('at least 95%');
+    expect(text.boundsSentence).toContain(`minus ${s.bounds.withinApprovals}`);
+    expect(text.boundsSentence).toContain(`at least ${s.bounds.marginFor['0.95']} approvals`);
+  });
+
+  it('carries the caution: random, weighted, adopted before voting, bylaws and law, not for public elections', () => {
+    expect(text.caution).toContain('drawn at random, weighted toward the most approved options');
+    expect(text.caution).toContain('close to a lottery');
+    expect(text.caution).toContain('must adopt before voting');
+    expect(text.caution).toContain('bylaws and local election law');
+    expect(text.caution).toContain('not for public or government elections');
+  });
+});
+
+describe('canonicalStatementBytes', () => {
+  it('sorts keys at every depth and drops whitespace (after RFC 8785)', () => {
+    expect(canonicalJson({ b: 1, a: [true, null, 'x', { d: 2, c: 1.5 }] })).toBe('{"a":[true,null,"x",{"c":1.5,"d":2}],"b":1}');
+  });
+
+  it('is deterministic and round-trips to the same statement', () => {
+    const s = buildStatement({ draw: make('0.8'), optionLabels: labels, winners: [2], turnout: 12 });
+    const shuffled = Object.fromEntries(Object.entries(s).reverse()) as typeof s;
+    const bytes = canonicalStatementBytes(s);
+    expect(Buffer.from(canonicalStatementBytes(shuffled)).equals(Buffer.from(bytes))).toBe(true);
+    expect(JSON.parse(new TextDecoder().decode(bytes))).toEqual(s);
+  });
+
+  it.each([[Number.NaN], [Infinity], [1n], [() => 1]])('refuses a value JSON cannot hold exactly (%s)', (value) => {
+    expect(() => canonicalJson({ value })).toThrow(TypeError);
+  });
+});
