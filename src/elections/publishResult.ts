@@ -1,0 +1,27 @@
+import { recordEvent } from './audit.ts';
+import type { UseCaseContext } from './context.ts';
+import { ownedElection } from './electionAccess.ts';
+import { AlreadyPublished, NotTallied } from './errors.ts';
+import { shredInTransaction } from './shred.ts';
+
+const DAY_MS = 24 * 60 * 60 * 1000;
+
+/**
+ * Publishes the drawn result (state tallied → published). Retention: with no
+ * retention_days the key and ciphertexts are shredded in this same transaction;
+ * otherwise they stay sealed until shred_after = now + N days (shredDue).
+ */
+export async function publishResult(ctx: UseCaseContext, input: { electionId: string; organiserId: string }): Promise<void> {
+  await ctx.knex.transaction(async (trx) => {
+    const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
+    if (e.state === 'published') throw new AlreadyPublished();
+    if (e.state !== 'tallied') throw new NotTallied();
+    const now = ctx.now();
+    const shredAfter = e.retentionDays === null ? null : new Date(now.getTime() + e.retentionDays * DAY_MS);
+    await trx('elections')
+      .where({ id: e.id })
+      .update({ state: 'published', published_at: now, shred_after: shredAfter, updated_at: now });
+    await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'published' }, now);
+    if (shredAfter === null && !e.shreddedAt) await shredInTransaction(trx, e.id, input.organiserId, now);
+  });
+}

@@ -1,0 +1,60 @@
+import type { Db } from '../db/knex.ts';
+import { recordEvent } from './audit.ts';
+import { deleteBallots } from './ballotRepo.ts';
+import type { UseCaseContext } from './context.ts';
+import { ownedElection } from './electionAccess.ts';
+import { ElectionStateConflict } from './errors.ts';
+
+/**
+ * Shredding (DESIGN §5): deletes the wrapped election key and every ciphertext, in the
+ * caller's transaction, and records when. Afterwards no ballot can ever be opened: the
+ * secret key existed only wrapped, and the wrapped copy is gone. Receipts, code hashes,
+ * the public key and the signed result stay. Deleted rows can linger in PostgreSQL pages
+ * and backups until vacuumed or rotated; the threat model says so.
+ */
+export async function shredInTransaction(
+  trx: Db,
+  electionId: string,
+  organiserId: string | null,
+  now: Date,
+): Promise<void> {
+  await deleteBallots(trx, electionId);
+  await trx('elections').where({ id: electionId }).update({ wrapped_key: null, shredded_at: now, updated_at: now });
+  await recordEvent(trx, { electionId, organiserId, action: 'shredded' }, now);
+}
+
+/**
+ * Shreds one election now: the organiser choosing to (organiserId) or the retention job
+ * (null). Only after the draw, so a tally can never be lost. Already shredded: no change.
+ */
+export async function shredElection(
+  ctx: UseCaseContext,
+  input: { electionId: string; organiserId: string | null },
+): Promise<void> {
+  await ctx.knex.transaction(async (trx) => {
+    const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
+    if (e.shreddedAt) return;
+    if (e.state !== 'tallied' && e.state !== 'published') {
+      throw new ElectionStateConflict('Sealed ballots can only be shredded after the tally.');
+    }
+    await shredInTransaction(trx, e.id, input.organiserId, ctx.now());
+  });
+}
+
+/** The retention job: shreds every published election whose keep-sealed period has ended. Returns how many. */
+export async function shredDue(ctx: UseCaseContext): Promise<number> {
+  return ctx.knex.transaction(async (trx) => {
+    const now = ctx.now();
+    // SKIP LOCKED: two app servers running the job at once share the work instead of waiting.
+    const due: Array<{ id: string }> = await trx('elections')
+      .where('state', 'published')
+      .whereNull('shredded_at')
+      .whereNotNull('shred_after')
+      .andWhere('shred_after', '<=', now)
+      .forUpdate()
+      .skipLocked()
+      .select('id');
+    for (const { id } of due) await shredInTransaction(trx, id, null, now);
+    return due.length;
+  });
+}
