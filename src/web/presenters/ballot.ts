@@ -1,0 +1,104 @@
+import { z } from 'zod';
+import type { Election } from '../../elections/electionRepo.ts';
+import { InvalidBallot } from '../../elections/errors.ts';
+import { shownTime, type ShownTime } from './publicTime.ts';
+
+/** Where a member is in the three steps; error pages word themselves by it. */
+export type VoteStep = 'code' | 'ballot' | 'confirm' | 'cast';
+export type VotingWindow = 'not-yet-open' | 'open' | 'closed';
+
+export interface BallotOptionView {
+  position: number;
+  label: string;
+  description: string;
+}
+
+export interface VotingElectionView {
+  id: string;
+  title: string;
+  description: string;
+  seats: number;
+  epsilon: string;
+  options: BallotOptionView[];
+  opensAt: ShownTime;
+  closesAt: ShownTime;
+  window: VotingWindow;
+  voteUrl: string;
+  resultsUrl: string;
+  /** Short sentences shown before voting: how the result will be drawn. */
+  howDrawn: string[];
+  caution: string;
+}
+
+/** Drafts are handled before this: members never see them (they answer 404). */
+export function votingWindow(e: Pick<Election, 'state' | 'opensAt' | 'closesAt'>, now: Date): VotingWindow {
+  if (e.state !== 'open' && e.state !== 'draft') return 'closed';
+  if (now < e.opensAt) return 'not-yet-open';
+  return now < e.closesAt ? 'open' : 'closed';
+}
+
+function howDrawn(e: Election): string[] {
+  const who = e.seats === 1 ? 'one winner is drawn' : `${e.seats} winners are drawn, one seat at a time,`;
+  return [
+    `When voting closes, ${who} at random, weighted toward the most approved options: an option that more members approve is more likely to be drawn, but not certain to be.`,
+    `The privacy level is ε = ${e.epsilon}. A smaller ε protects each ballot more strongly and makes the draw more random; a larger ε makes it follow the approvals more closely.`,
+    'Nobody, including the organiser, is ever shown how many approvals any option received.',
+  ];
+}
+
+// The rule every caution carries (see the project's wording rules); not statement text, which comes from the mechanism.
+export const DRAW_CAUTION =
+  'The winner is drawn at random, weighted toward the most approved options, so it is not always the option with the most approvals. ' +
+  'With few voters or a small ε the draw is close to a lottery. ' +
+  'Your organisation adopted this way of choosing before the vote, in line with its bylaws and local election law.';
+
+export function votingElectionView(e: Election, now: Date): VotingElectionView {
+  return {
+    id: e.id,
+    title: e.title,
+    description: e.description,
+    seats: e.seats,
+    epsilon: e.epsilon,
+    options: e.options.map((o) => ({ position: o.position, label: o.label, description: o.description })),
+    opensAt: shownTime(e.opensAt, e.timeZone),
+    closesAt: shownTime(e.closesAt, e.timeZone),
+    window: votingWindow(e, now),
+    voteUrl: `/vote/${e.id}`,
+    resultsUrl: `/results/${e.id}`,
+    howDrawn: howDrawn(e),
+    caution: DRAW_CAUTION,
+  };
+}
+
+/** Repeated form fields arrive as a string, an array of strings, or nothing (urlencoded, extended:false). */
+const approveField = z.union([z.string(), z.array(z.string())]).optional();
+const POSITION = /^(0|[1-9][0-9]{0,4})$/;
+
+/**
+ * The ticked positions, ascending and distinct. Anything that is not one of this
+ * election's positions is InvalidBallot: an honest form can never send it.
+ */
+export function parseApprovals(raw: unknown, optionCount: number): number[] {
+  const parsed = approveField.safeParse(raw);
+  if (!parsed.success) throw new InvalidBallot();
+  const values = parsed.data === undefined ? [] : Array.isArray(parsed.data) ? parsed.data : [parsed.data];
+  const positions = values.map((v) => {
+    if (!POSITION.test(v)) throw new InvalidBallot();
+    const n = Number(v);
+    if (n >= optionCount) throw new InvalidBallot();
+    return n;
+  });
+  if (new Set(positions).size !== positions.length) throw new InvalidBallot();
+  return positions.sort((a, b) => a - b);
+}
+
+/** The options a member ticked, in ballot order, for the confirmation step. */
+export function tickedOptions(view: VotingElectionView, approvals: readonly number[]): BallotOptionView[] {
+  const ticked = new Set(approvals);
+  return view.options.filter((o) => ticked.has(o.position));
+}
+
+/** Receipts are 10 symbols; shown in two groups of five for reading aloud or copying (hyphens are ignored on input). */
+export function formatReceipt(receipt: string): string {
+  return receipt.length === 10 ? `${receipt.slice(0, 5)}-${receipt.slice(5)}` : receipt;
+}

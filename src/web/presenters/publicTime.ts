@@ -1,0 +1,25 @@
+/**
+ * Dates as members read them: in the election's own time zone (an IANA name), with the
+ * zone named, so "closes at 18:00" means the same to everyone (common practice).
+ */
+export interface ShownTime {
+  /** For <time datetime="...">: ISO 8601 in UTC. */
+  iso: string;
+  /** For people: e.g. "Saturday 6 June 2026 at 18:00 (Europe/London)". */
+  text: string;
+}
+
+function formatter(timeZone: string): Intl.DateTimeFormat {
+  try {
+    return new Intl.DateTimeFormat('en-GB', { dateStyle: 'full', timeStyle: 'short', timeZone });
+  } catch {
+    // A zone the runtime does not know is shown in UTC rather than failing the page.
+    return new Intl.DateTimeFormat('en-GB', { dateStyle: 'full', timeStyle: 'short', timeZone: 'UTC' });
+  }
+}
+
+export function shownTime(at: Date, timeZone: string): ShownTime {
+  const f = formatter(timeZone);
+  const zone = f.resolvedOptions().timeZone;
+  return { iso: at.toISOString(), text: `${f.format(at)} (${zone})` };
+}

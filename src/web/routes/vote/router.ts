@@ -1,0 +1,122 @@
+import { Router, type Response } from 'express';
+import { limiter } from '../../app.ts';
+import type { AppDeps } from '../../deps.ts';
+import { TooManyAttempts } from '../../errors.ts';
+import { noStore } from '../../middleware/security.ts';
+import { castBallot } from '../../../elections/castBallot.ts';
+import { checkCode } from '../../../elections/checkCode.ts';
+import { findElection, type Election } from '../../../elections/electionRepo.ts';
+import { ElectionNotFound, ElectionNotOpen } from '../../../elections/errors.ts';
+import {
+  formatReceipt,
+  parseApprovals,
+  tickedOptions,
+  votingElectionView,
+  type VoteStep,
+  type VotingElectionView,
+} from '../../presenters/ballot.ts';
+import { ballotForm, idParam } from './schema.ts';
+
+/** What the member-facing error pages (views/errors/Code*.ejs, ElectionNotOpen.ejs) may use. */
+export interface MemberContext {
+  election: VotingElectionView;
+  step: VoteStep;
+  /** The code as typed, so a fixable mistake re-renders with it kept. Never logged, never in a URL. */
+  code: string;
+  approvals: number[];
+}
+
+/**
+ * The member's three steps: code → ballot → confirm → cast. The code travels only in POST
+ * bodies (hidden fields), never in a URL or the session; the receipt page is not stored.
+ * Errors go to the one error handler, which finds this context in res.locals.
+ */
+export function voteRouter(deps: AppDeps): Router {
+  const router = Router();
+  const { ctx } = deps;
+  // Codes carry 128 bits, so this bounds load rather than guessing; a whole meeting may share one address.
+  const codeAttempts = limiter(300, 10 * 60_000, () => new TooManyAttempts('ballot code attempts'));
+
+  router.use('/vote', noStore);
+
+  /** Drafts are not shown to members: they answer exactly like an unknown election. */
+  async function memberElection(rawId: unknown): Promise<Election> {
+    const param = idParam.safeParse({ id: rawId });
+    if (!param.success) throw new ElectionNotFound();
+    const e = await findElection(ctx.knex, param.data.id);
+    if (!e || e.state === 'draft') throw new ElectionNotFound();
+    return e;
+  }
+
+  function remember(res: Response, e: Election, step: VoteStep, code = '', approvals: number[] = []): VotingElectionView {
+    const election = votingElectionView(e, ctx.now());
+    const member: MemberContext = { election, step, code, approvals };
+    res.locals.member = member;
+    return election;
+  }
+
+  /** A use-case's ElectionNotOpen knows best whether voting has not started or has ended. */
+  function noteWindow(res: Response) {
+    return (err: unknown): never => {
+      const member = res.locals.member as MemberContext | undefined;
+      if (err instanceof ElectionNotOpen && member && err.reason !== 'draft') {
+        member.election.window = err.reason === 'not-yet-open' ? 'not-yet-open' : 'closed';
+      }
+      throw err;
+    };
+  }
+
+  router.get('/vote/:id', async (req, res) => {
+    const e = await memberElection(req.params.id);
+    const election = remember(res, e, 'code');
+    if (election.window !== 'open') throw new ElectionNotOpen(election.window === 'not-yet-open' ? 'not-yet-open' : 'closed');
+    res.render('vote/start', { title: election.title, election, code: '' });
+  });
+
+  router.post('/vote/:id/ballot', codeAttempts, async (req, res) => {
+    const e = await memberElection(req.params.id);
+    const form = ballotForm.parse(req.body ?? {});
+    // "Change my choices" comes back here with the ticks, so they are kept.
+    const election = remember(res, e, form.changing === 'yes' ? 'ballot' : 'code', form.code);
+    const approvals = parseApprovals(form.approve, e.options.length);
+    (res.locals.member as MemberContext).approvals = approvals;
+    await checkCode(ctx, { electionId: e.id, code: form.code }).catch(noteWindow(res));
+    res.render('vote/ballot', { title: `Your ballot: ${election.title}`, election, code: form.code, ticked: new Set(approvals) });
+  });
+
+  router.post('/vote/:id/confirm', async (req, res) => {
+    const e = await memberElection(req.params.id);
+    const form = ballotForm.parse(req.body ?? {});
+    const election = remember(res, e, 'confirm', form.code);
+    const approvals = parseApprovals(form.approve, e.options.length);
+    (res.locals.member as MemberContext).approvals = approvals;
+    await checkCode(ctx, { electionId: e.id, code: form.code }).catch(noteWindow(res));
+    res.render('vote/confirm', {
+      title: `Check your ballot: ${election.title}`,
+      election,
+      code: form.code,
+      approvals,
+      ticked: tickedOptions(election, approvals),
+    });
+  });
+
+  router.post('/vote/:id/cast', async (req, res) => {
+    const e = await memberElection(req.params.id);
+    const form = ballotForm.parse(req.body ?? {});
+    const election = remember(res, e, 'cast', form.code);
+    const approvals = parseApprovals(form.approve, e.options.length);
+    (res.locals.member as MemberContext).approvals = approvals;
+    const { receipt } = await castBallot(ctx, { electionId: e.id, code: form.code, approvals }).catch(noteWindow(res));
+    // The code is done with: the receipt page must not carry it anywhere.
+    (res.locals.member as MemberContext).code = '';
+    res.render('vote/receipt', { title: `Ballot received: ${election.title}`, election, receipt: formatReceipt(receipt) });
+  });
+
+  // A plain GET of a step (a bookmark, or a refresh after the session ended) goes back to the start.
+  router.get(['/vote/:id/ballot', '/vote/:id/confirm', '/vote/:id/cast'], async (req, res) => {
+    const e = await memberElection(req.params.id);
+    res.redirect(303, `/vote/${e.id}`);
+  });
+
+  return router;
+}

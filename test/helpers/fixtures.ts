@@ -1,0 +1,149 @@
+import { openBallot, openingKey, parseWrappedKey, randomUuid, unwrapElectionKey, wipe } from '../../src/custody/index.ts';
+import { toBuffer } from '../../src/db/knex.ts';
+import { findElection } from '../../src/elections/electionRepo.ts';
+import { recordEvent } from '../../src/elections/audit.ts';
+import { castBallot } from '../../src/elections/castBallot.ts';
+import { closeAndTally } from '../../src/elections/closeAndTally.ts';
+import type { UseCaseContext } from '../../src/elections/context.ts';
+import { issueCodes } from '../../src/elections/issueCodes.ts';
+import { publishResult } from '../../src/elections/publishResult.ts';
+import { setTallyPassphrase } from '../../src/elections/setTallyPassphrase.ts';
+
+/**
+ * Elections for web tests. Tally key, codes, casting, tally and publication go through the
+ * use-cases. Until the organiser's createElection/openElection use-cases land, the draft row
+ * and the opening are written here the way those use-cases write them (same columns, same
+ * public audit events), so the pages under test read exactly what production stores.
+ */
+export const FIXTURE_PASSPHRASE = 'rowing club boat naming';
+
+export interface FixtureOptions {
+  title?: string;
+  description?: string;
+  options?: { label: string; description?: string }[];
+  seats?: number;
+  epsilon?: string;
+  neighbour?: 'replace-one' | 'add-remove';
+  opensAt?: Date;
+  closesAt?: Date;
+  timeZone?: string;
+  publishTurnout?: boolean;
+  codes?: number;
+}
+
+export interface ElectionFixture {
+  id: string;
+  organiserId: string;
+  codes: string[];
+  options: { label: string; description: string }[];
+}
+
+const DEFAULT_OPTIONS = [
+  { label: 'Heron', description: 'A grey wading bird, patient on the riverbank.' },
+  { label: 'Kingfisher', description: 'Small, quick and bright blue.' },
+  { label: 'Otter', description: '' },
+  { label: 'Swift', description: 'Never lands, or so the story goes.' },
+];
+
+export async function createOrganiser(ctx: UseCaseContext, email = 'organiser@rowing.example'): Promise<string> {
+  const id = randomUuid(ctx.random);
+  // Not a usable password hash: these tests never sign in.
+  await ctx.knex('organisers').insert({ id, email, password_hash: '$fixture$', created_by: null, created_at: ctx.now() });
+  return id;
+}
+
+/** A draft with its tally key set and codes issued; not yet open. */
+export async function createDraft(ctx: UseCaseContext, organiserId: string, o: FixtureOptions = {}): Promise<ElectionFixture> {
+  const id = randomUuid(ctx.random);
+  const now = ctx.now();
+  const options = (o.options ?? DEFAULT_OPTIONS).map((x) => ({ label: x.label, description: x.description ?? '' }));
+  await ctx.knex.transaction(async (trx) => {
+    await trx('elections').insert({
+      id,
+      owner_id: organiserId,
+      title: o.title ?? 'Name the new coxed four',
+      description: o.description ?? 'The club has a new boat.\nTick every name you would be happy to row under.',
+      state: 'draft',
+      seats: o.seats ?? 1,
+      epsilon: o.epsilon ?? '1',
+      neighbour: o.neighbour ?? 'replace-one',
+      opens_at: o.opensAt ?? now,
+      closes_at: o.closesAt ?? new Date(now.getTime() + 7 * 24 * 3600_000),
+      time_zone: o.timeZone ?? 'Europe/London',
+      publish_turnout: o.publishTurnout ?? false,
+      retention_days: null,
+      expected_voters: 20,
+      created_at: now,
+      updated_at: now,
+    });
+    await trx('options').insert(options.map((x, position) => ({ election_id: id, position, ...x })));
+    await recordEvent(trx, { electionId: id, organiserId, action: 'created' }, now);
+  });
+  await setTallyPassphrase(ctx, { electionId: id, organiserId, passphrase: FIXTURE_PASSPHRASE });
+  const { codes } = await issueCodes(ctx, { electionId: id, organiserId, count: o.codes ?? 6 });
+  return { id, organiserId, codes, options };
+}
+
+/** Opens a draft for voting (state 'open'; ballots are accepted between opensAt and closesAt). */
+export async function openFixture(ctx: UseCaseContext, f: ElectionFixture): Promise<void> {
+  const now = ctx.now();
+  await ctx.knex.transaction(async (trx) => {
+    await trx('elections').where({ id: f.id, state: 'draft' }).update({ state: 'open', opened_at: now, updated_at: now });
+    await recordEvent(trx, { electionId: f.id, organiserId: f.organiserId, action: 'opened' }, now);
+  });
+}
+
+export async function openElectionFixture(ctx: UseCaseContext, organiserId: string, o: FixtureOptions = {}): Promise<ElectionFixture> {
+  const f = await createDraft(ctx, organiserId, o);
+  await openFixture(ctx, f);
+  return f;
+}
+
+/** Casts ballots given as lists of option positions, one code each, through castBallot. */
+export async function castAll(ctx: UseCaseContext, f: ElectionFixture, ballots: number[][], firstCode = 0): Promise<string[]> {
+  const receipts: string[] = [];
+  for (let i = 0; i < ballots.length; i++) {
+    const code = f.codes[firstCode + i];
+    if (!code) throw new Error('not enough codes issued for these ballots');
+    receipts.push((await castBallot(ctx, { electionId: f.id, code, approvals: ballots[i]! })).receipt);
+  }
+  return receipts;
+}
+
+/** Tallies (the clock must be past closesAt) and optionally publishes, through the use-cases. */
+export async function tallyFixture(ctx: UseCaseContext, f: ElectionFixture, publish: boolean): Promise<string[]> {
+  const { winners } = await closeAndTally(ctx, { electionId: f.id, organiserId: f.organiserId, passphrase: FIXTURE_PASSPHRASE });
+  if (publish) await publishResult(ctx, { electionId: f.id, organiserId: f.organiserId });
+  return winners;
+}
+
+/** Opens every stored ballot of an election with the tally passphrase: lets a test see what the pages cast. */
+export async function openStoredBallots(ctx: UseCaseContext, electionId: string): Promise<number[][]> {
+  const e = await findElection(ctx.knex, electionId);
+  if (!e?.publicKey || e.wrappedKey == null) throw new Error('election has no tally key');
+  const sk = await unwrapElectionKey(parseWrappedKey(e.wrappedKey), FIXTURE_PASSPHRASE, e.id);
+  try {
+    const k = openingKey(e.publicKey, sk, e.id, e.options.length);
+    const rows = await ctx.knex('ballots').where({ election_id: e.id }).select('sealed');
+    return rows.map((r) => openBallot(k, toBuffer(r.sealed))).sort((a, b) => a.join().localeCompare(b.join()));
+  } finally {
+    wipe(sk);
+  }
+}
+
+/** The CSRF token a page's form carries (the synchroniser token in the hidden _csrf field). */
+export function csrfFrom(html: string): string {
+  const m = /name="_csrf" value="([^"]+)"/.exec(html);
+  if (!m) throw new Error('page has no CSRF field');
+  return m[1]!;
+}
+
+/** An urlencoded body the way a browser sends it: a repeated name for each ticked box. */
+export function formBody(fields: Record<string, string | readonly string[] | undefined>): string {
+  const p = new URLSearchParams();
+  for (const [name, value] of Object.entries(fields)) {
+    if (value === undefined) continue;
+    for (const v of typeof value === 'string' ? [value] : value) p.append(name, v);
+  }
+  return p.toString();
+}
