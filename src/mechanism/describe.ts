@@ -1,4 +1,4 @@
-import { decimalWithPrecision } from './decimal.ts';
+import { describeBounds } from './describeBounds.ts';
 import type { PrivacyStatement } from './statement.ts';
 
 export interface StatementText {
@@ -7,8 +7,6 @@ export interface StatementText {
   boundsSentence: string;
   caution: string;
 }
-
-const Decimal = decimalWithPrecision(40);
 
 function listWords(items: string[], joiner: 'and' | 'or'): string {
   if (items.length <= 1) return items.join('');
@@ -63,16 +61,11 @@ function releasedParagraph(s: PrivacyStatement): string {
 
 function boundsSentenceOf(s: PrivacyStatement): string {
   if (s.outcome === 'no-ballots') return 'No draw took place, so no accuracy guarantee applies.';
-  const b = s.bounds;
-  const percent = new Decimal(1).minus(b.beta).times(100).toString();
-  const m95 = b.marginFor['0.95'];
-  if (s.seats === 1) {
-    return `With probability at least ${percent}%, the winner had at least as many approvals as the most approved option, minus ${b.withinApprovals}. If the most approved option led every other option by at least ${m95} approvals, it was announced with probability at least 95%.`;
-  }
-  return `For each seat, with probability at least ${percent}%, the option drawn had at least as many approvals as the most approved option still in play, minus ${b.withinApprovals}. If that option led every other option still in play by at least ${m95} approvals, it took the seat with probability at least 95%.`;
+  return describeBounds(s.bounds, s.seats, 'past');
 }
 
-const CAUTION =
+/** The caution every result and planning screen carries (see RULES: cautions). */
+export const RANDOM_WINNER_CAUTION =
   'The winner is drawn at random, weighted toward the most approved options; it is not always the option with the most approvals. ' +
   'With few voters or a small ε, the result is close to a lottery. ' +
   'A randomly drawn winner is a rule your organisation must adopt before voting, in line with its bylaws and local election law. ' +
@@ -87,11 +80,11 @@ export function describeStatement(s: PrivacyStatement): StatementText {
         'No ballots were cast, so nothing was counted and no winner was drawn. Nothing about any member can be learned from this result.',
       ],
       boundsSentence: boundsSentenceOf(s),
-      caution: CAUTION,
+      caution: RANDOM_WINNER_CAUTION,
     };
   }
   const paragraphs = [howDrawn(s), privacyParagraph(s)];
   if (s.seats > 1) paragraphs.push(compositionParagraph(s));
   paragraphs.push(releasedParagraph(s));
-  return { headline: headlineOf(s), paragraphs, boundsSentence: boundsSentenceOf(s), caution: CAUTION };
+  return { headline: headlineOf(s), paragraphs, boundsSentence: boundsSentenceOf(s), caution: RANDOM_WINNER_CAUTION };
 }

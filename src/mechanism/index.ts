@@ -32,5 +32,6 @@ export {
   type NotReleased,
   buildStatement,
 } from './statement.ts';
-export { type StatementText, describeStatement } from './describe.ts';
+export { type StatementText, describeStatement, RANDOM_WINNER_CAUTION } from './describe.ts';
+export { describeBounds } from './describeBounds.ts';
 export { canonicalJson, canonicalStatementBytes } from './canonical.ts';

@@ -1,0 +1,64 @@
+import { z } from 'zod';
+import { buildStatement, cryptoRandom, parseEpsilon } from '../../mechanism/index.ts';
+import { readBallotFile } from '../ballotFiles.ts';
+import { checkFlags, parseFlags } from '../args.ts';
+import type { Command } from '../io.ts';
+import { drawFromFlags, mechanismFlagSchema, mechanismFlagSpec } from '../mechanismFlags.ts';
+import { renderStatement } from '../statementText.ts';
+import { formatTable, jsonOut } from '../table.ts';
+
+const spec = { ...mechanismFlagSpec, ballots: 'value', title: 'value', 'publish-turnout': 'flag' } as const;
+const schema = z.object({
+  ...mechanismFlagSchema,
+  ballots: z.string({ error: '--ballots FILE is required (a .csv or .cat file)' }),
+  title: z.string().max(200, { error: '--title must be at most 200 characters' }).optional(),
+  'publish-turnout': z.literal(true).optional(),
+});
+
+const usage = `Usage: veiltally draw --ballots FILE --epsilon E [--seats K] [--neighbour replace|add-remove]
+                      [--title TEXT] [--publish-turnout] [--json]
+
+Draws the winners of an approval vote collected on paper or elsewhere, with the
+exact exponential mechanism, and prints them with the privacy statement. It
+never prints approval counts.
+
+  --ballots FILE      CSV (header row of option labels; one ballot per row; 1, yes or x
+                      approves, 0 or empty does not) or PrefLib categorical (.cat)
+  --epsilon E         privacy setting, a decimal from 0.01 to 10 (at most 4 decimals)
+  --seats K           number of seats, 1 to options − 1 (default 1)
+  --neighbour N       replace (default: protects whether and how someone voted) or
+                      add-remove (expert: ε for whether, 2ε for how)
+  --title TEXT        election title shown in the statement
+  --publish-turnout   include the exact number of ballots (then it is not protected)
+  --json              print {"winners": [...], "statement": {...}}
+
+The winner is drawn at random, weighted toward the most approved options.`;
+
+export const drawCommand: Command = {
+  name: 'draw',
+  summary: 'draw winners from a ballot file (CSV or PrefLib .cat) and print the privacy statement',
+  usage,
+  async run(args, io) {
+    const flags = checkFlags(schema, parseFlags('draw', args, spec));
+    parseEpsilon(flags.epsilon); // a bad ε fails before any ballot is read
+    const tally = await readBallotFile(flags.ballots);
+    const draw = drawFromFlags(flags, tally.labels.length);
+    const winners = tally.ballots === 0 ? null : draw.draw(tally.scores, cryptoRandom);
+    const statement = buildStatement({
+      draw,
+      optionLabels: tally.labels,
+      winners,
+      turnout: flags['publish-turnout'] ? tally.ballots : null,
+      ...(flags.title !== undefined ? { electionTitle: flags.title } : {}),
+    });
+    if (flags.json) {
+      io.stdout(jsonOut({ winners: statement.winners, statement }));
+      return 0;
+    }
+    if (winners !== null) {
+      io.stdout(formatTable(['Seat', 'Winner'], statement.winners.map((w, i) => [i + 1, w])) + '\n');
+    }
+    io.stdout(renderStatement(statement));
+    return 0;
+  },
+};

@@ -1,0 +1,66 @@
+import { z } from 'zod';
+import { cryptoRandom, parseEpsilon } from '../../mechanism/index.ts';
+import { checkFlags, parseFlags } from '../args.ts';
+import type { Command } from '../io.ts';
+import { drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, wholeNumber } from '../mechanismFlags.ts';
+import { formatTable, jsonOut, wrap } from '../table.ts';
+
+export const MAX_RUNS = 1_000_000;
+
+const spec = { ...mechanismFlagSpec, scores: 'value', runs: 'value' } as const;
+const schema = z.object({
+  ...mechanismFlagSchema,
+  scores: z
+    .string({ error: '--scores is required, e.g. --scores 40,35,20' })
+    .regex(/^[0-9]{1,15}(,[0-9]{1,15})*$/, { error: '--scores must be whole numbers separated by commas, e.g. 40,35,20' })
+    .transform((s) => s.split(',').map(Number)),
+  runs: wholeNumber('runs', 1, MAX_RUNS),
+});
+
+const usage = `Usage: veiltally simulate --scores 40,35,20 --epsilon E [--seats K] [--neighbour replace|add-remove]
+                         --runs N [--json]
+
+Planning aid: runs the real exact sampler N times (N ≤ ${MAX_RUNS.toLocaleString('en-GB')}) on hypothetical
+approval counts and compares how often each option won the first seat with the exact
+probability (shown for single-seat draws only).
+
+The winner is drawn at random, weighted toward the most approved options.`;
+
+export const simulateCommand: Command = {
+  name: 'simulate',
+  summary: 'run the sampler many times on hypothetical scores to see how often each option wins',
+  usage,
+  async run(args, io) {
+    const flags = checkFlags(schema, parseFlags('simulate', args, spec));
+    parseEpsilon(flags.epsilon);
+    const draw = drawFromFlags(flags, flags.scores.length);
+    const exact = draw.seats === 1 ? draw.exactProbabilities(flags.scores) : null;
+    const wins = new Array<number>(draw.options).fill(0);
+    for (let i = 0; i < flags.runs; i += 1) {
+      const first = draw.draw(flags.scores, cryptoRandom)[0] as number;
+      wins[first] = (wins[first] ?? 0) + 1;
+    }
+    const options = flags.scores.map((score, index) => ({
+      index,
+      score,
+      exactProbability: exact ? (exact[index] as number) : null,
+      observedFrequency: (wins[index] as number) / flags.runs,
+    }));
+    if (flags.json) {
+      io.stdout(jsonOut({ runs: flags.runs, options }));
+      return 0;
+    }
+    const seatNote = draw.seats === 1 ? '' : ` Frequencies are of winning the first of ${draw.seats} seats.`;
+    io.stdout(
+      wrap(`Simulated ${flags.runs} draws at ε = ${draw.epsilon.text} on hypothetical scores.${seatNote}`) +
+        '\n' +
+        formatTable(
+          ['Option', 'Score', 'Exact probability', 'Observed frequency'],
+          options.map((o) => [o.index, o.score, o.exactProbability === null ? '-' : o.exactProbability.toFixed(4), o.observedFrequency.toFixed(4)]),
+        ) +
+        '\n' +
+        wrap('The winner is drawn at random, weighted toward the most approved options; these scores are hypothetical.'),
+    );
+    return 0;
+  },
+};

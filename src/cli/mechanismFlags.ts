@@ -1,0 +1,38 @@
+import { z } from 'zod';
+import { InvalidInput } from '../errors.ts';
+import { EPSILON_RULE, MAX_OPTIONS, makeExponentialDraw, type ExponentialDraw, type Neighbour } from '../mechanism/index.ts';
+
+/** Flags shared by draw, simulate and bounds. */
+export const mechanismFlagSpec = { epsilon: 'value', seats: 'value', neighbour: 'value', json: 'flag' } as const;
+
+const wholeNumber = (flag: string, min: number, max: number) =>
+  z
+    .string({ error: `--${flag} needs a value` })
+    .regex(/^[0-9]+$/, { error: `--${flag} must be a whole number from ${min} to ${max}` })
+    .transform(Number)
+    .refine((n) => n >= min && n <= max, { error: `--${flag} must be a whole number from ${min} to ${max}` });
+
+export const mechanismFlagSchema = {
+  epsilon: z.string({ error: `--epsilon is required: ${EPSILON_RULE}` }),
+  seats: wholeNumber('seats', 1, MAX_OPTIONS - 1).optional(),
+  neighbour: z
+    .enum(['replace', 'replace-one', 'add-remove'], { error: '--neighbour must be "replace" or "add-remove"' })
+    .optional(),
+  json: z.literal(true).optional(),
+};
+
+export { wholeNumber };
+
+/** Builds the checked draw, with CLI wording for the one mistake users make most: too many seats. */
+export function drawFromFlags(
+  flags: { epsilon: string; seats?: number | undefined; neighbour?: string | undefined },
+  options: number,
+): ExponentialDraw {
+  const seats = flags.seats ?? 1;
+  if (options < 2) throw new InvalidInput(`a vote needs at least 2 options; found ${options}`);
+  if (seats >= options) {
+    throw new InvalidInput(`--seats must be smaller than the number of options (${options}); got ${seats}`);
+  }
+  const neighbour: Neighbour = flags.neighbour === 'add-remove' ? 'add-remove' : 'replace-one';
+  return makeExponentialDraw({ epsilon: flags.epsilon, options, seats, neighbour });
+}
