@@ -2,6 +2,7 @@ import type { Router } from 'express';
 import type { AppDeps } from '../deps.ts';
 import { siteRouter } from './site/router.ts';
 import { voteRouter } from './vote/router.ts';
+import { resultsRouter } from './results/router.ts';
 
 /** Every router of the site, one per audience. Order matters only for overlapping paths. */
-export const routers: ReadonlyArray<(deps: AppDeps) => Router> = [siteRouter, voteRouter];
+export const routers: ReadonlyArray<(deps: AppDeps) => Router> = [siteRouter, voteRouter, resultsRouter];

@@ -1,0 +1,87 @@
+import { Router, type Response } from 'express';
+import { limiter } from '../../app.ts';
+import type { AppDeps } from '../../deps.ts';
+import { TooManyAttempts } from '../../errors.ts';
+import { noStore } from '../../middleware/security.ts';
+import { listEvents } from '../../../elections/audit.ts';
+import { checkReceipt } from '../../../elections/checkReceipt.ts';
+import { findElection, type Election } from '../../../elections/electionRepo.ts';
+import { ElectionNotFound } from '../../../elections/errors.ts';
+import { ReceiptMalformed } from '../../../custody/errors.ts';
+import { resultPageView, type ResultPageView } from '../../presenters/result.ts';
+import { idParam, receiptForm } from './schema.ts';
+
+/** What the receipt form shows after a check: only "counted" or "not found", never more. */
+export interface ReceiptCheckView {
+  receipt: string;
+  outcome: 'found' | 'not-found' | 'malformed' | 'not-published';
+  message: string;
+}
+
+/**
+ * The public result page, no sign-in. Drafts answer like unknown elections. Before publication
+ * it says so (a tallied result is the organiser's private preview).
+ */
+export function resultsRouter(deps: AppDeps): Router {
+  const router = Router();
+  const { ctx } = deps;
+  // 50-bit receipts make guessing pointless; this only bounds load.
+  const receiptChecks = limiter(100, 10 * 60_000, () => new TooManyAttempts('receipt checks'));
+
+  async function publicElection(rawId: unknown): Promise<Election> {
+    const param = idParam.safeParse({ id: rawId });
+    if (!param.success) throw new ElectionNotFound();
+    const e = await findElection(ctx.knex, param.data.id);
+    if (!e || e.state === 'draft') throw new ElectionNotFound();
+    return e;
+  }
+
+  async function pageView(e: Election): Promise<ResultPageView> {
+    return resultPageView(e, await listEvents(ctx.knex, e.id, { publicOnly: true }), ctx.now());
+  }
+
+  function render(res: Response, page: ResultPageView, receiptCheck: ReceiptCheckView | null = null): void {
+    if (page.result) {
+      res.render('results/result', { title: `Result: ${page.title}`, page, result: page.result, receiptCheck });
+    } else {
+      res.render('results/pending', { title: `Result not yet published: ${page.title}`, page, receiptCheck });
+    }
+  }
+
+  router.get('/results/:id', async (req, res) => {
+    const e = await publicElection(req.params.id);
+    render(res, await pageView(e));
+  });
+
+  router.post('/results/:id/receipt', noStore, receiptChecks, async (req, res) => {
+    const e = await publicElection(req.params.id);
+    const page = await pageView(e);
+    const { receipt } = receiptForm.parse(req.body ?? {});
+    if (!page.result) {
+      res.status(409);
+      return render(res, page, {
+        receipt,
+        outcome: 'not-published',
+        message: 'Receipts can be checked here once the result is published.',
+      });
+    }
+    let found: boolean;
+    try {
+      found = await checkReceipt(ctx, { electionId: e.id, receipt });
+    } catch (err) {
+      if (!(err instanceof ReceiptMalformed)) throw err;
+      res.status(400);
+      return render(res, page, { receipt, outcome: 'malformed', message: err.message });
+    }
+    render(res, page, found
+      ? { receipt, outcome: 'found', message: 'This receipt is among the ballots counted.' }
+      : { receipt, outcome: 'not-found', message: 'This receipt was not found. Check it for typing mistakes and try again.' });
+  });
+
+  router.get('/results/:id/receipt', async (req, res) => {
+    const e = await publicElection(req.params.id);
+    res.redirect(303, `/results/${e.id}`);
+  });
+
+  return router;
+}
