@@ -24,7 +24,8 @@ export async function issueCodes(
     throw new InvalidInput(message, [{ path: 'count', message }]);
   }
   return ctx.knex.transaction(async (trx) => {
-    const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
+    // No row lock: issuing 100000 codes must not hold up members casting meanwhile.
+    const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: false });
     const now = ctx.now();
     if (!(e.state === 'draft' || (e.state === 'open' && now < e.closesAt))) {
       throw new ElectionStateConflict('Ballot codes can only be issued before voting closes.');

@@ -2,7 +2,7 @@ import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import { AlreadyPublished, NotTallied } from './errors.ts';
-import { shredInTransaction } from './shred.ts';
+import { retentionDaysSchema, shredInTransaction } from './shred.ts';
 
 const DAY_MS = 24 * 60 * 60 * 1000;
 
@@ -17,7 +17,9 @@ export async function publishResult(ctx: UseCaseContext, input: { electionId: st
     if (e.state === 'published') throw new AlreadyPublished();
     if (e.state !== 'tallied') throw new NotTallied();
     const now = ctx.now();
-    const shredAfter = e.retentionDays === null ? null : new Date(now.getTime() + e.retentionDays * DAY_MS);
+    // A stored value outside 1..90 is a bug elsewhere: refuse rather than keep ballots too long.
+    const days = retentionDaysSchema.parse(e.retentionDays);
+    const shredAfter = days === null ? null : new Date(now.getTime() + days * DAY_MS);
     await trx('elections')
       .where({ id: e.id })
       .update({ state: 'published', published_at: now, shred_after: shredAfter, updated_at: now });

@@ -1,9 +1,19 @@
+import { z } from 'zod';
 import type { Db } from '../db/knex.ts';
 import { recordEvent } from './audit.ts';
 import { deleteBallots } from './ballotRepo.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import { ElectionStateConflict } from './errors.ts';
+
+/** Retention choice: null = shred at publication (default); otherwise keep sealed 1–90 days, then shred. */
+export const RETENTION_DAYS_MAX = 90;
+export const retentionDaysSchema = z
+  .number()
+  .int()
+  .min(1, 'Keep sealed ballots for at least 1 day, or choose to shred them at publication.')
+  .max(RETENTION_DAYS_MAX, `Sealed ballots can be kept for at most ${RETENTION_DAYS_MAX} days.`)
+  .nullable();
 
 /**
  * Shredding (DESIGN §5): deletes the wrapped election key and every ciphertext, in the

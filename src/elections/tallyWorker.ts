@@ -1,5 +1,9 @@
 import { parentPort, workerData } from 'node:worker_threads';
-import { BallotUnreadable, openAndCount, openingKey, wipe } from '../custody/index.ts';
+// Direct imports, not custody/index.ts: a worker needs only the opening code, and loading
+// Argon2 and zod in every worker would add about half a second to its start.
+import { openAndCount, openingKey } from '../custody/ballot.ts';
+import { BallotUnreadable } from '../custody/errors.ts';
+import { wipe } from '../custody/sodium.ts';
 
 /**
  * A tally worker: opens the sealed ballots it is sent and keeps its own counts, which it
