@@ -1,4 +1,5 @@
 import { describeBounds } from './describeBounds.ts';
+import { InvalidMechanismConfig } from './errors.ts';
 import type { PrivacyStatement } from './statement.ts';
 
 export interface StatementText {
@@ -40,7 +41,7 @@ function privacyParagraph(s: PrivacyStatement): string {
       : turnoutNote;
     return `${first} ${setting} ${second}`;
   }
-  const ticked = `What a member ticked is protected less strongly: changing one ballot changed the chance by at most a factor of e^(2ε) ≈ ${how.factorAtMost}, because a changed ballot counts as one ballot removed and another added. The organiser chose this weaker setting on purpose.`;
+  const ticked = `Whatever any one member ticked, the chance of this announcement changed by at most a factor of e^(2ε) ≈ ${how.factorAtMost}: a changed ballot counts as one ballot removed and another added. The organiser chose this weaker setting on purpose.`;
   const first = whether
     ? `Whether any one member voted changed the chance of this announcement by at most a factor of e^ε ≈ ${whether.factorAtMost}.`
     : turnoutNote;
@@ -73,6 +74,10 @@ export const RANDOM_WINNER_CAUTION =
 
 /** Plain-language text for the result page and the CLI, for readers with no statistics background. */
 export function describeStatement(s: PrivacyStatement): StatementText {
+  // Wording is written for version 1; a newer statement must not be described with old words.
+  if (s === null || typeof s !== 'object' || s.statementVersion !== 1) {
+    throw new InvalidMechanismConfig('this privacy statement has an unknown version and cannot be described');
+  }
   if (s.outcome === 'no-ballots') {
     return {
       headline: headlineOf(s),

@@ -13,6 +13,7 @@ let used = 0;
  * call per byte would dominate the draw; every byte is still served only once.
  */
 export const cryptoRandom: RandomSource = (byteCount) => {
+  if (!Number.isSafeInteger(byteCount) || byteCount < 0) throw new RangeError('byteCount must be a whole number ≥ 0');
   if (byteCount > POOL_SIZE) return randomFillSync(new Uint8Array(byteCount));
   if (used + byteCount > pool.length) {
     pool = randomFillSync(new Uint8Array(POOL_SIZE));

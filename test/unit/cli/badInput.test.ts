@@ -1,7 +1,7 @@
 import { spawnSync } from 'node:child_process';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { ballotFile, repoRoot, runCli } from './support.ts';
+import { ballotFile, folderNamed, repoRoot, runCli } from './support.ts';
 
 // Bad input must exit with code 2 and one clear line on stderr, never a stack trace
 // (our CLI contract in src/cli/io.ts; exit code 2 for usage errors is common practice).
@@ -9,6 +9,7 @@ const good = ballotFile('Heron,Kingfisher,Otter\n1,,x\n,1,\n');
 const single = ballotFile('Heron\n1\n');
 const empty = ballotFile('');
 const badCell = ballotFile('Heron,Kingfisher\n1,maybe\n');
+const folderCsv = folderNamed('not-a-file.csv');
 
 describe('bad input exits 2 with one line on stderr', () => {
   it.each([
@@ -31,6 +32,12 @@ describe('bad input exits 2 with one line on stderr', () => {
     ['draw: wrong file type', ['draw', '--ballots', 'ballots.xlsx', '--epsilon', '1'], 'must be CSV (.csv) or PrefLib'],
     ['draw: positional argument', ['draw', good, '--epsilon', '1'], 'unexpected argument'],
     ['draw: --json with a value', ['draw', '--ballots', good, '--epsilon', '1', '--json=1'], '--json takes no value'],
+    ['draw: overlong title', ['draw', '--ballots', good, '--epsilon', '1', '--title', 'x'.repeat(201)], '--title must be at most 200'],
+    ['draw: flag with a value', ['draw', '--ballots', good, '--epsilon', '1', '--publish-turnout=yes'], 'takes no value'],
+    ['draw: folder named .csv', ['draw', '--ballots', folderCsv, '--epsilon', '1'], 'it is a folder'],
+    ['simulate: trailing comma', ['simulate', '--scores', '3,2,', '--epsilon', '1', '--runs', '5'], '--scores must be whole numbers'],
+    ['simulate: unsafe score', ['simulate', '--scores', '3,99999999999999999', '--epsilon', '1', '--runs', '5'], '--scores must be whole numbers'],
+    ['simulate: unknown flag', ['simulate', '--scores', '3,2', '--epsilon', '1', '--runs', '5', '--ballots', 'x.csv'], 'unknown option "--ballots"'],
     ['simulate: no --runs', ['simulate', '--scores', '3,2', '--epsilon', '1'], '--runs'],
     ['simulate: too many runs', ['simulate', '--scores', '3,2', '--epsilon', '1', '--runs', '1000001'], '--runs must be a whole number from 1 to 1000000'],
     ['simulate: zero runs', ['simulate', '--scores', '3,2', '--epsilon', '1', '--runs', '0'], '--runs must be'],
@@ -46,6 +53,8 @@ describe('bad input exits 2 with one line on stderr', () => {
     ['bounds: β = 1', ['bounds', '--options', '3', '--epsilon', '1', '--beta', '1'], '--beta must be'],
     ['bounds: β text', ['bounds', '--options', '3', '--epsilon', '1', '--beta', 'small'], '--beta must be'],
     ['bounds: seats ≥ options', ['bounds', '--options', '3', '--epsilon', '1', '--seats', '4'], '--seats must be smaller'],
+    ['bounds: β malformed', ['bounds', '--options', '3', '--epsilon', '1', '--beta', '0.5.5'], '--beta must be'],
+    ['bounds: β exponent', ['bounds', '--options', '3', '--epsilon', '1', '--beta', '5e-2'], '--beta must be'],
     ['bounds: value missing', ['bounds', '--options', '3', '--epsilon'], '--epsilon needs a value'],
     ['bounds: repeated flag', ['bounds', '--options', '3', '--options', '4', '--epsilon', '1'], 'more than once'],
   ])('%s', async (_name, argv, message) => {

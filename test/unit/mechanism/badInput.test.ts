@@ -6,6 +6,7 @@ import {
   bernoulliRational,
   buildStatement,
   cryptoRandom,
+  describeStatement,
   InvalidEpsilon,
   InvalidMechanismConfig,
   InvalidScores,
@@ -109,8 +110,21 @@ describe('buildStatement refuses inconsistent input', () => {
   });
 });
 
+describe('describeStatement refuses statements it has no words for', () => {
+  it.each([
+    ['version 2', { statementVersion: 2 }],
+    ['no version', {}],
+    ['null', null],
+  ])('%s', (_name, statement) => {
+    expect(() => describeStatement(statement as never)).toThrow(InvalidMechanismConfig);
+  });
+});
+
 describe('samplers refuse impossible parameters', () => {
   it.each([
+    ['cryptoRandom(-1)', () => cryptoRandom(-1)],
+    ['cryptoRandom(1.5)', () => cryptoRandom(1.5)],
+    ['cryptoRandom(NaN)', () => cryptoRandom(Number.NaN)],
     ['uniformBelow(0)', () => uniformBelow(0n, cryptoRandom)],
     ['uniformBelow(-3)', () => uniformBelow(-3n, cryptoRandom)],
     ['uniformBelow(number)', () => uniformBelow(3 as never, cryptoRandom)],
