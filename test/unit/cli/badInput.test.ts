@@ -1,7 +1,5 @@
-import { spawnSync } from 'node:child_process';
-import path from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { ballotFile, folderNamed, repoRoot, runCli } from './support.ts';
+import { ballotFile, folderNamed, runCli } from './support.ts';
 
 // Bad input must exit with code 2 and one clear line on stderr, never a stack trace
 // (our CLI contract in src/cli/io.ts; exit code 2 for usage errors is common practice).
@@ -64,23 +62,5 @@ describe('bad input exits 2 with one line on stderr', () => {
     expect(stderr).toContain(message);
     expect(stderr.trimEnd().split('\n')).toHaveLength(1);
     expect(stderr).not.toMatch(/\n\s+at /);
-  });
-});
-
-describe('the veiltally binary', () => {
-  const bin = path.join(repoRoot, 'src', 'cli', 'bin.mjs');
-  const run = (args: string[]) => spawnSync(process.execPath, [bin, ...args], { cwd: repoRoot, encoding: 'utf8', timeout: 30_000 });
-
-  it('exits 0 and prints JSON for good input', () => {
-    const result = run(['bounds', '--options', '3', '--epsilon', '1', '--json']);
-    expect(result.status).toBe(0);
-    expect(JSON.parse(result.stdout).marginFor).toEqual({ '0.9': 6, '0.95': 8, '0.99': 11 });
-  });
-
-  it('exits 2 with one stderr line for a bad ε', () => {
-    const result = run(['draw', '--ballots', good, '--epsilon', '1e-3']);
-    expect(result.status).toBe(2);
-    expect(result.stdout).toBe('');
-    expect(result.stderr.trimEnd().split('\n')).toEqual([expect.stringContaining('veiltally draw: epsilon must be a decimal number from 0.01 to 10')]);
   });
 });
