@@ -29,6 +29,12 @@ export interface UseCaseContext {
   readonly random: RandomBytes;
   readonly secrets: InstanceSecrets;
   readonly kdf: KdfParams;
+  /**
+   * Argon2id cost for organiser passwords. Optional so existing callers keep working:
+   * absent means the OWASP Password Storage Cheat Sheet minimum (src/accounts/passwords.ts).
+   * Tests pass cheap parameters here.
+   */
+  readonly passwordKdf?: KdfParams;
 }
 
 export const DEFAULT_KDF: KdfParams = Object.freeze({ memoryKiB: 64 * 1024, iterations: 3, parallelism: 4 });

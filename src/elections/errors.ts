@@ -119,3 +119,24 @@ export class ElectionStateConflict extends VeiltallyError {
     super(message);
   }
 }
+
+/** Options, ε, seats and the privacy setting are promises to voters, fixed once voting opens. */
+export class ElectionLocked extends VeiltallyError {
+  readonly code = 'ElectionLocked';
+  override readonly status = 409;
+  constructor() {
+    super(
+      'This election has been opened, so its options, seats, ε and privacy setting are locked. ' +
+        'Changing the rule after voting starts would break the promise made to voters.',
+    );
+  }
+}
+
+/** Opening needs at least one live ballot code, or nobody could vote. */
+export class NoCodesIssued extends VeiltallyError {
+  readonly code = 'NoCodesIssued';
+  override readonly status = 409;
+  constructor() {
+    super('Issue at least one ballot code before opening: without a code, nobody can vote.');
+  }
+}

@@ -40,11 +40,16 @@ export function createApp(deps: AppDeps): Express {
   return app;
 }
 
-/** A small in-memory limiter; limits are per app server (see DEVELOPERS.md). */
-export function limiter(max: number, windowMs: number, onLimit: () => Error) {
+/**
+ * A small in-memory limiter; limits are per app server (see DEVELOPERS.md).
+ * `countFailuresOnly` leaves answers below 400 uncounted, so only failed attempts use up the
+ * allowance (OWASP Authentication Cheat Sheet: limit failed login attempts).
+ */
+export function limiter(max: number, windowMs: number, onLimit: () => Error, options: { countFailuresOnly?: boolean } = {}) {
   return rateLimit({
     windowMs,
     limit: max,
+    skipSuccessfulRequests: options.countFailuresOnly ?? false,
     standardHeaders: 'draft-8',
     legacyHeaders: false,
     handler: (_req, _res, next) => next(onLimit()),

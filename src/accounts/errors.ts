@@ -1,0 +1,32 @@
+import { VeiltallyError } from '../errors.ts';
+
+/** Typed failures of organiser accounts. Messages never repeat a password. */
+
+/**
+ * One message for every failed sign-in, unknown email included, so the page does not
+ * reveal which emails have accounts (OWASP Authentication Cheat Sheet, "Authentication and Error Messages").
+ */
+export class SignInFailed extends VeiltallyError {
+  readonly code = 'SignInFailed';
+  override readonly status = 401;
+  constructor() {
+    super('That email and password do not match an organiser account. Check both and try again.');
+  }
+}
+
+/** The first organiser exists already; the setup page is used once. */
+export class FirstRunDone extends VeiltallyError {
+  readonly code = 'FirstRunDone';
+  override readonly status = 409;
+  constructor() {
+    super('This site has already been set up. Sign in with an organiser account, or ask an organiser to add you.');
+  }
+}
+
+export class EmailTaken extends VeiltallyError {
+  readonly code = 'EmailTaken';
+  override readonly status = 409;
+  constructor() {
+    super('There is already an organiser with that email.');
+  }
+}

@@ -1,0 +1,73 @@
+import type { Db } from '../db/knex.ts';
+import { toCount } from '../db/knex.ts';
+
+export interface Organiser {
+  id: string;
+  email: string;
+  createdAt: Date;
+  createdByEmail: string | null;
+}
+
+export interface OrganiserCredentials {
+  id: string;
+  email: string;
+  passwordHash: string;
+}
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** Emails are stored trimmed and lower-cased, so sign-in does not depend on how they were typed. */
+export const normaliseEmail = (email: string): string => email.trim().toLowerCase();
+
+export async function countOrganisers(db: Db): Promise<number> {
+  const row = await db('organisers').count({ n: '*' }).first();
+  return toCount(row?.n ?? 0);
+}
+
+export async function findCredentials(db: Db, email: string): Promise<OrganiserCredentials | null> {
+  const row = await db('organisers').where({ email: normaliseEmail(email) }).first('id', 'email', 'password_hash');
+  return row ? { id: row.id, email: row.email, passwordHash: row.password_hash } : null;
+}
+
+export async function findOrganiser(db: Db, id: string): Promise<Organiser | null> {
+  if (!UUID.test(id)) return null;
+  const rows = await listQuery(db).where('o.id', id);
+  return rows[0] ? fromRow(rows[0]) : null;
+}
+
+export async function listOrganisers(db: Db): Promise<Organiser[]> {
+  const rows = await listQuery(db).orderBy([{ column: 'o.created_at' }, { column: 'o.email' }]);
+  return rows.map(fromRow);
+}
+
+function listQuery(db: Db) {
+  return db('organisers as o')
+    .leftJoin('organisers as c', 'c.id', 'o.created_by')
+    .select('o.id', 'o.email', 'o.created_at', 'c.email as created_by_email');
+}
+
+function fromRow(r: Record<string, unknown>): Organiser {
+  return {
+    id: r.id as string,
+    email: r.email as string,
+    createdAt: new Date(r.created_at as string),
+    createdByEmail: (r.created_by_email as string | null) ?? null,
+  };
+}
+
+/** Inserts an organiser; false when the email is taken (unique index), so races cannot create twins. */
+export async function insertOrganiser(
+  db: Db,
+  row: { id: string; email: string; passwordHash: string; createdBy: string | null; at: Date },
+): Promise<boolean> {
+  const inserted = await db('organisers')
+    .insert({ id: row.id, email: normaliseEmail(row.email), password_hash: row.passwordHash, created_by: row.createdBy, created_at: row.at })
+    .onConflict('email')
+    .ignore()
+    .returning('id');
+  return inserted.length === 1;
+}
+
+export async function updatePasswordHash(db: Db, id: string, passwordHash: string): Promise<void> {
+  await db('organisers').where({ id }).update({ password_hash: passwordHash });
+}

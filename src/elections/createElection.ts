@@ -1,0 +1,26 @@
+import { createElectionKeys, checkTallyPassphrase, randomUuid } from '../custody/index.ts';
+import { recordEvent } from './audit.ts';
+import type { UseCaseContext } from './context.ts';
+import { checkDraft, type DraftInput } from './draft.ts';
+import { insertDraft } from './draftRepo.ts';
+
+/**
+ * Creates a draft election and its key pair. The tally passphrase is used here once, to wrap
+ * the election secret key (createElectionKeys), and is never stored: only the wrapped key is.
+ */
+export async function createElection(
+  ctx: UseCaseContext,
+  input: { organiserId: string; draft: DraftInput; passphrase: string },
+): Promise<{ electionId: string }> {
+  const draft = checkDraft(input.draft);
+  checkTallyPassphrase(input.passphrase);
+  const id = randomUuid(ctx.random);
+  // Argon2id runs before the transaction, so no connection is held while it works.
+  const { publicKey, wrapped } = await createElectionKeys({ passphrase: input.passphrase, electionId: id, kdf: ctx.kdf, random: ctx.random });
+  const now = ctx.now();
+  await ctx.knex.transaction(async (trx) => {
+    await insertDraft(trx, { id, ownerId: input.organiserId, draft, publicKey, wrappedKey: wrapped, at: now });
+    await recordEvent(trx, { electionId: id, organiserId: input.organiserId, action: 'created' }, now);
+  });
+  return { electionId: id };
+}

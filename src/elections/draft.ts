@@ -1,0 +1,100 @@
+import { z } from 'zod';
+import { InvalidInput } from '../errors.ts';
+import { parseEpsilon } from '../mechanism/index.ts';
+import type { Neighbour } from './electionRepo.ts';
+import { isTimeZone } from './time.ts';
+
+/** Everything an organiser sets before opening. Times are UTC instants; the zone is for display. */
+export interface DraftInput {
+  title: string;
+  description: string;
+  options: { label: string; description: string }[];
+  seats: number;
+  epsilon: string;
+  neighbour: Neighbour;
+  opensAt: Date;
+  closesAt: Date;
+  timeZone: string;
+  publishTurnout: boolean;
+  /** null: shred the key and sealed ballots at publication (the default). */
+  retentionDays: number | null;
+  expectedVoters: number;
+}
+
+export const DRAFT_LIMITS = Object.freeze({
+  titleMax: 200,
+  descriptionMax: 5000,
+  optionsMin: 2,
+  optionsMax: 100,
+  labelMax: 120,
+  optionDescriptionMax: 500,
+  retentionMin: 1,
+  retentionMax: 90,
+  votersMax: 1_000_000,
+});
+
+const L = DRAFT_LIMITS;
+/** Labels are compared trimmed and case-insensitively, so "Oak" and " oak " count as the same option. */
+export const labelKey = (label: string): string => label.trim().normalize('NFC').toLocaleLowerCase('en');
+
+const option = z.object({
+  label: z.string().trim().min(1, 'Give this option a label.').max(L.labelMax, `Keep the label to ${L.labelMax} characters or fewer.`),
+  description: z.string().trim().max(L.optionDescriptionMax, `Keep the description to ${L.optionDescriptionMax} characters or fewer.`),
+});
+
+export const draftSchema = z
+  .object({
+    title: z.string().trim().min(1, 'Give the election a title.').max(L.titleMax, `Keep the title to ${L.titleMax} characters or fewer.`),
+    description: z.string().trim().max(L.descriptionMax, `Keep the description to ${L.descriptionMax} characters or fewer.`),
+    options: z
+      .array(option)
+      .min(L.optionsMin, `Give at least ${L.optionsMin} options.`)
+      .max(L.optionsMax, `Give at most ${L.optionsMax} options.`),
+    seats: z.number().int('Seats must be a whole number.').min(1, 'There must be at least 1 seat.'),
+    epsilon: z.string(),
+    neighbour: z.enum(['replace-one', 'add-remove']),
+    opensAt: z.date(),
+    closesAt: z.date(),
+    timeZone: z.string().refine(isTimeZone, 'Choose a time zone from the list.'),
+    publishTurnout: z.boolean(),
+    retentionDays: z
+      .number()
+      .int('Give a whole number of days.')
+      .min(L.retentionMin, `Keep them at least ${L.retentionMin} day.`)
+      .max(L.retentionMax, `Keep them at most ${L.retentionMax} days.`)
+      .nullable(),
+    expectedVoters: z
+      .number()
+      .int('Give a whole number of voters.')
+      .min(1, 'Expect at least 1 voter.')
+      .max(L.votersMax, `We support up to ${L.votersMax.toLocaleString('en')} voters.`),
+  })
+  .superRefine((d, issue) => {
+    const seen = new Map<string, number>();
+    d.options.forEach((o, i) => {
+      const k = labelKey(o.label);
+      if (seen.has(k)) issue.addIssue({ code: 'custom', path: ['options', i, 'label'], message: `This label repeats option ${seen.get(k)! + 1}. Each option needs its own label.` });
+      else seen.set(k, i);
+    });
+    if (d.options.length >= L.optionsMin && d.seats > d.options.length - 1) {
+      issue.addIssue({ code: 'custom', path: ['seats'], message: `With ${d.options.length} options there can be at most ${d.options.length - 1} seats.` });
+    }
+    try {
+      parseEpsilon(d.epsilon);
+    } catch {
+      issue.addIssue({ code: 'custom', path: ['epsilon'], message: 'ε must be a decimal from 0.01 to 10 with at most 4 decimal places, such as 0.5, 1 or 2.5.' });
+    }
+    if (!(d.closesAt.getTime() > d.opensAt.getTime())) {
+      issue.addIssue({ code: 'custom', path: ['closesAt'], message: 'The closing time must be after the opening time.' });
+    }
+  });
+
+/** Validates a draft at the use-case edge; issues carry paths like "options.2.label" for the form. */
+export function checkDraft(input: DraftInput): DraftInput {
+  const r = draftSchema.safeParse(input);
+  if (!r.success) {
+    const issues = r.error.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
+    throw new InvalidInput('Please correct the highlighted fields.', issues);
+  }
+  return r.data;
+}

@@ -1,0 +1,73 @@
+import type { Db } from '../db/knex.ts';
+import type { DraftInput } from './draft.ts';
+
+/** Column values of the draft settings; options are written separately, by position. */
+function draftColumns(d: DraftInput) {
+  return {
+    title: d.title,
+    description: d.description,
+    seats: d.seats,
+    epsilon: d.epsilon,
+    neighbour: d.neighbour,
+    opens_at: d.opensAt,
+    closes_at: d.closesAt,
+    time_zone: d.timeZone,
+    publish_turnout: d.publishTurnout,
+    retention_days: d.retentionDays,
+    expected_voters: d.expectedVoters,
+  };
+}
+
+export async function insertDraft(
+  db: Db,
+  row: { id: string; ownerId: string; draft: DraftInput; publicKey: Buffer; wrappedKey: unknown; at: Date },
+): Promise<void> {
+  await db('elections').insert({
+    id: row.id,
+    owner_id: row.ownerId,
+    state: 'draft',
+    ...draftColumns(row.draft),
+    public_key: row.publicKey,
+    wrapped_key: JSON.stringify(row.wrappedKey),
+    created_at: row.at,
+    updated_at: row.at,
+  });
+  await writeOptions(db, row.id, row.draft.options);
+}
+
+export async function updateDraftRow(db: Db, id: string, draft: DraftInput, at: Date): Promise<void> {
+  await db('elections').where({ id, state: 'draft' }).update({ ...draftColumns(draft), updated_at: at });
+  await db('options').where({ election_id: id }).delete();
+  await writeOptions(db, id, draft.options);
+}
+
+/** Positions are 0..d−1 in the order given: the bit index of each option in every ballot. */
+async function writeOptions(db: Db, id: string, options: DraftInput['options']): Promise<void> {
+  await db('options').insert(options.map((o, position) => ({ election_id: id, position, label: o.label, description: o.description })));
+}
+
+export interface ElectionSummary {
+  id: string;
+  title: string;
+  state: string;
+  opensAt: Date;
+  closesAt: Date;
+  timeZone: string;
+  createdAt: Date;
+}
+
+export async function listOwnElections(db: Db, ownerId: string): Promise<ElectionSummary[]> {
+  const rows = await db('elections')
+    .where({ owner_id: ownerId })
+    .orderBy([{ column: 'created_at', order: 'desc' }, { column: 'id' }])
+    .select('id', 'title', 'state', 'opens_at', 'closes_at', 'time_zone', 'created_at');
+  return rows.map((r) => ({
+    id: r.id,
+    title: r.title,
+    state: r.state,
+    opensAt: new Date(r.opens_at),
+    closesAt: new Date(r.closes_at),
+    timeZone: r.time_zone,
+    createdAt: new Date(r.created_at),
+  }));
+}

@@ -1,0 +1,46 @@
+import { countCodes } from './codeRepo.ts';
+import { recordEvent } from './audit.ts';
+import type { UseCaseContext } from './context.ts';
+import { ownedElection } from './electionAccess.ts';
+import { ElectionStateConflict, NoCodesIssued, TallyKeyMissing } from './errors.ts';
+
+export type OpenMode = 'now' | 'schedule';
+
+/**
+ * Locks the rule and opens the election. "now" starts voting at once (moving an opening time
+ * still in the future to now); "schedule" keeps a future opening time, and casting starts
+ * then (acceptsBallotsAt). Either way options, ε, seats and neighbour relation are fixed
+ * from here on. Rules: at least one live (unrevoked) ballot code, and a closing time still ahead.
+ */
+export async function openElection(
+  ctx: UseCaseContext,
+  input: { electionId: string; organiserId: string; mode: OpenMode },
+): Promise<{ opensAt: Date; closesAt: Date }> {
+  return ctx.knex.transaction(async (trx) => {
+    const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
+    if (e.state !== 'draft') throw new ElectionStateConflict('This election has already been opened.');
+    if (!e.publicKey || e.wrappedKey == null) throw new TallyKeyMissing();
+    const codes = await countCodes(trx, e.id);
+    if (codes.issued - codes.revoked < 1) throw new NoCodesIssued();
+    const now = ctx.now();
+    if (e.closesAt <= now) {
+      throw new ElectionStateConflict('The closing time has already passed. Edit the election and choose a later closing time, then open it.');
+    }
+    if (input.mode === 'schedule' && e.opensAt <= now) {
+      throw new ElectionStateConflict('The opening time has already passed, so there is nothing to schedule. Choose “Open now” instead.');
+    }
+    const opensAt = input.mode === 'now' && e.opensAt > now ? now : e.opensAt;
+    await trx('elections').where({ id: e.id }).update({ state: 'open', opens_at: opensAt, opened_at: now, updated_at: now });
+    await recordEvent(
+      trx,
+      {
+        electionId: e.id,
+        organiserId: input.organiserId,
+        action: 'opened',
+        detail: { scheduled: opensAt > now, opensAt: opensAt.toISOString(), closesAt: e.closesAt.toISOString() },
+      },
+      now,
+    );
+    return { opensAt, closesAt: e.closesAt };
+  });
+}
