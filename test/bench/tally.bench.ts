@@ -1,5 +1,5 @@
 import crypto from 'node:crypto';
-import { availableParallelism } from 'node:os';
+import { availableParallelism, loadavg } from 'node:os';
 import { performance } from 'node:perf_hooks';
 import { pathToFileURL } from 'node:url';
 import { createElectionKeys, encodeAndSeal, openAndCount, openingKey, unwrapElectionKey } from '../../src/custody/index.ts';
@@ -72,17 +72,22 @@ export async function run(): Promise<TallyBenchRow[]> {
       await seed(db, n, publicKey, electionId);
       for (const threads of [0, 1, 2, Math.min(4, Math.max(2, availableParallelism()))].filter((t, i, a) => a.indexOf(t) === i)) {
         const req = { electionId, publicKey, secretKey, optionCount: D, threads };
-        const seconds = await time(async () => {
-          const t = await countApprovals(db.knex, req);
-          if (t.ballots !== n || t.unreadable !== 0) throw new Error('benchmark tally miscounted');
-        });
-        add(engine, threads, seconds);
+        // Best of two: other work on a shared machine only ever slows a run down.
+        let best = Infinity;
+        for (let rep = 0; rep < 2; rep++) {
+          best = Math.min(best, await time(async () => {
+            const t = await countApprovals(db.knex, req);
+            if (t.ballots !== n || t.unreadable !== 0) throw new Error('benchmark tally miscounted');
+          }));
+        }
+        add(engine, threads, best);
       }
     } finally {
       await db.dispose();
     }
   }
-  console.log(`tally throughput (d = ${D}, ${availableParallelism()} cores; threads 0 = main thread only)`);
+  const load = loadavg().map((x) => x.toFixed(1)).join(' ');
+  console.log(`tally throughput (d = ${D}, ${availableParallelism()} cores, load average ${load}; threads 0 = main thread only)`);
   console.table(rows);
   return rows;
 }
