@@ -1,21 +1,22 @@
-import { openBallot, openingKey, parseWrappedKey, randomUuid, unwrapElectionKey, wipe } from '../../src/custody/index.ts';
+import { openBallot, openingKey, parseWrappedKey, unwrapElectionKey, wipe } from '../../src/custody/index.ts';
 import { toBuffer } from '../../src/db/knex.ts';
 import { findElection } from '../../src/elections/electionRepo.ts';
-import { recordEvent } from '../../src/elections/audit.ts';
+import { createFirstOrganiser } from '../../src/accounts/firstRun.ts';
+import { createElection } from '../../src/elections/createElection.ts';
+import { openElection } from '../../src/elections/openElection.ts';
 import { castBallot } from '../../src/elections/castBallot.ts';
 import { closeAndTally } from '../../src/elections/closeAndTally.ts';
 import type { UseCaseContext } from '../../src/elections/context.ts';
 import { issueCodes } from '../../src/elections/issueCodes.ts';
 import { publishResult } from '../../src/elections/publishResult.ts';
-import { setTallyPassphrase } from '../../src/elections/setTallyPassphrase.ts';
 
 /**
- * Elections for web tests. Tally key, codes, casting, tally and publication go through the
- * use-cases. Until the organiser's createElection/openElection use-cases land, the draft row
- * and the opening are written here the way those use-cases write them (same columns, same
- * public audit events), so the pages under test read exactly what production stores.
+ * Elections for web tests, set up through the same use-cases the organiser's pages call
+ * (createFirstOrganiser, createElection, issueCodes, openElection, castBallot, closeAndTally,
+ * publishResult), so the pages under test read exactly what production stores.
  */
 export const FIXTURE_PASSPHRASE = 'rowing club boat naming';
+export const FIXTURE_PASSWORD = 'oars and rudders and tea';
 
 export interface FixtureOptions {
   title?: string;
@@ -45,52 +46,43 @@ const DEFAULT_OPTIONS = [
   { label: 'Swift', description: 'Never lands, or so the story goes.' },
 ];
 
+/** The instance's first organiser (one per test database). */
 export async function createOrganiser(ctx: UseCaseContext, email = 'organiser@rowing.example'): Promise<string> {
-  const id = randomUuid(ctx.random);
-  // Not a usable password hash: these tests never sign in.
-  await ctx.knex('organisers').insert({ id, email, password_hash: '$fixture$', created_by: null, created_at: ctx.now() });
-  return id;
+  return (await createFirstOrganiser(ctx, { email, password: FIXTURE_PASSWORD })).organiserId;
 }
 
-/** A draft with its tally key set and codes issued; not yet open. */
+/** A draft with its tally key and codes issued; not yet open. */
 export async function createDraft(ctx: UseCaseContext, organiserId: string, o: FixtureOptions = {}): Promise<ElectionFixture> {
-  const id = randomUuid(ctx.random);
   const now = ctx.now();
   const options = (o.options ?? DEFAULT_OPTIONS).map((x) => ({ label: x.label, description: x.description ?? '' }));
-  await ctx.knex.transaction(async (trx) => {
-    await trx('elections').insert({
-      id,
-      owner_id: organiserId,
+  const opensAt = o.opensAt ?? now;
+  const { electionId: id } = await createElection(ctx, {
+    organiserId,
+    passphrase: FIXTURE_PASSPHRASE,
+    draft: {
       title: o.title ?? 'Name the new coxed four',
       description: o.description ?? 'The club has a new boat.\nTick every name you would be happy to row under.',
-      state: 'draft',
+      options,
       seats: o.seats ?? 1,
       epsilon: o.epsilon ?? '1',
       neighbour: o.neighbour ?? 'replace-one',
-      opens_at: o.opensAt ?? now,
-      closes_at: o.closesAt ?? new Date(now.getTime() + 7 * 24 * 3600_000),
-      time_zone: o.timeZone ?? 'Europe/London',
-      publish_turnout: o.publishTurnout ?? false,
-      retention_days: null,
-      expected_voters: 20,
-      created_at: now,
-      updated_at: now,
-    });
-    await trx('options').insert(options.map((x, position) => ({ election_id: id, position, ...x })));
-    await recordEvent(trx, { electionId: id, organiserId, action: 'created' }, now);
+      opensAt,
+      closesAt: o.closesAt ?? new Date(opensAt.getTime() + 7 * 24 * 3600_000),
+      timeZone: o.timeZone ?? 'Europe/London',
+      publishTurnout: o.publishTurnout ?? false,
+      retentionDays: null,
+      expectedVoters: 20,
+    },
   });
-  await setTallyPassphrase(ctx, { electionId: id, organiserId, passphrase: FIXTURE_PASSPHRASE });
   const { codes } = await issueCodes(ctx, { electionId: id, organiserId, count: o.codes ?? 6 });
   return { id, organiserId, codes, options };
 }
 
-/** Opens a draft for voting (state 'open'; ballots are accepted between opensAt and closesAt). */
+/** Opens a draft: at once, or on its own opening time when that is still ahead. */
 export async function openFixture(ctx: UseCaseContext, f: ElectionFixture): Promise<void> {
-  const now = ctx.now();
-  await ctx.knex.transaction(async (trx) => {
-    await trx('elections').where({ id: f.id, state: 'draft' }).update({ state: 'open', opened_at: now, updated_at: now });
-    await recordEvent(trx, { electionId: f.id, organiserId: f.organiserId, action: 'opened' }, now);
-  });
+  const e = await findElection(ctx.knex, f.id);
+  const mode = e && e.opensAt > ctx.now() ? 'schedule' : 'now';
+  await openElection(ctx, { electionId: f.id, organiserId: f.organiserId, mode });
 }
 
 export async function openElectionFixture(ctx: UseCaseContext, organiserId: string, o: FixtureOptions = {}): Promise<ElectionFixture> {
