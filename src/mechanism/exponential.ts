@@ -23,6 +23,9 @@ import { uniformBelowSmall, type RandomSource } from './random.ts';
  *   the first of its ⌊γᵢ⌋ exp(−1) coins already fails with probability 0.63; γ can
  *   be in the millions without slowing the draw. Every attempt starts from a
  *   fresh uniform proposal, so stopping a rejected attempt early is exact.
+ * The number of attempts depends on the scores, so running time is data-dependent
+ * (a timing side channel in principle); callers should not expose the draw's
+ * duration, e.g. by running it once at tally time rather than per request.
  */
 export function drawOneRound(
   scores: readonly number[],

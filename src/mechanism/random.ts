@@ -66,13 +66,15 @@ export function uniformBelowSmall(n: number, random: RandomSource): number {
   }
   if (n === 1) return 0;
   const bits = 32 - Math.clz32(n - 1);
-  const byteCount = Math.ceil(bits / 8);
+  const byteCount = (bits + 7) >>> 3;
   const excess = byteCount * 8 - bits;
   for (;;) {
-    const bytes = readBytes(random, byteCount);
+    const bytes = random(byteCount);
+    if (bytes.length !== byteCount) readBytes(() => bytes, byteCount); // throws with the reason
     let value = 0;
-    for (const b of bytes) value = value * 256 + b;
-    value = Math.floor(value / 2 ** excess);
+    for (let i = 0; i < byteCount; i += 1) value = value * 256 + (bytes[i] as number);
+    // value < 2^32, so the unsigned shift is exact and keeps the top `bits` bits.
+    value >>>= excess;
     if (value < n) return value;
   }
 }
