@@ -74,7 +74,7 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     await tallyFixture(ctx, f, false);
     const preview = await request(app).get(`/results/${f.id}`).expect(200);
     expect(preview.text).toContain('The result has not been published yet');
-    expect(preview.text).not.toContain('class="winners"');
+    expect(preview.text).not.toContain('<ol class="winners');
     expect(preview.text).not.toContain('was drawn as the winner');
     expect(preview.text).not.toContain('Check your receipt');
   });
@@ -85,7 +85,7 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     const html = res.text;
     const text = describeStatement(statement);
     expect(winners).toHaveLength(1);
-    expect(html).toMatch(new RegExp(`<ol class="winners">\\s*<li>${winners[0]}</li>\\s*</ol>`));
+    expect(html).toMatch(new RegExp(`<ol class="winners winners-single">\\s*<li>${winners[0]}</li>\\s*</ol>`));
     expect(html).toContain(escapeHtml(text.headline));
     for (const p of text.paragraphs) expect(html).toContain(escapeHtml(p));
     expect(html).toContain(escapeHtml(text.boundsSentence));
@@ -127,7 +127,7 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     const { f } = await decided([]);
     const html = (await request(app).get(`/results/${f.id}`).expect(200)).text;
     expect(html).toContain('No ballots were cast; no winner was drawn.');
-    expect(html).not.toContain('class="winners"');
+    expect(html).not.toContain('<ol class="winners');
   });
 
   describe('receipt check', () => {
