@@ -1,0 +1,102 @@
+import type { Election } from '../../elections/electionRepo.ts';
+import { timeZones, utcToWallClockText, wallClockAt, formatWallClock } from '../../elections/time.ts';
+import type { ElectionFormValues } from '../routes/organise/electionSchema.ts';
+import { summaryOf, type FieldErrors } from '../routes/organise/forms.ts';
+import { guidanceFor, type GuidanceView } from './guidance.ts';
+
+export const DEFAULT_ROWS = 4;
+export const DEFAULT_EPSILON = '1';
+
+/** A new election: opening tomorrow at 09:00 and closing a week later at 18:00, in the given zone. */
+export function blankValues(now: Date, timeZone = 'UTC'): ElectionFormValues {
+  const day = 24 * 60 * 60 * 1000;
+  const at = (offsetDays: number, hour: number) => {
+    const w = wallClockAt(new Date(now.getTime() + offsetDays * day), timeZone);
+    return formatWallClock({ ...w, hour, minute: 0 });
+  };
+  return {
+    title: '',
+    description: '',
+    options: Array.from({ length: DEFAULT_ROWS }, () => ({ label: '', description: '' })),
+    seats: '1',
+    epsilon: DEFAULT_EPSILON,
+    neighbour: 'replace-one',
+    expectedVoters: '',
+    opensAt: at(1, 9),
+    closesAt: at(8, 18),
+    timeZone,
+    publishTurnout: 'no',
+    retention: 'shred',
+    retentionDays: '30',
+  };
+}
+
+export function valuesFromElection(e: Election): ElectionFormValues {
+  return {
+    title: e.title,
+    description: e.description,
+    options: [...e.options.map((o) => ({ label: o.label, description: o.description })), { label: '', description: '' }, { label: '', description: '' }],
+    seats: String(e.seats),
+    epsilon: e.epsilon,
+    neighbour: e.neighbour,
+    expectedVoters: e.expectedVoters === null ? '' : String(e.expectedVoters),
+    opensAt: utcToWallClockText(e.opensAt, e.timeZone),
+    closesAt: utcToWallClockText(e.closesAt, e.timeZone),
+    timeZone: e.timeZone,
+    publishTurnout: e.publishTurnout ? 'yes' : 'no',
+    retention: e.retentionDays === null ? 'shred' : 'keep',
+    retentionDays: e.retentionDays === null ? '30' : String(e.retentionDays),
+  };
+}
+
+/** The id of the control an error belongs to, for the summary's links. */
+export function fieldAnchor(key: string): string {
+  const m = /^options\.(\d+)\.(label|description)$/.exec(key);
+  if (m) return `option-${Number(m[1]) + 1}-${m[2]}`;
+  if (key === 'options') return 'option-1-label';
+  if (key === 'neighbour') return 'neighbour-replace-one';
+  return key;
+}
+
+export interface ElectionFormView {
+  mode: 'new' | 'edit';
+  action: string;
+  guidanceAction: string;
+  values: ElectionFormValues;
+  errors: FieldErrors;
+  summary: { href: string; message: string }[];
+  zones: string[];
+  guidance: GuidanceView;
+  ambiguous: string[];
+  canAddRows: boolean;
+}
+
+export function electionFormView(input: {
+  electionId: string | null;
+  values: ElectionFormValues;
+  errors?: FieldErrors;
+  ambiguous?: string[];
+  addRows?: number;
+  maxRows: number;
+}): ElectionFormView {
+  const errors = input.errors ?? {};
+  const values = { ...input.values, options: [...input.values.options] };
+  const target = Math.min(input.maxRows, Math.max(values.options.length + (input.addRows ?? 0), 2));
+  while (values.options.length < target) values.options.push({ label: '', description: '' });
+  const filled = values.options.filter((o) => o.label.trim() !== '').length;
+  const seats = /^\d{1,6}$/.test(values.seats.trim()) ? Number(values.seats.trim()) : NaN;
+  const voters = /^\d{1,9}$/.test(values.expectedVoters.trim()) ? Number(values.expectedVoters.trim()) : null;
+  const base = input.electionId === null ? '/organise/elections/new' : `/organise/elections/${input.electionId}`;
+  return {
+    mode: input.electionId === null ? 'new' : 'edit',
+    action: input.electionId === null ? base : `${base}/edit`,
+    guidanceAction: `${base}/guidance`,
+    values,
+    errors,
+    summary: summaryOf(errors, fieldAnchor),
+    zones: timeZones(),
+    guidance: guidanceFor({ epsilon: values.epsilon, options: filled, seats, neighbour: values.neighbour === 'add-remove' ? 'add-remove' : 'replace-one', expectedVoters: voters }),
+    ambiguous: input.ambiguous ?? [],
+    canAddRows: values.options.length < input.maxRows,
+  };
+}

@@ -1,0 +1,93 @@
+import { Router, type Response } from 'express';
+import { createElection } from '../../../elections/createElection.ts';
+import { ownedElection } from '../../../elections/electionAccess.ts';
+import { ElectionLocked } from '../../../elections/errors.ts';
+import { listElections } from '../../../elections/listElections.ts';
+import { isEditable } from '../../../elections/status.ts';
+import { updateDraft } from '../../../elections/updateDraft.ts';
+import { InvalidInput } from '../../../errors.ts';
+import type { AppDeps } from '../../deps.ts';
+import { electionListView } from '../../presenters/electionList.ts';
+import { blankValues, electionFormView, valuesFromElection } from '../../presenters/electionForm.ts';
+import { organiserOf } from './auth.ts';
+import { draftFromValues, intentSchema, MAX_ROWS, readElectionForm, readPassphrase, type ElectionFormValues } from './electionSchema.ts';
+import { errorsFrom, type FieldErrors } from './forms.ts';
+
+/** The elections list, the new-election form, the draft editor and the guidance refresh. */
+export function electionRoutes(deps: AppDeps): Router {
+  const router = Router();
+  const { ctx } = deps;
+
+  function renderForm(res: Response, status: number, electionId: string | null, values: ElectionFormValues, extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number } = {}) {
+    const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, ...extra });
+    res.status(status).render('organise/election-form', {
+      title: electionId === null ? 'New election' : 'Edit the draft',
+      form,
+      errors: form.errors,
+      electionId,
+    });
+  }
+
+  /** The organiser's own draft; anything else is 404 (not theirs) or ElectionLocked (opened). */
+  async function ownDraft(res: Response, id: string) {
+    const e = await ownedElection(ctx.knex, id, organiserOf(res).id, { lock: false });
+    res.locals.electionId = e.id; // for the ElectionLocked page's link back
+    if (!isEditable(e)) throw new ElectionLocked();
+    return e;
+  }
+
+  router.get('/organise', async (_req, res) => {
+    const rows = await listElections(ctx, { organiserId: organiserOf(res).id });
+    res.render('organise/elections', { title: 'Your elections', ...electionListView(rows) });
+  });
+
+  router.get('/organise/elections/new', (_req, res) => {
+    renderForm(res, 200, null, blankValues(ctx.now()));
+  });
+
+  router.post('/organise/elections/new', async (req, res) => {
+    const values = readElectionForm(req.body);
+    const { draft, errors, ambiguous } = draftFromValues(values);
+    const pass = readPassphrase(req.body);
+    const all = { ...errors, ...pass.errors };
+    if (!draft || Object.keys(all).length > 0) return renderForm(res, 400, null, values, { errors: all, ambiguous });
+    try {
+      const { electionId } = await createElection(ctx, { organiserId: organiserOf(res).id, draft, passphrase: pass.passphrase });
+      res.redirect(303, `/organise/elections/${electionId}`);
+    } catch (e) {
+      if (!(e instanceof InvalidInput)) throw e;
+      renderForm(res, 400, null, values, { errors: errorsFrom(e), ambiguous });
+    }
+  });
+
+  router.get('/organise/elections/:id/edit', async (req, res) => {
+    const e = await ownDraft(res, req.params.id);
+    renderForm(res, 200, e.id, valuesFromElection(e));
+  });
+
+  router.post('/organise/elections/:id/edit', async (req, res) => {
+    const e = await ownDraft(res, req.params.id);
+    const values = readElectionForm(req.body);
+    const { draft, errors, ambiguous } = draftFromValues(values);
+    if (!draft) return renderForm(res, 400, e.id, values, { errors, ambiguous });
+    try {
+      await updateDraft(ctx, { electionId: e.id, organiserId: organiserOf(res).id, draft });
+      res.redirect(303, `/organise/elections/${e.id}`);
+    } catch (err) {
+      if (!(err instanceof InvalidInput)) throw err;
+      renderForm(res, 400, e.id, values, { errors: errorsFrom(err), ambiguous });
+    }
+  });
+
+  /** Re-renders the form with fresh ε guidance or more option rows; changes nothing stored. */
+  router.post('/organise/elections/:id/guidance', async (req, res) => {
+    const electionId = req.params.id === 'new' ? null : (await ownDraft(res, req.params.id)).id;
+    const values = readElectionForm(req.body);
+    const intent = intentSchema.parse(req.body?.intent);
+    const addRows = intent === 'more-rows-5' ? 5 : intent === 'more-rows-25' ? 25 : 0;
+    const { ambiguous } = draftFromValues(values);
+    renderForm(res, 200, electionId, values, { addRows, ambiguous });
+  });
+
+  return router;
+}

@@ -1,0 +1,128 @@
+import { z } from 'zod';
+import { InvalidInput } from '../../../errors.ts';
+import { tallyPassphraseSchema } from '../../../custody/index.ts';
+import { checkDraft, DRAFT_LIMITS, type DraftInput } from '../../../elections/draft.ts';
+import { zonedToUtc } from '../../../elections/time.ts';
+import { field, fields, type FieldErrors } from './forms.ts';
+
+type Body = Record<string, unknown> | undefined;
+
+/** The election form exactly as typed: strings only, so a re-render shows what was entered. */
+export interface ElectionFormValues {
+  title: string;
+  description: string;
+  options: { label: string; description: string }[];
+  seats: string;
+  epsilon: string;
+  neighbour: string;
+  expectedVoters: string;
+  opensAt: string;
+  closesAt: string;
+  timeZone: string;
+  publishTurnout: 'yes' | 'no';
+  retention: 'shred' | 'keep';
+  retentionDays: string;
+}
+
+/** Rows beyond this are never rendered or read; the option limit itself is checked by the draft rules. */
+export const MAX_ROWS = DRAFT_LIMITS.optionsMax + 20;
+const cut = (s: string, n: number) => s.slice(0, n);
+
+export function readElectionForm(body: Body): ElectionFormValues {
+  const labels = fields(body, 'optionLabel', MAX_ROWS);
+  const descriptions = fields(body, 'optionDescription', MAX_ROWS);
+  const rows = Math.max(labels.length, descriptions.length);
+  return {
+    title: cut(field(body, 'title'), 1000),
+    description: cut(field(body, 'description'), 20_000),
+    options: Array.from({ length: rows }, (_, i) => ({ label: cut(labels[i] ?? '', 1000), description: cut(descriptions[i] ?? '', 2000) })),
+    seats: cut(field(body, 'seats'), 20),
+    epsilon: cut(field(body, 'epsilon'), 20),
+    neighbour: field(body, 'neighbour') === 'add-remove' ? 'add-remove' : 'replace-one',
+    expectedVoters: cut(field(body, 'expectedVoters'), 20),
+    opensAt: cut(field(body, 'opensAt'), 40),
+    closesAt: cut(field(body, 'closesAt'), 40),
+    timeZone: cut(field(body, 'timeZone'), 64),
+    publishTurnout: field(body, 'publishTurnout') === 'yes' ? 'yes' : 'no',
+    retention: field(body, 'retention') === 'keep' ? 'keep' : 'shred',
+    retentionDays: cut(field(body, 'retentionDays'), 20),
+  };
+}
+
+const wholeNumber = (s: string): number | null => (/^\s*\d{1,9}\s*$/.test(s) ? Number(s.trim()) : null);
+
+/**
+ * Turns the typed values into a DraftInput and checks it with the election rules
+ * (checkDraft), mapping every issue back to the field, and option row, it came from.
+ */
+export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | null; errors: FieldErrors; ambiguous: ('opensAt' | 'closesAt')[] } {
+  const errors: FieldErrors = {};
+  const rowOf: number[] = [];
+  const options: DraftInput['options'] = [];
+  v.options.forEach((o, row) => {
+    if (o.label.trim() === '' && o.description.trim() === '') return; // blank rows are spare rows
+    rowOf.push(row);
+    options.push({ label: o.label, description: o.description });
+  });
+  const seats = wholeNumber(v.seats);
+  if (seats === null) errors.seats = 'Give the number of seats as a whole number, such as 1.';
+  const expectedVoters = wholeNumber(v.expectedVoters);
+  if (expectedVoters === null) errors.expectedVoters = 'Give the number of voters you expect, as a whole number, such as 40.';
+  const retentionDays = v.retention === 'keep' ? wholeNumber(v.retentionDays) : null;
+  if (v.retention === 'keep' && retentionDays === null) errors.retentionDays = 'Give the number of days as a whole number from 1 to 90.';
+  const ambiguous: ('opensAt' | 'closesAt')[] = [];
+  const times: Record<'opensAt' | 'closesAt', Date | null> = { opensAt: null, closesAt: null };
+  for (const key of ['opensAt', 'closesAt'] as const) {
+    const r = zonedToUtc(v[key], v.timeZone);
+    if (r.ok) {
+      times[key] = r.utc;
+      if (r.ambiguous) ambiguous.push(key);
+    } else if (r.reason === 'unknown-zone') errors.timeZone = r.message;
+    else errors[key] = r.message;
+  }
+
+  const candidate: DraftInput = {
+    title: v.title,
+    description: v.description,
+    options,
+    seats: seats ?? 1,
+    epsilon: v.epsilon.trim(),
+    neighbour: v.neighbour === 'add-remove' ? 'add-remove' : 'replace-one',
+    opensAt: times.opensAt ?? new Date(0),
+    closesAt: times.closesAt ?? new Date(1),
+    timeZone: v.timeZone,
+    publishTurnout: v.publishTurnout === 'yes',
+    retentionDays,
+    expectedVoters: expectedVoters ?? 1,
+  };
+  try {
+    const draft = checkDraft(candidate);
+    return Object.keys(errors).length === 0 ? { draft, errors, ambiguous } : { draft: null, errors, ambiguous };
+  } catch (e) {
+    if (!(e instanceof InvalidInput)) throw e;
+    const timesFailed = !times.opensAt || !times.closesAt;
+    for (const issue of e.issues) {
+      const m = /^options\.(\d+)\.(label|description)$/.exec(issue.path);
+      const key = m ? `options.${rowOf[Number(m[1])]}.${m[2]}` : issue.path;
+      if (key in errors || key === '') continue;
+      if (key === 'closesAt' && timesFailed) continue;
+      if (key === 'timeZone' && errors.timeZone) continue;
+      errors[key] = issue.message;
+    }
+    return { draft: null, errors, ambiguous };
+  }
+}
+
+/** The tally passphrase, typed twice. Never echoed back into the form. */
+export function readPassphrase(body: Body): { passphrase: string; errors: FieldErrors } {
+  const passphrase = field(body, 'passphrase');
+  const again = field(body, 'passphraseAgain');
+  const errors: FieldErrors = {};
+  const r = tallyPassphraseSchema.safeParse(passphrase);
+  if (!r.success) errors.passphrase = r.error.issues[0]!.message;
+  else if (passphrase !== again) errors.passphraseAgain = 'The two passphrases are not the same. Type it again in both fields.';
+  return { passphrase, errors };
+}
+
+/** Which button sent the form: save, refresh the guidance, or add spare option rows. */
+export const intentSchema = z.enum(['save', 'guidance', 'more-rows-5', 'more-rows-25']).catch('save');

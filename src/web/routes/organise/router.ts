@@ -1,0 +1,24 @@
+import { Router } from 'express';
+import type { AppDeps } from '../../deps.ts';
+import { accountRoutes } from './accountRoutes.ts';
+import { requireOrganiser } from './auth.ts';
+import { codeRoutes } from './codeRoutes.ts';
+import { dashboardRoutes } from './dashboardRoutes.ts';
+import { electionRoutes } from './electionRoutes.ts';
+import { tallyRoutes } from './tallyRoutes.ts';
+
+/**
+ * The organiser area, /organise/**. First run, sign-in and sign-out come first; every other
+ * path needs a signed-in organiser, and each election is visible only to its owner (404 otherwise).
+ */
+export function organiseRouter(deps: AppDeps): Router {
+  const router = Router();
+  router.use(accountRoutes(deps));
+  router.use('/organise', requireOrganiser(deps));
+  // "new" is matched before ":id", so the order of these matters.
+  router.use(electionRoutes(deps));
+  router.use(codeRoutes(deps));
+  router.use(tallyRoutes(deps));
+  router.use(dashboardRoutes(deps));
+  return router;
+}

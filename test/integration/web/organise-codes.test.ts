@@ -1,0 +1,185 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { Agent } from 'supertest';
+import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
+import { testApp } from '../../helpers/app.ts';
+import { testClock } from '../../helpers/context.ts';
+import { codeHash, generateCode, normaliseCode } from '../../../src/custody/index.ts';
+import { castBallot } from '../../../src/elections/castBallot.ts';
+import type { UseCaseContext } from '../../../src/elections/context.ts';
+import { openElection } from '../../../src/elections/openElection.ts';
+import { csrfFrom, draftElection, makeOrganiser, organiseContext, postForm, signedIn } from './organiseSupport.ts';
+
+// http, so supertest (plain http) gets the ordinary session cookie rather than a Secure one.
+const PUBLIC_URL = 'http://vote.tenants.example:8080';
+
+describe.each(engines)('organiser ballot codes [%s]', (engine) => {
+  let db: TestDatabase;
+  let ctx: UseCaseContext;
+  const clock = testClock('2026-06-01T09:00:00Z');
+  let app: ReturnType<typeof testApp>;
+  let agent: Agent;
+  let other: Agent;
+  let myEmail: string;
+  let id: string;
+  const page = () => `/organise/elections/${id}/codes`;
+  const issue = (fields: Record<string, string>) => postForm(agent, page(), page(), fields);
+  const revoke = (code: string) => postForm(agent, page(), `${page()}/revoke`, { code });
+  let csvCodes: string[] = [];
+
+  beforeAll(async () => {
+    db = await freshDatabase(engine);
+    ctx = organiseContext(db, clock);
+    app = testApp(ctx, { PUBLIC_URL });
+    const me = await makeOrganiser(ctx, 'secretary@tenants.example');
+    myEmail = me.email;
+    const them = await makeOrganiser(ctx, 'chair@tenants.example');
+    agent = await signedIn(app, me.email);
+    other = await signedIn(app, them.email);
+    id = await draftElection(ctx, me.id);
+  });
+  afterAll(async () => {
+    await db.dispose();
+  });
+
+  it('the codes page shows counts and forms, never a code, and is not stored', async () => {
+    const res = await agent.get(page());
+    expect(res.status).toBe(200);
+    expect(res.headers['cache-control']).toBe('no-store');
+    expect(res.text).toContain('0 ballots cast out of 0 codes issued');
+    expect(res.text).toContain(`${PUBLIC_URL}/vote/${id}`);
+    expect(res.text).toContain('Codes are shown only once');
+  });
+
+  it('issues codes as a CSV download with columns code, ballot_url', async () => {
+    const res = await issue({ count: '3', format: 'csv' });
+    expect(res.status).toBe(200);
+    expect(res.headers['content-type']).toBe('text/csv; charset=utf-8');
+    expect(res.headers['content-disposition']).toMatch(/^attachment; filename="?ballot-codes-tenants-repair-fund-\d{8}-\d{4}\.csv"?$/);
+    expect(res.headers['cache-control']).toBe('no-store');
+    // RFC 4180 §2: CRLF line breaks, optional header line.
+    const lines = res.text.split('\r\n');
+    expect(lines[0]).toBe('code,ballot_url');
+    expect(lines[4]).toBe('');
+    const rows = lines.slice(1, 4).map((l) => l.split(','));
+    csvCodes = rows.map((r) => r[0]!);
+    for (const [code, url] of rows) {
+      // 26 Crockford symbols and one mod-37 check symbol (which may be * ~ $ = U), in groups of four.
+      expect(code).toMatch(/^[0-9A-Z]{4}(-[0-9A-Z]{4}){5}-[0-9A-Z]{2}[0-9A-Z*~$=]$/);
+      expect(url).toBe(`${PUBLIC_URL}/vote/${id}`);
+    }
+    // Stored only as keyed hashes: each issued code's hash is present, the code itself nowhere.
+    const stored = await db.knex('ballot_codes').where({ election_id: id }).select('code_hash');
+    expect(stored).toHaveLength(3);
+    const hashes = stored.map((r) => Buffer.from(r.code_hash).toString('hex')).sort();
+    const expected = csvCodes.map((c) => codeHash(ctx.secrets.codePepper, id, normaliseCode(c)).toString('hex')).sort();
+    expect(hashes).toEqual(expected);
+    const dump = JSON.stringify(await db.knex('audit_events').select());
+    for (const c of csvCodes) expect(dump).not.toContain(c);
+  });
+
+  it('issues codes as printable slips with the title, the ballot URL and one code per slip', async () => {
+    const res = await issue({ count: '2', format: 'slips' });
+    expect(res.status).toBe(200);
+    expect(res.headers['cache-control']).toBe('no-store');
+    const slips = res.text.match(/<li class="slip">/g) ?? [];
+    expect(slips).toHaveLength(2);
+    expect(res.text).toContain('Tenants’ repair fund');
+    expect(res.text.match(/class="slip-code code">([0-9A-Z*~$=-]{33})</g)).toHaveLength(2);
+    expect(res.text).toContain(`${PUBLIC_URL}/vote/${id}`);
+    expect(res.text).toContain('shown only this once');
+  });
+
+  it('issues codes as an on-screen list', async () => {
+    const res = await issue({ count: '1', format: 'screen' });
+    expect(res.status).toBe(200);
+    expect(res.headers['cache-control']).toBe('no-store');
+    expect(res.text.match(/<td class="code">[0-9A-Z*~$=-]{33}<\/td>/g)).toHaveLength(1);
+    const dash = await agent.get(`/organise/elections/${id}`);
+    expect(dash.text).toContain('0 ballots cast out of 6 codes issued');
+    expect(dash.text).toContain('Issued 3 ballot codes');
+  });
+
+  it.each([
+    [{ count: '0', format: 'csv' }, 'count', 'at least 1 code'],
+    [{ count: '100001', format: 'csv' }, 'count', 'at most 100,000'],
+    [{ count: 'ten', format: 'csv' }, 'count', 'whole number'],
+    [{ count: '5', format: 'pdf' }, 'format', 'Choose how you want the codes'],
+  ])('refuses %j and keeps the values', async (fields, key, message) => {
+    const before = (await db.knex('ballot_codes').where({ election_id: id })).length;
+    const res = await issue(fields);
+    expect(res.status).toBe(400);
+    expect(res.text).toContain(`href="#${key}"`);
+    expect(res.text).toContain(message);
+    expect((await db.knex('ballot_codes').where({ election_id: id })).length).toBe(before);
+  });
+
+  it('needs a CSRF token to issue or withdraw', async () => {
+    expect((await agent.post(page()).type('form').send({ count: '2', format: 'csv' })).status).toBe(403);
+    expect((await agent.post(`${page()}/revoke`).type('form').send({ code: csvCodes[0] })).status).toBe(403);
+  });
+
+  describe('withdrawing', () => {
+    it('withdraws an unused code, pasted in lower case with spaces', async () => {
+      const pasted = ` ${csvCodes[0]!.toLowerCase().replace(/-/g, ' ')} `;
+      const res = await revoke(pasted);
+      expect(res.status).toBe(303);
+      expect(res.headers.location).toBe(`${page()}?revoked=1`);
+      expect(res.headers.location).not.toContain(csvCodes[0]!);
+      const hash = codeHash(ctx.secrets.codePepper, id, normaliseCode(csvCodes[0]!));
+      expect((await db.knex('ballot_codes').where({ election_id: id, code_hash: hash }).first()).revoked).toBe(true);
+      const after = await agent.get(`${page()}?revoked=1`);
+      expect(after.text).toContain('Code withdrawn');
+      expect(after.text).toContain('(1 withdrawn)');
+    });
+
+    it.each([
+      ['hello', 400, 'That is not a ballot code'],
+      ['', 400, 'Type or paste the code'],
+    ])('refuses %j with %d', async (code, status, message) => {
+      const res = await revoke(code);
+      expect(res.status).toBe(status);
+      expect(res.text).toContain(message);
+    });
+
+    it('spots a typing slip through the check symbol', async () => {
+      const c = csvCodes[1]!;
+      const slip = c.slice(0, 5) + (c[5] === 'A' ? 'B' : 'A') + c.slice(6);
+      const res = await revoke(slip);
+      expect(res.status).toBe(400);
+      expect(res.text).toContain('typing mistake');
+      expect(res.text).toContain(`value="${slip}"`);
+    });
+
+    it('says when a code was not issued for this election', async () => {
+      const res = await revoke(generateCode(ctx.random).display);
+      expect(res.status).toBe(404);
+      expect(res.text).toContain('not issued for this election');
+    });
+
+    it('cannot withdraw a code that has been used', async () => {
+      clock.set('2026-06-10T09:00:00Z');
+      agent = await signedIn(app, myEmail); // the jump passed the 12-hour session limit
+      other = await signedIn(app, 'chair@tenants.example');
+      await openElection(ctx, { electionId: id, organiserId: (await db.knex('elections').where({ id }).first()).owner_id, mode: 'now' });
+      await castBallot(ctx, { electionId: id, code: csvCodes[2]!, approvals: [1] });
+      const res = await revoke(csvCodes[2]!);
+      expect(res.status).toBe(409);
+      expect(res.text).toContain('already been used to vote');
+    });
+  });
+
+  it('another organiser gets 404', async () => {
+    expect((await other.get(page())).status).toBe(404);
+    const token = await csrfFrom(other, '/organise');
+    expect((await other.post(page()).type('form').send({ _csrf: token, count: '2', format: 'csv' })).status).toBe(404);
+    expect((await other.post(`${page()}/revoke`).type('form').send({ _csrf: token, code: csvCodes[1] })).status).toBe(404);
+  });
+
+  it('refuses to issue codes once voting has closed', async () => {
+    clock.set('2026-06-12T17:00:00Z');
+    agent = await signedIn(app, myEmail);
+    const res = await issue({ count: '2', format: 'csv' });
+    expect(res.status).toBe(409);
+    expect(res.text).toContain('before voting closes');
+  });
+});
