@@ -62,6 +62,13 @@ async function voteThrough(page: Page, f: ElectionFixture, code: string, tick: s
   return page.locator('p.receipt').innerText();
 }
 
+it('the axe check itself reports an unlabelled field (control: the audit can fail)', async () => {
+  const { context, page } = await newPage(DESKTOP);
+  await page.setContent('<!doctype html><html lang="en"><head><title>Control</title></head><body><main><h1>Form</h1><input type="text"></main></body></html>');
+  expect((await seriousViolations(page)).some((v) => v.includes(' label:'))).toBe(true);
+  await context.close();
+});
+
 describe('member pages in Chromium', () => {
   let f: ElectionFixture;
   const receipts: string[] = [];
