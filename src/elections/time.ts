@@ -167,3 +167,16 @@ export function describeDuration(ms: number): string {
   if (hours > 0) return mins > 0 ? `${unit(hours, 'hour')} ${unit(mins, 'minute')}` : unit(hours, 'hour');
   return minutes > 0 ? unit(mins, 'minute') : 'less than a minute';
 }
+
+/** "1 Dec 2026, 22:47" in `zone`: for tables whose caption already names the zone. */
+export function shortInstant(instant: Date, zone: string): string {
+  return new Intl.DateTimeFormat('en-GB', {
+    timeZone: zone,
+    day: 'numeric',
+    month: 'short',
+    year: 'numeric',
+    hour: '2-digit',
+    minute: '2-digit',
+    hourCycle: 'h23',
+  }).format(instant);
+}

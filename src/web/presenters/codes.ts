@@ -25,6 +25,7 @@ export function codesCsv(codes: readonly string[], url: string): string {
 export function codesFileName(title: string, now: Date): string {
   const slug = title
     .normalize('NFKD')
+    .replace(/\p{M}/gu, '') // accents split off by NFKD
     .toLowerCase()
     .replace(/[^a-z0-9]+/g, '-')
     .replace(/^-+|-+$/g, '')

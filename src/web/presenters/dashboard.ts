@@ -1,7 +1,7 @@
 import type { Dashboard } from '../../elections/dashboard.ts';
 import type { AuditRow } from '../../elections/audit.ts';
 import { STATUS_LABELS, canCloseEarly, canTally, isEditable } from '../../elections/status.ts';
-import { describeDuration, describeInstant } from '../../elections/time.ts';
+import { describeDuration, describeInstant, shortInstant } from '../../elections/time.ts';
 import { electorateWarning, noticeClass, type ElectorateWarning } from './electorate.ts';
 
 const plural = (n: number, word: string) => `${n.toLocaleString('en')} ${word}${n === 1 ? '' : 's'}`;
@@ -62,6 +62,7 @@ export interface DashboardView {
   can: { edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean };
   events: { iso: string; when: string; who: string; what: string }[];
   resultsPath: string;
+  timeZone: string;
 }
 
 export function dashboardView(d: Dashboard): DashboardView {
@@ -105,10 +106,11 @@ export function dashboardView(d: Dashboard): DashboardView {
     },
     events: [...d.events].reverse().map((ev) => ({
       iso: ev.at.toISOString(),
-      when: describeInstant(ev.at, e.timeZone),
+      when: shortInstant(ev.at, e.timeZone),
       who: ev.organiserEmail ?? 'automatic',
       what: eventText(ev, e.timeZone),
     })),
     resultsPath: `/results/${e.id}`,
+    timeZone: e.timeZone,
   };
 }

@@ -16,7 +16,7 @@ export interface MarginChart {
   desc: string;
 }
 
-const W = 560;
+const W = 480;
 const H = 260;
 const PLOT = { left: 52, top: 14, right: W - 18, bottom: H - 46 };
 
