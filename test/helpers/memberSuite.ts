@@ -1,0 +1,89 @@
+import { afterAll, beforeAll, beforeEach } from 'vitest';
+import request from 'supertest';
+import type { Express } from 'express';
+import type { UseCaseContext } from '../../src/elections/context.ts';
+import type { Engine } from '../../src/db/knex.ts';
+import { testApp } from './app.ts';
+import { testClock, testContext, type TestClock } from './context.ts';
+import { freshDatabase, type TestDatabase } from './databases.ts';
+import { findElection } from '../../src/elections/electionRepo.ts';
+import type { PrivacyStatement } from '../../src/mechanism/index.ts';
+import {
+  castAll,
+  createOrganiser,
+  csrfFrom,
+  formBody,
+  openElectionFixture,
+  tallyFixture,
+  type ElectionFixture,
+  type FixtureOptions,
+} from './fixtures.ts';
+
+export const SUITE_START = '2026-06-01T09:00:00Z';
+export const DAY = 24 * 3600_000;
+export type Agent = ReturnType<typeof request.agent>;
+
+export interface MemberSuite {
+  readonly ctx: UseCaseContext;
+  readonly app: Express;
+  readonly organiserId: string;
+  readonly clock: TestClock;
+  /** A member's browser: a cookie jar that has loaded the code entry page, and its CSRF token. */
+  begin(f: ElectionFixture): Promise<{ agent: Agent; csrf: string; html: string }>;
+  post(agent: Agent, path: string, fields: Record<string, string | string[] | undefined>): ReturnType<Agent['post']>;
+  /** Opens, casts these ballots (option positions), moves past the close, tallies and (by default) publishes. */
+  decided(ballots: number[][], o?: FixtureOptions, publish?: boolean): Promise<Decided>;
+}
+
+export interface Decided {
+  f: ElectionFixture;
+  receipts: string[];
+  winners: string[];
+  statement: PrivacyStatement;
+}
+
+/**
+ * One fresh database and app per describe block (call inside describe.each(engines)); the
+ * clock is reset to SUITE_START before each test so tests can move it across opening and closing.
+ */
+export function useMemberSuite(engine: Engine): MemberSuite {
+  let db: TestDatabase;
+  const clock = testClock(SUITE_START);
+  const state = {} as { ctx: UseCaseContext; app: Express; organiserId: string };
+  beforeAll(async () => {
+    db = await freshDatabase(engine);
+    state.ctx = testContext(db, { now: clock.now });
+    state.app = testApp(state.ctx);
+    state.organiserId = await createOrganiser(state.ctx);
+  });
+  afterAll(async () => {
+    await db?.dispose();
+  });
+  beforeEach(() => clock.set(SUITE_START));
+  return {
+    get ctx() {
+      return state.ctx;
+    },
+    get app() {
+      return state.app;
+    },
+    get organiserId() {
+      return state.organiserId;
+    },
+    clock,
+    async begin(f) {
+      const agent = request.agent(state.app);
+      const res = await agent.get(`/vote/${f.id}`).expect(200);
+      return { agent, csrf: csrfFrom(res.text), html: res.text };
+    },
+    post: (agent, path, fields) => agent.post(path).type('form').send(formBody(fields)),
+    async decided(ballots, o = {}, publish = true) {
+      const f = await openElectionFixture(state.ctx, state.organiserId, { codes: Math.max(ballots.length, 1), ...o });
+      const receipts = await castAll(state.ctx, f, ballots);
+      clock.advance(8 * DAY);
+      const winners = await tallyFixture(state.ctx, f, publish);
+      const e = await findElection(state.ctx.knex, f.id);
+      return { f, receipts, winners, statement: (e!.result as { statement: PrivacyStatement }).statement };
+    },
+  };
+}

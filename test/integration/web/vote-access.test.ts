@@ -1,0 +1,84 @@
+import { describe, expect, it } from 'vitest';
+import request from 'supertest';
+import { countTurnout } from '../../../src/elections/turnout.ts';
+import { engines } from '../../helpers/databases.ts';
+import { createDraft, openElectionFixture } from '../../helpers/fixtures.ts';
+import { useMemberSuite, SUITE_START, DAY } from '../../helpers/memberSuite.ts';
+
+/** Opening and closing times (moved with the test clock), unknown and draft elections, tampered ballots and CSRF. */
+describe.each(engines)('member voting, timing and access [%s]', (engine) => {
+  const s = useMemberSuite(engine);
+  const { begin, post, clock } = s;
+
+  it('before the opening time the page says voting has not started (409)', async () => {
+    const opensAt = new Date(Date.parse(SUITE_START) + DAY);
+    const f = await openElectionFixture(s.ctx, s.organiserId, { opensAt, closesAt: new Date(opensAt.getTime() + DAY) });
+    const res = await request(s.app).get(`/vote/${f.id}`).expect(409);
+    expect(res.text).toContain('Voting has not started yet');
+    expect(res.text).toContain(`datetime="${opensAt.toISOString()}"`);
+    clock.set(opensAt);
+    const { agent, csrf } = await begin(f);
+    clock.set(new Date(opensAt.getTime() - 1000)); // a code check a second early is refused too
+    const early = await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code: f.codes[0]! }).expect(409);
+    expect(early.text).toContain('Voting has not started yet');
+  });
+
+  it('after the closing time the page says voting has closed (409) and links to the result', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    clock.advance(8 * DAY);
+    const res = await request(s.app).get(`/vote/${f.id}`).expect(409);
+    expect(res.text).toContain('Voting has closed');
+    expect(res.text).toContain(`href="/results/${f.id}"`);
+  });
+
+  it('when voting closes between steps, the member is told clearly the ballot was not counted', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const { agent, csrf } = await begin(f);
+    const code = f.codes[0]!;
+    await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code }).expect(200);
+    clock.advance(7 * DAY); // exactly the closing instant: closed (acceptsBallotsAt is now < closesAt)
+    for (const step of ['confirm', 'cast']) {
+      const res = await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code, approve: ['1'] }).expect(409);
+      expect(res.text).toContain('Voting has closed');
+      expect(res.text).toContain('Your ballot was not counted');
+    }
+    expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
+  });
+
+  it('a ballot that names positions the election does not have is refused (422), nothing cast', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const { agent, csrf } = await begin(f);
+    const code = f.codes[0]!;
+    for (const approve of [['4'], ['1', '1'], ['-1'], ['one'], ['01']]) {
+      const res = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code, approve }).expect(422);
+      expect(res.text).toContain('That ballot could not be read');
+    }
+    expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
+  });
+
+  it('unknown, malformed and draft election ids are 404 (drafts are not shown to members)', async () => {
+    const draft = await createDraft(s.ctx, s.organiserId);
+    for (const id of ['00000000-0000-4000-8000-000000000000', 'not-an-id', draft.id]) {
+      const res = await request(s.app).get(`/vote/${id}`).expect(404);
+      expect(res.text).toContain('We could not find that election.');
+    }
+    const { csrf, agent } = await begin(await openElectionFixture(s.ctx, s.organiserId));
+    await post(agent, `/vote/${draft.id}/ballot`, { _csrf: csrf, code: draft.codes[0]! }).expect(404);
+    await post(agent, `/vote/${draft.id}/cast`, { _csrf: csrf, code: draft.codes[0]!, approve: '0' }).expect(404);
+  });
+
+  it('refuses every POST without a valid CSRF token (403) and casts nothing', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const { agent, csrf } = await begin(f);
+    const code = f.codes[0]!;
+    for (const step of ['ballot', 'confirm', 'cast']) {
+      await post(agent, `/vote/${f.id}/${step}`, { code, approve: '0' }).expect(403);
+      await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf.replace(/^./, (c) => (c === 'a' ? 'b' : 'a')), code, approve: '0' }).expect(403);
+      // A token from another session is no good either.
+      const { csrf: foreign } = await begin(f);
+      await post(agent, `/vote/${f.id}/${step}`, { _csrf: foreign, code, approve: '0' }).expect(403);
+    }
+    expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
+  });
+
+});
