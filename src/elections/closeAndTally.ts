@@ -67,7 +67,12 @@ export async function closeAndTally(
       ballots = tally.ballots;
       try {
         if (tally.unreadable > 0) throw new BallotUnreadable(tally.unreadable, tally.ballots);
-        winners = ballots === 0 ? null : draw.draw(Array.from(tally.counts), ctx.random);
+        const scores = Array.from(tally.counts);
+        try {
+          winners = ballots === 0 ? null : draw.draw(scores, ctx.random);
+        } finally {
+          scores.fill(0);
+        }
       } finally {
         tally.counts.fill(0);
       }
