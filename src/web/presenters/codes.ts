@@ -1,5 +1,5 @@
 import type { Election } from '../../elections/electionRepo.ts';
-import { describeInstant } from '../../elections/time.ts';
+import { describeInstant } from '../../elections/timeText.ts';
 
 /** Where members vote; printed on slips and in the CSV. */
 export const ballotUrl = (publicUrl: string, electionId: string): string => `${publicUrl}/vote/${electionId}`;

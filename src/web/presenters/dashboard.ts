@@ -1,7 +1,7 @@
 import type { Dashboard } from '../../elections/dashboard.ts';
 import type { AuditRow } from '../../elections/audit.ts';
 import { STATUS_LABELS, canCloseEarly, canTally, isEditable } from '../../elections/status.ts';
-import { describeDuration, describeInstant, shortInstant } from '../../elections/time.ts';
+import { describeDuration, describeInstant, shortInstant } from '../../elections/timeText.ts';
 import { electorateWarning, noticeClass, type ElectorateWarning } from './electorate.ts';
 
 const plural = (n: number, word: string) => `${n.toLocaleString('en')} ${word}${n === 1 ? '' : 's'}`;

@@ -1,6 +1,6 @@
 import type { ElectionSummary } from '../../elections/draftRepo.ts';
 import { STATUS_LABELS, type ElectionStatus } from '../../elections/status.ts';
-import { describeInstant } from '../../elections/time.ts';
+import { describeInstant } from '../../elections/timeText.ts';
 
 export interface ElectionListView {
   elections: { id: string; title: string; status: ElectionStatus; statusLabel: string; opens: string; closes: string }[];

@@ -1,13 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import {
-  describeDuration,
-  isTimeZone,
-  offsetLabel,
-  parseWallClock,
-  timeZones,
-  utcToWallClockText,
-  zonedToUtc,
-} from '../../../src/elections/time.ts';
+import { isTimeZone, parseWallClock, timeZones, utcToWallClockText, zonedToUtc } from '../../../src/elections/time.ts';
+import { describeDuration, describeInstant, offsetLabel, shortInstant } from '../../../src/elections/timeText.ts';
 
 /**
  * Known offsets from the tz database (IANA tzdata, files `europe` and `northamerica`):
@@ -101,6 +94,12 @@ describe('round trip and display', () => {
     expect(offsetLabel(new Date('2026-10-25T00:30:00Z'), 'Europe/London')).toBe('UTC+01:00');
     expect(offsetLabel(new Date('2026-10-25T01:30:00Z'), 'Europe/London')).toBe('UTC+00:00');
     expect(offsetLabel(new Date('2026-11-01T06:30:00Z'), 'America/New_York')).toBe('UTC−05:00');
+  });
+
+  it('names the offset and zone in words, so both 01:30s of a fall-back night are told apart', () => {
+    expect(describeInstant(new Date('2026-10-25T00:30:00Z'), 'Europe/London')).toBe('Sun, 25 Oct 2026, 01:30 (UTC+01:00, Europe/London)');
+    expect(describeInstant(new Date('2026-10-25T01:30:00Z'), 'Europe/London')).toBe('Sun, 25 Oct 2026, 01:30 (UTC+00:00, Europe/London)');
+    expect(shortInstant(new Date('2026-06-10T08:00:00Z'), 'Europe/London')).toBe('10 Jun 2026, 09:00');
   });
 });
 

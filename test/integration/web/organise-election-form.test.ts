@@ -1,0 +1,179 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import request from 'supertest';
+import type { Agent } from 'supertest';
+import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
+import { testApp } from '../../helpers/app.ts';
+import { testClock } from '../../helpers/context.ts';
+import { findElection } from '../../../src/elections/electionRepo.ts';
+import { createElectionViaForm, csrfFrom, electionForm, encode, makeOrganiser, organiseContext, PASSPHRASE, postForm, signedIn } from './organiseSupport.ts';
+
+describe.each(engines)('organiser election form: create and guidance [%s]', (engine) => {
+  let db: TestDatabase;
+  const clock = testClock('2026-06-01T09:00:00Z');
+  let app: ReturnType<typeof testApp>;
+  let agent: Agent;
+  let other: Agent;
+  beforeAll(async () => {
+    db = await freshDatabase(engine);
+    const ctx = organiseContext(db, clock);
+    app = testApp(ctx);
+    const me = await makeOrganiser(ctx, 'captain@rowing.example');
+    const them = await makeOrganiser(ctx, 'treasurer@rowing.example');
+    agent = await signedIn(app, me.email);
+    other = await signedIn(app, them.email);
+  });
+  afterAll(async () => {
+    await db.dispose();
+  });
+
+  const create = (overrides: Record<string, string | string[]> = {}) => postForm(agent, '/organise/elections/new', '/organise/elections/new', electionForm(overrides));
+
+  it('without a session every page redirects to sign-in with the wanted path', async () => {
+    for (const path of ['/organise', '/organise/elections/new', '/organise/elections/00000000-0000-4000-8000-000000000000/edit']) {
+      const res = await request(app).get(path);
+      expect(res.status).toBe(303);
+      expect(res.headers.location).toBe(`/organise/sign-in?next=${encodeURIComponent(path)}`);
+    }
+  });
+
+  it('lists nothing at first, and offers a new election', async () => {
+    const res = await agent.get('/organise');
+    expect(res.status).toBe(200);
+    expect(res.text).toContain('You have no elections yet');
+    expect(res.text).toContain('href="/organise/elections/new"');
+  });
+
+  it('the new form has guidance, a chart with a text alternative, and no passphrase value', async () => {
+    const res = await agent.get('/organise/elections/new');
+    expect(res.status).toBe(200);
+    expect(res.text).toContain('<option value="Europe/London">');
+    expect(res.text).toContain('<option value="UTC" selected>');
+    expect(res.text).toMatch(/id="passphrase" name="passphrase" value=""/);
+    expect(res.text).toContain('Enter at least two options');
+    expect(res.text).toContain('Nobody can recover this passphrase');
+  });
+
+  it('creates a draft from a valid form: UTC times, trimmed labels, escaped text kept with line breaks', async () => {
+    const id = await createElectionViaForm(agent, {
+      title: 'Name <the> new boat',
+      optionLabel: ['  Heron ', 'Kingfisher', '', 'Otter'],
+      optionDescription: ['', 'A fast <b>river</b> bird', '', ''],
+    });
+    const e = (await findElection(db.knex, id))!;
+    expect(e.state).toBe('draft');
+    // Europe/London is BST (UTC+1) in June (tzdata `europe`, Rule EU …Mar lastSun 1:00u).
+    expect(e.opensAt.toISOString()).toBe('2026-06-10T08:00:00.000Z');
+    expect(e.closesAt.toISOString()).toBe('2026-06-12T17:00:00.000Z');
+    expect(e.options.map((o) => o.label)).toEqual(['Heron', 'Kingfisher', 'Otter']);
+    expect(e.retentionDays).toBeNull();
+    expect(e.publishTurnout).toBe(false);
+    expect(e.expectedVoters).toBe(40);
+    expect(e.publicKey).not.toBeNull();
+    // The passphrase is used once to wrap the key and never stored.
+    const row = await db.knex('elections').where({ id }).first();
+    expect(JSON.stringify(row)).not.toContain(PASSPHRASE);
+    const dash = await agent.get(`/organise/elections/${id}`);
+    expect(dash.status).toBe(200);
+    expect(dash.text).toContain('Name &lt;the&gt; new boat');
+    expect(dash.text).toContain('A fast &lt;b&gt;river&lt;/b&gt; bird');
+    expect(dash.text).toContain('class="prose">The club bought a new coxed four.\nPick every name');
+    expect(dash.text).toContain('Created the election');
+    const list = await agent.get('/organise');
+    expect(list.text).toContain(`href="/organise/elections/${id}"`);
+  });
+
+  it.each([
+    [{ title: '' }, 'title', 'Give the election a title'],
+    [{ optionLabel: ['Heron', '', '', ''], optionDescription: ['', '', '', ''] }, 'options', 'at least 2 options'],
+    [{ optionLabel: ['Heron', ' heron ', 'Otter'] , optionDescription: ['', '', ''] }, 'option-2-label', 'repeats option 1'],
+    [{ optionLabel: ['Heron', 'x'.repeat(121)], optionDescription: ['', ''] }, 'option-2-label', '120 characters'],
+    [{ optionLabel: ['Heron', '', 'Otter'], optionDescription: ['', 'only a description', ''] }, 'option-2-label', 'Give this option a label'],
+    [{ seats: '3' }, 'seats', 'at most 2 seats'],
+    [{ seats: '0' }, 'seats', 'at least 1 seat'],
+    [{ seats: 'two' }, 'seats', 'whole number'],
+    [{ epsilon: '0.001' }, 'epsilon', 'from 0.01 to 10'],
+    [{ epsilon: '11' }, 'epsilon', 'from 0.01 to 10'],
+    [{ epsilon: '1e0' }, 'epsilon', 'from 0.01 to 10'],
+    [{ expectedVoters: '' }, 'expectedVoters', 'number of voters'],
+    [{ closesAt: '2026-06-10T08:00' }, 'closesAt', 'after the opening time'],
+    [{ opensAt: 'next tuesday' }, 'opensAt', 'Enter a date and time'],
+    // 01:30 on 29 March 2026 does not exist in London (tzdata `europe`: Rule EU 1981 max Mar lastSun 1:00u).
+    [{ opensAt: '2026-03-29T01:30', closesAt: '2026-03-30T10:00' }, 'opensAt', 'does not exist in Europe/London'],
+    [{ timeZone: 'Mars/Olympus' }, 'timeZone', 'Choose a time zone'],
+    [{ retention: 'keep', retentionDays: '91' }, 'retentionDays', 'at most 90 days'],
+    [{ retention: 'keep', retentionDays: '' }, 'retentionDays', 'whole number'],
+    [{ passphrase: 'too short', passphraseAgain: 'too short' }, 'passphrase', 'at least 12 characters'],
+    [{ passphraseAgain: 'something else entirely' }, 'passphraseAgain', 'not the same'],
+  ])('refuses %j with a message by the field', async (overrides, fieldId, message) => {
+    const before = Number((await db.knex('elections').count({ n: '*' }).first())!.n);
+    const res = await create(overrides);
+    expect(res.status).toBe(400);
+    expect(res.text).toContain('role="alert"');
+    expect(res.text).toContain(`href="#${fieldId === 'options' ? 'option-1-label' : fieldId}"`);
+    expect(res.text).toContain(message);
+    const typed = (overrides as Record<string, string>).title ?? 'Name the new boat';
+    expect(res.text).toContain(`id="title" name="title" value="${typed}"`); // what was typed is kept
+    expect(res.text).not.toContain(PASSPHRASE);
+    expect(Number((await db.knex('elections').count({ n: '*' }).first())!.n)).toBe(before);
+  });
+
+  it('a time repeated when the clocks go back takes its first occurrence', async () => {
+    // 01:30 on 25 Oct 2026 happens twice in London (tzdata: Rule EU 1996 max Oct lastSun 1:00u): first at 00:30 UTC.
+    const id = await createElectionViaForm(agent, { opensAt: '2026-10-25T01:30', closesAt: '2026-10-26T12:00' });
+    expect((await findElection(db.knex, id))!.opensAt.toISOString()).toBe('2026-10-25T00:30:00.000Z');
+  });
+
+  it('stores the expert neighbour relation, a published turnout and a retention period', async () => {
+    const id = await createElectionViaForm(agent, { neighbour: 'add-remove', publishTurnout: 'yes', retention: 'keep', retentionDays: '14', timeZone: 'America/New_York' });
+    const e = (await findElection(db.knex, id))!;
+    expect(e).toMatchObject({ neighbour: 'add-remove', publishTurnout: true, retentionDays: 14, timeZone: 'America/New_York' });
+    // New York is EDT (UTC−4) in June (tzdata `northamerica`, Rule US 2007 max Mar Sun>=8).
+    expect(e.opensAt.toISOString()).toBe('2026-06-10T13:00:00.000Z');
+    const dash = await agent.get(`/organise/elections/${id}`);
+    expect(dash.text).toContain('how they voted at 2ε');
+    expect(dash.text).toContain('Kept sealed for 14 days');
+  });
+
+  describe('guidance', () => {
+    it('re-renders the new form with the numbers, keeping every value but the passphrase', async () => {
+      const token = await csrfFrom(agent, '/organise/elections/new');
+      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', expectedVoters: '12' }), _csrf: token }));
+      expect(res.status).toBe(200);
+      expect(res.text).toContain('value="Kingfisher"');
+      expect(res.text).toContain('A fast river bird');
+      expect(res.text).not.toContain(PASSPHRASE);
+      // 3 options, ε = 1, replace-one: a = 1/2, P(leader) ≥ 1/(1 + 2e^(−m/2)) (DESIGN §4, margin table);
+      // 95% needs 2e^(−m/2) ≤ 1/19, i.e. m ≥ 2 ln 38 = 7.28, so 8 approvals.
+      expect(res.text).toContain('<strong>8 approvals</strong>');
+      // Dwork & Roth 2014, Cor. 3.12: (2Δ/ε)(ln 3 + ln 20) = 2 · 4.094 = 8.19 (rounded up).
+      expect(res.text).toContain('within 8.19 approvals');
+      expect(res.text).toMatch(/<svg[^>]*role="img"/);
+      expect(res.text).toContain('<title id="chart-title">');
+      expect(res.text).toContain('<desc id="chart-desc">');
+      expect(res.text).toContain('Show these numbers as a table');
+      // 8 approvals needed but only 12 voters expected: more than one in ten (assessElectorate, "noisy").
+      expect(res.text).toContain('Chance may decide a close vote');
+    });
+
+    it('warns that a tiny electorate with a small ε is close to a lottery', async () => {
+      const token = await csrfFrom(agent, '/organise/elections/new');
+      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', epsilon: '0.1', expectedVoters: '10' }), _csrf: token }));
+      expect(res.text).toContain('Close to a lottery');
+    });
+
+    it('adds option rows without saving anything', async () => {
+      const before = Number((await db.knex('elections').count({ n: '*' }).first())!.n);
+      const token = await csrfFrom(agent, '/organise/elections/new');
+      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'more-rows-5' }), _csrf: token }));
+      expect(res.status).toBe(200);
+      expect(res.text).toContain('id="option-9-label"');
+      expect(res.text).not.toContain('id="option-10-label"');
+      expect(Number((await db.knex('elections').count({ n: '*' }).first())!.n)).toBe(before);
+    });
+
+    it('needs a CSRF token', async () => {
+      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode(electionForm({ intent: 'guidance' })));
+      expect(res.status).toBe(403);
+    });
+  });
+});
