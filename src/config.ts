@@ -8,11 +8,16 @@ import path from 'node:path';
 const LOG_LEVELS = ['fatal', 'error', 'warn', 'info', 'debug', 'trace', 'silent'] as const;
 
 const booleanish = z
-  .enum(['true', 'false', '1', '0', 'yes', 'no'])
+  .enum(['true', 'false', '1', '0', 'yes', 'no'], { error: 'must be true or false' })
   .transform((v) => v === 'true' || v === '1' || v === 'yes');
 
 const schema = z.object({
-  PORT: z.coerce.number().int().min(0).max(65535).default(3000),
+  PORT: z.coerce
+    .number({ error: 'must be a port number from 0 to 65535' })
+    .int({ error: 'must be a port number from 0 to 65535' })
+    .min(0, { error: 'must be a port number from 0 to 65535' })
+    .max(65535, { error: 'must be a port number from 0 to 65535' })
+    .default(3000),
   HOST: z.string().min(1).default('127.0.0.1'),
   DATABASE_URL: z
     .string()
@@ -29,7 +34,7 @@ const schema = z.object({
     .regex(/^https?:\/\/[^\s/]+(\/[^\s]*)?$/, 'must be an http:// or https:// address, for example https://vote.example.org')
     .optional(),
   TRUST_PROXY: booleanish.default(false),
-  LOG_LEVEL: z.enum(LOG_LEVELS).default('info'),
+  LOG_LEVEL: z.enum(LOG_LEVELS, { error: `must be one of ${LOG_LEVELS.join(', ')}` }).default('info'),
 });
 
 export type Config = Readonly<{
