@@ -52,6 +52,8 @@ export async function closeAndTally(
       seats: e.seats,
       neighbour: e.neighbour,
     });
+    const optionLabels = e.options.map((o) => o.label);
+    buildStatement({ draw, optionLabels, winners: null, turnout: null, electionTitle: e.title }); // labels, title
     const secretKey = await unwrapElectionKey(parseWrappedKey(e.wrappedKey), input.passphrase, e.id);
     let winners: number[] | null;
     let ballots: number;
@@ -82,7 +84,7 @@ export async function closeAndTally(
 
     const statement = buildStatement({
       draw,
-      optionLabels: e.options.map((o) => o.label),
+      optionLabels,
       winners,
       turnout: e.publishTurnout ? ballots : null,
       electionTitle: e.title,
