@@ -14,6 +14,7 @@ import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import { AlreadyTallied, BallotsShredded, ElectionNotOpen, ElectionStillOpen, TallyKeyMissing } from './errors.ts';
 import { countApprovals } from './tallyCounter.ts';
+import { rewriteVotingRows, vacuumAfterTally } from './unlinkStorage.ts';
 
 /** What elections.result holds: the one draw, its statement and the instance signature over it. */
 export interface StoredResult {
@@ -36,7 +37,7 @@ export async function closeAndTally(
   ctx: UseCaseContext,
   input: { electionId: string; organiserId: string; passphrase: string },
 ): Promise<{ winners: string[]; statement: PrivacyStatement }> {
-  return ctx.knex.transaction(async (trx) => {
+  const outcome = await ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
     const now = ctx.now();
     if (e.state === 'tallied' || e.state === 'published') throw new AlreadyTallied();
@@ -59,6 +60,7 @@ export async function closeAndTally(
     let ballots: number;
     try {
       if (!publicKeyOf(secretKey).equals(e.publicKey)) throw new WrappedKeyInvalid(); // key pair mismatch: never count
+      await rewriteVotingRows(trx, e.id);
       const tally = await countApprovals(trx, {
         electionId: e.id,
         publicKey: e.publicKey,
@@ -111,4 +113,7 @@ export async function closeAndTally(
     await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'tallied' }, now);
     return { winners: labels, statement };
   });
+  // Reclaiming dead row versions is housekeeping: if it fails now, PostgreSQL's autovacuum does it later.
+  await vacuumAfterTally(ctx.knex).catch(() => undefined);
+  return outcome;
 }

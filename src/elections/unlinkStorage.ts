@@ -1,0 +1,40 @@
+import type { Db } from '../db/knex.ts';
+
+/**
+ * PostgreSQL stamps every row version with the id of the transaction that wrote it (xmin),
+ * and appends new versions in write order. Casting spends a code, stores a receipt and
+ * stores a ballot in one transaction, so during voting those three rows share an xmin and
+ * sit in arrival order: with live database access a code could be tied to its ballot.
+ * (PostgreSQL 16 documentation, §5.6 "System Columns" and §73.6 "Heap Only Tuples".)
+ *
+ * Before the tally we rewrite all of an election's ballots, receipts and codes in one
+ * statement each, in an order that carries no information (fresh random keys), so every
+ * current row version has the tally's xmin and a new position. Dead versions remain on disk
+ * until VACUUM reclaims them (vacuumAfterTally); the write-ahead log and backups taken during
+ * voting keep them longer. DEVELOPERS.md ("What the database can reveal") says so.
+ */
+export async function rewriteVotingRows(trx: Db, electionId: string): Promise<void> {
+  await trx.raw(
+    `WITH moved AS (DELETE FROM ballots WHERE election_id = ? RETURNING election_id, sealed, receipt_hash)
+     INSERT INTO ballots (id, election_id, sealed, receipt_hash)
+     SELECT gen_random_uuid(), election_id, sealed, receipt_hash FROM moved ORDER BY gen_random_uuid()`,
+    [electionId],
+  );
+  await trx.raw(
+    `WITH moved AS (DELETE FROM receipts WHERE election_id = ? RETURNING election_id, receipt_hash)
+     INSERT INTO receipts (election_id, receipt_hash)
+     SELECT election_id, receipt_hash FROM moved ORDER BY gen_random_uuid()`,
+    [electionId],
+  );
+  await trx.raw(
+    `WITH moved AS (DELETE FROM ballot_codes WHERE election_id = ? RETURNING election_id, code_hash, spent, revoked)
+     INSERT INTO ballot_codes (election_id, code_hash, spent, revoked)
+     SELECT election_id, code_hash, spent, revoked FROM moved ORDER BY gen_random_uuid()`,
+    [electionId],
+  );
+}
+
+/** Lets PostgreSQL reclaim the dead row versions left by rewriteVotingRows. Runs outside any transaction. */
+export async function vacuumAfterTally(db: Db): Promise<void> {
+  await db.raw('VACUUM ballots, receipts, ballot_codes');
+}
