@@ -1,4 +1,5 @@
 import { deleteExpiredSessions } from './accounts/sessionRepo.ts';
+import { shredDue } from './elections/shred.ts';
 import type { UseCaseContext } from './elections/context.ts';
 import type { Logger } from './log.ts';
 
@@ -7,9 +8,13 @@ export interface Job {
   run(ctx: UseCaseContext): Promise<unknown>;
 }
 
-/** Periodic chores: expired sessions now; later ones (shredding) register here too. */
-export const jobs: Job[] = [
+/**
+ * Periodic chores. Each is safe to run on several app servers at once: shredding locks the
+ * election row, and deleting expired sessions is idempotent.
+ */
+export const jobs: readonly Job[] = [
   { name: 'expire sessions', run: (ctx) => deleteExpiredSessions(ctx.knex, ctx.now()) },
+  { name: 'shred ballots past their retention', run: (ctx) => shredDue(ctx) },
 ];
 
 export function startHousekeeping(ctx: UseCaseContext, logger: Logger, everyMs = 60_000): { stop(): void } {
