@@ -42,9 +42,30 @@ function formatter(zone: string): Intl.DateTimeFormat {
   return f;
 }
 
-/** Every zone the runtime knows, plus UTC (which Intl.supportedValuesOf leaves out). */
+/**
+ * ICU lists some zones under names the tz database has since replaced (its `backward` file keeps
+ * the old ones as links). Organisers look for the current names. From memory; each is used only
+ * if the runtime accepts it.
+ */
+const CURRENT_NAMES: Readonly<Record<string, string>> = {
+  'Asia/Calcutta': 'Asia/Kolkata',
+  'Asia/Katmandu': 'Asia/Kathmandu',
+  'Asia/Rangoon': 'Asia/Yangon',
+  'Asia/Saigon': 'Asia/Ho_Chi_Minh',
+  'Atlantic/Faeroe': 'Atlantic/Faroe',
+  'Europe/Kiev': 'Europe/Kyiv',
+  'America/Godthab': 'America/Nuuk',
+  'Pacific/Enderbury': 'Pacific/Kanton',
+  'Pacific/Ponape': 'Pacific/Pohnpei',
+  'Pacific/Truk': 'Pacific/Chuuk',
+};
+
+/** Every zone the runtime knows under its current name, plus UTC (which Intl.supportedValuesOf leaves out). */
 export function timeZones(): string[] {
-  return ['UTC', ...Intl.supportedValuesOf('timeZone').filter((z) => z !== 'UTC')];
+  const names = Intl.supportedValuesOf('timeZone')
+    .filter((z) => z !== 'UTC')
+    .map((z) => (CURRENT_NAMES[z] && isTimeZone(CURRENT_NAMES[z]) ? CURRENT_NAMES[z] : z));
+  return ['UTC', ...[...new Set(names)].sort((a, b) => a.localeCompare(b, 'en'))];
 }
 
 export function isTimeZone(zone: string): boolean {

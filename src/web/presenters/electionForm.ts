@@ -58,6 +58,11 @@ export function fieldAnchor(key: string): string {
   return key;
 }
 
+function zoneChoices(current: string): string[] {
+  const zones = timeZones();
+  return current && !zones.includes(current) ? [current, ...zones] : zones;
+}
+
 export interface ElectionFormView {
   mode: 'new' | 'edit';
   action: string;
@@ -94,7 +99,8 @@ export function electionFormView(input: {
     values,
     errors,
     summary: summaryOf(errors, fieldAnchor),
-    zones: timeZones(),
+    // A stored zone the list does not show (an older tz name) is still offered, so it stays selected.
+    zones: zoneChoices(values.timeZone),
     guidance: guidanceFor({ epsilon: values.epsilon, options: filled, seats, neighbour: values.neighbour === 'add-remove' ? 'add-remove' : 'replace-one', expectedVoters: voters }),
     ambiguous: input.ambiguous ?? [],
     canAddRows: values.options.length < input.maxRows,

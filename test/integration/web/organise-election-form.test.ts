@@ -134,6 +134,14 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     expect(dash.text).toContain('Kept sealed for 14 days');
   });
 
+  it('a new form starts in the zone of the organiser’s latest election', async () => {
+    clock.advance(60_000);
+    await createElectionViaForm(agent, { timeZone: 'Asia/Kolkata' });
+    const res = await agent.get('/organise/elections/new');
+    expect(res.text).toContain('<option value="Asia/Kolkata" selected>');
+    expect(res.text).not.toContain('<option value="UTC" selected>');
+  });
+
   describe('guidance', () => {
     it('re-renders the new form with the numbers, keeping every value but the passphrase', async () => {
       const token = await csrfFrom(agent, '/organise/elections/new');

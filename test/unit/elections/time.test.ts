@@ -129,6 +129,15 @@ describe('bad input', () => {
     expect(zones).toContain('America/New_York');
     expect(new Set(zones).size).toBe(zones.length);
   });
+
+  it('offers current tz database names where the runtime lists an older one', () => {
+    const zones = timeZones();
+    expect(zones).toContain('Asia/Kolkata');
+    expect(zones).toContain('Europe/Kyiv');
+    expect(zones).not.toContain('Asia/Calcutta');
+    // Both names give the same offset: India is UTC+05:30 all year (tzdata `asia`).
+    expect(zonedToUtc('2026-07-15T12:00', 'Asia/Calcutta')).toEqual(zonedToUtc('2026-07-15T12:00', 'Asia/Kolkata'));
+  });
 });
 
 describe('describeDuration', () => {

@@ -54,4 +54,11 @@ describe('the election form', () => {
     expect(electionFormView({ electionId: null, values: v, addRows: 500, maxRows: 120 }).values.options).toHaveLength(120);
     expect(electionFormView({ electionId: null, values: v, addRows: 500, maxRows: 120 }).canAddRows).toBe(false);
   });
+
+  it('keeps a stored zone selectable even when the list names it differently', () => {
+    const v = { ...readElectionForm(body()), timeZone: 'Asia/Calcutta' };
+    const zones = electionFormView({ electionId: null, values: v, maxRows: 120 }).zones;
+    expect(zones[0]).toBe('Asia/Calcutta');
+    expect(zones).toContain('Asia/Kolkata');
+  });
 });

@@ -41,8 +41,10 @@ export function electionRoutes(deps: AppDeps): Router {
     res.render('organise/elections', { title: 'Your elections', ...electionListView(rows) });
   });
 
-  router.get('/organise/elections/new', (_req, res) => {
-    renderForm(res, 200, null, blankValues(ctx.now()));
+  router.get('/organise/elections/new', async (_req, res) => {
+    // The zone of the organiser's latest election, else UTC: most organisers always use one zone.
+    const [latest] = await listElections(ctx, { organiserId: organiserOf(res).id });
+    renderForm(res, 200, null, blankValues(ctx.now(), latest?.timeZone ?? 'UTC'));
   });
 
   router.post('/organise/elections/new', async (req, res) => {
