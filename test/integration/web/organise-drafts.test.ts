@@ -83,6 +83,9 @@ describe.each(engines)('organiser drafts: edit, ownership, CSRF [%s]', (engine) 
     it('saving without a CSRF token is refused', async () => {
       const res = await agent.post(`/organise/elections/${id}/edit`).type('form').send(encode(electionForm({ title: 'No token' })));
       expect(res.status).toBe(403);
+      const forged = await agent.post(`/organise/elections/${id}/edit`).type('form').send(encode({ ...electionForm({ title: 'Forged token' }), _csrf: 'f'.repeat(128) }));
+      expect(forged.status).toBe(403);
+      expect(forged.text).toContain('not sent by this site');
       expect((await findElection(db.knex, id))!.title).toBe('Choir programme 2026');
     });
 
