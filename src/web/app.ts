@@ -7,6 +7,7 @@ import { absoluteTimeout, csrfLocals, csrfProtection, isSecureSite, sessionMiddl
 import { errorHandler, notFoundHandler } from './middleware/errorHandler.ts';
 import { requestLog } from './middleware/requestLog.ts';
 import { routers } from './routes/index.ts';
+import { resumeExpiredVote } from './routes/vote/resume.ts';
 
 /** Builds the whole site. Never listens: main.ts does, and tests drive the app directly. */
 export function createApp(deps: AppDeps): Express {
@@ -24,9 +25,9 @@ export function createApp(deps: AppDeps): Express {
   app.use(express.urlencoded({ extended: false, limit: '512kb', parameterLimit: 5000 }));
   app.use(sessionMiddleware(deps));
   app.use(absoluteTimeout(deps.ctx.now));
+  app.use(csrfLocals); // before the check, so a page explaining a rejected form can offer a fresh token
   app.use(sameOriginOnly);
   app.use(csrfProtection);
-  app.use(csrfLocals);
   app.use((req, res, next) => {
     res.locals.path = req.path;
     res.locals.signedIn = Boolean(req.session?.organiserId);
@@ -36,7 +37,7 @@ export function createApp(deps: AppDeps): Express {
   for (const make of routers) app.use(make(deps));
 
   app.use(notFoundHandler);
-  app.use(errorHandler(deps.logger));
+  app.use(errorHandler(deps.logger, [resumeExpiredVote]));
   return app;
 }
 

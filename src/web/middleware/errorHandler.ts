@@ -1,6 +1,6 @@
 import fs from 'node:fs';
 import path from 'node:path';
-import type { ErrorRequestHandler, RequestHandler } from 'express';
+import type { ErrorRequestHandler, Request, RequestHandler, Response } from 'express';
 import { isVeiltallyError, NotFound } from '../../errors.ts';
 import type { Logger } from '../../log.ts';
 import { CsrfRejected, PayloadTooLarge } from '../errors.ts';
@@ -12,21 +12,48 @@ function viewFor(code: string): string {
   return fs.existsSync(specific) ? `errors/${code}` : 'errors/problem';
 }
 
+/** A route's way to turn a failure into a page that keeps the user's work (see routes/vote/resume.ts). */
+export type Recovery = (err: unknown, req: Request) => { status: number; view: string; locals: Record<string, unknown> } | null;
+
 export const notFoundHandler: RequestHandler = (_req, _res, next) => next(new NotFound());
 
 /** The one error handler. Messages shown are the typed errors' own, written to be safe to show. */
-export function errorHandler(logger: Logger): ErrorRequestHandler {
+/**
+ * Renders an error page; if that page itself fails to render, answers with a plain line,
+ * so no template error (with its stack and source lines) ever reaches the browser.
+ */
+function renderSafely(res: Response, logger: Logger, view: string, locals: Record<string, unknown>): void {
+  res.render(view, locals, (renderError: Error | null, html?: string) => {
+    if (renderError) {
+      logger.error({ err: { name: renderError.name, message: renderError.message }, view }, 'error page failed to render');
+      if (!res.headersSent) res.status(500).type('text/plain').send('Something went wrong on our side. Please try again in a moment.');
+      return;
+    }
+    res.send(html);
+  });
+}
+
+export function errorHandler(logger: Logger, recoveries: readonly Recovery[] = []): ErrorRequestHandler {
   return (err, req, res, _next) => {
+    if (res.headersSent) return void res.end();
     let error = err;
     const e = err as { code?: string; type?: string; status?: number };
     if (e?.code === 'EBADCSRFTOKEN') error = new CsrfRejected();
     else if (e?.type === 'entity.too.large') error = new PayloadTooLarge();
 
+    for (const recover of recoveries) {
+      const page = recover(error, req);
+      if (page) {
+        res.status(page.status).set('Cache-Control', 'no-store');
+        return renderSafely(res, logger, page.view, page.locals);
+      }
+    }
+
     if (!isVeiltallyError(error)) {
       // Only the error's class and the route are logged: never the body, query or headers.
       logger.error({ err: { name: (err as Error)?.name, message: (err as Error)?.message, stack: (err as Error)?.stack }, method: req.method, route: req.route?.path ?? req.path }, 'unexpected error');
       res.status(500);
-      return res.render('errors/problem', {
+      return renderSafely(res, logger, 'errors/problem', {
         title: 'Something went wrong on our side',
         message: 'The request could not be completed. Nothing you entered has been shown to anyone. Please try again in a moment.',
         status: 500,
@@ -35,7 +62,7 @@ export function errorHandler(logger: Logger): ErrorRequestHandler {
     if (error.status >= 500) logger.error({ code: error.code, route: req.route?.path ?? req.path }, 'server failure');
     res.status(error.status);
     res.set('Cache-Control', 'no-store');
-    res.render(viewFor(error.code), {
+    renderSafely(res, logger, viewFor(error.code), {
       title: titleFor(error.status),
       message: error.message,
       status: error.status,
