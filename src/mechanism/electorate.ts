@@ -30,8 +30,10 @@ export function assessElectorate(draw: ExponentialDraw, expectedVoters: number):
   }
   const margin95 = draw.bounds(0.05).marginFor['0.95'];
   const lead = Math.floor(expectedVoters * PLAUSIBLE_LEAD_FRACTION);
-  const seatWords = draw.seats === 1 ? 'the winner' : 'each seat';
-  const need = `For a 95% chance that the most approved option wins ${seatWords}, it must lead every other option by at least ${margin95} approvals.`;
+  const need =
+    draw.seats === 1
+      ? `For a 95% chance that the most approved option is announced as the winner, it must lead every other option by at least ${margin95} approvals.`
+      : `For a 95% chance that each seat goes to the most approved option still in the running, that option must lead every other remaining option by at least ${margin95} approvals.`;
   if (margin95 > expectedVoters) {
     return {
       level: 'lottery',

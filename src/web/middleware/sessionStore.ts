@@ -19,9 +19,9 @@ export class DatabaseSessionStore extends session.Store {
     super();
   }
 
-  private expiry(sess: session.SessionData): Date {
-    const cookieExpiry = sess.cookie?.expires ? new Date(sess.cookie.expires) : null;
-    return cookieExpiry ?? new Date(this.now().getTime() + this.idleMs);
+  /** Idle expiry from the injected clock (the cookie's own date comes from the wall clock). */
+  private expiry(_sess: session.SessionData): Date {
+    return new Date(this.now().getTime() + this.idleMs);
   }
 
   override get(sid: string, cb: (err: unknown, sess?: session.SessionData | null) => void): void {
