@@ -34,8 +34,9 @@ export interface MemberContext {
 export function voteRouter(deps: AppDeps): Router {
   const router = Router();
   const { ctx } = deps;
-  // Codes carry 128 bits, so this bounds load rather than guessing; a whole meeting may share one address.
-  const codeAttempts = limiter(300, 10 * 60_000, () => new TooManyAttempts('ballot code attempts'));
+  // Codes carry 128 bits, so this bounds load rather than guessing. A whole meeting may share one
+  // address, so only failed steps use up the allowance: members who type their code right never do.
+  const codeAttempts = limiter(300, 10 * 60_000, () => new TooManyAttempts('ballot code attempts'), { countFailuresOnly: true });
 
   router.use('/vote', noStore);
 
@@ -84,7 +85,7 @@ export function voteRouter(deps: AppDeps): Router {
     res.render('vote/ballot', { title: `Your ballot: ${election.title}`, election, code: form.code, ticked: new Set(approvals) });
   });
 
-  router.post('/vote/:id/confirm', async (req, res) => {
+  router.post('/vote/:id/confirm', codeAttempts, async (req, res) => {
     const e = await memberElection(req.params.id);
     const form = ballotForm.parse(req.body ?? {});
     const election = remember(res, e, 'confirm', form.code);
@@ -100,7 +101,7 @@ export function voteRouter(deps: AppDeps): Router {
     });
   });
 
-  router.post('/vote/:id/cast', async (req, res) => {
+  router.post('/vote/:id/cast', codeAttempts, async (req, res) => {
     const e = await memberElection(req.params.id);
     const form = ballotForm.parse(req.body ?? {});
     const election = remember(res, e, 'cast', form.code);
