@@ -59,7 +59,8 @@ export function errorHandler(logger: Logger, recoveries: readonly Recovery[] = [
         status: 500,
       });
     }
-    if (error.status >= 500) logger.error({ code: error.code, route: req.route?.path ?? req.path }, 'server failure');
+    // Logged as errorCode: the logger redacts any field named "code", since ballot codes go by that name.
+    if (error.status >= 500) logger.error({ errorCode: error.code, route: req.route?.path ?? req.path }, 'server failure');
     res.status(error.status);
     res.set('Cache-Control', 'no-store');
     renderSafely(res, logger, viewFor(error.code), {
