@@ -2,19 +2,18 @@ import type { Db } from '../db/knex.ts';
 import { toBuffer, toCount } from '../db/knex.ts';
 
 /**
- * ballots: random id, election, sealed bytes, receipt hash. Nothing else, so no column
- * ties a ballot to a code or to when it arrived (DESIGN §5).
+ * ballots: random id, election, sealed bytes. Nothing else, so no column ties a ballot to
+ * a code, to its receipt (held by the member) or to when it arrived (DESIGN §5).
  */
 
 export interface StoredBallot {
   id: string;
   electionId: string;
   sealed: Buffer;
-  receiptHash: Buffer;
 }
 
 export async function insertBallot(db: Db, b: StoredBallot): Promise<void> {
-  await db('ballots').insert({ id: b.id, election_id: b.electionId, sealed: b.sealed, receipt_hash: b.receiptHash });
+  await db('ballots').insert({ id: b.id, election_id: b.electionId, sealed: b.sealed });
 }
 
 /** Records a receipt hash; false if that hash is already taken in this election (retry with another). */

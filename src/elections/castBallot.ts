@@ -23,7 +23,8 @@ const RECEIPT_ATTEMPTS = 8;
  *     code store exactly one ballot; OWASP ASVS 5.0 2.3.3, 2.3.4, 6.5.1);
  *  2. the ballot is sealed to the election key and stored under a random id with no
  *     timestamp, so nothing ties it to the code or to the order of arrival;
- *  3. a random receipt is stored only as a keyed hash, in the ballot row and in receipts.
+ *  3. a random receipt is stored only as a keyed hash, in receipts and never in the ballot
+ *     row, so showing a receipt later points to no ballot.
  * An empty list of approvals is a valid abstention.
  * Errors: CodeMalformed, CodeTypo (before any lookup), ElectionNotFound, ElectionNotOpen,
  * TallyKeyMissing, InvalidBallot, CodeUnknown, CodeAlreadySpent, CodeRevoked.
@@ -51,7 +52,7 @@ export async function castBallot(
       const rHash = receiptHash(ctx.secrets.codePepper, e.id, receipt);
       // 50-bit receipts can collide in a very large election; draw again instead of failing the cast.
       if (!(await insertReceipt(trx, e.id, rHash))) continue;
-      await insertBallot(trx, { id: randomUuid(ctx.random), electionId: e.id, sealed, receiptHash: rHash });
+      await insertBallot(trx, { id: randomUuid(ctx.random), electionId: e.id, sealed });
       return { receipt };
     }
     throw new Error('could not find a free receipt');

@@ -15,9 +15,9 @@ import type { Db } from '../db/knex.ts';
  */
 export async function rewriteVotingRows(trx: Db, electionId: string): Promise<void> {
   await trx.raw(
-    `WITH moved AS (DELETE FROM ballots WHERE election_id = ? RETURNING election_id, sealed, receipt_hash)
-     INSERT INTO ballots (id, election_id, sealed, receipt_hash)
-     SELECT gen_random_uuid(), election_id, sealed, receipt_hash FROM moved ORDER BY gen_random_uuid()`,
+    `WITH moved AS (DELETE FROM ballots WHERE election_id = ? RETURNING election_id, sealed)
+     INSERT INTO ballots (id, election_id, sealed)
+     SELECT gen_random_uuid(), election_id, sealed FROM moved ORDER BY gen_random_uuid()`,
     [electionId],
   );
   await trx.raw(
