@@ -29,3 +29,13 @@ export class PayloadTooLarge extends VeiltallyError {
     super('That form was larger than we accept. Shorten it and send it again.');
   }
 }
+
+/** A form body the server cannot read (an unsupported charset, a malformed body): the client's fault, not ours. */
+export class UnreadableForm extends VeiltallyError {
+  readonly code = 'UnreadableForm';
+  override readonly status: number;
+  constructor(status: number) {
+    super('We could not read that form. Go back, reload the page and send it again.');
+    this.status = status;
+  }
+}

@@ -3,7 +3,7 @@ import path from 'node:path';
 import type { ErrorRequestHandler, Request, RequestHandler, Response } from 'express';
 import { isVeiltallyError, NotFound } from '../../errors.ts';
 import type { Logger } from '../../log.ts';
-import { CsrfRejected, PayloadTooLarge } from '../errors.ts';
+import { CsrfRejected, PayloadTooLarge, UnreadableForm } from '../errors.ts';
 import { VIEWS_DIR } from '../paths.ts';
 
 /** A friendly page per typed error when one exists (views/errors/<Code>.ejs), else the general one. */
@@ -37,9 +37,11 @@ export function errorHandler(logger: Logger, recoveries: readonly Recovery[] = [
   return (err, req, res, _next) => {
     if (res.headersSent) return void res.end();
     let error = err;
-    const e = err as { code?: string; type?: string; status?: number };
+    const e = err as { code?: string; type?: string; status?: number; expose?: boolean };
     if (e?.code === 'EBADCSRFTOKEN') error = new CsrfRejected();
-    else if (e?.type === 'entity.too.large') error = new PayloadTooLarge();
+    else if (e?.type === 'entity.too.large' || e?.type === 'parameters.too.many') error = new PayloadTooLarge();
+    // body-parser's other client errors (unsupported charset 415, unreadable body 400) carry their own status.
+    else if (typeof e?.type === 'string' && e.expose === true && typeof e.status === 'number' && e.status >= 400 && e.status < 500) error = new UnreadableForm(e.status);
 
     for (const recover of recoveries) {
       const page = recover(error, req);

@@ -43,4 +43,23 @@ describe('the one error handler', () => {
     const logged = lines.find((l) => l.msg === 'server failure');
     expect(logged).toMatchObject({ errorCode: 'StorageDown', route: '/down' });
   });
+
+  // body-parser's client errors are the sender's fault (RFC 9110 §15.5): never a 500 "something went wrong on our side".
+  it('answers a form with too many fields with 413', async () => {
+    const { app, lines } = appWithLog();
+    const body = Array.from({ length: 5001 }, (_, i) => `f${i}=x`).join('&');
+    const res = await request(app).post('/form').type('form').send(body);
+    expect(res.status).toBe(413);
+    expect(res.text).toContain('That form was larger than we accept');
+    expect(lines.filter((l) => l.msg === 'unexpected error')).toEqual([]);
+  });
+
+  it('answers a form in a charset we do not read with 415 and a plain message', async () => {
+    const { app, lines } = appWithLog();
+    const res = await request(app).post('/form').set('Content-Type', 'application/x-www-form-urlencoded; charset=koi8-r').send('a=1');
+    expect(res.status).toBe(415);
+    expect(res.text).toContain('We could not read that form');
+    expect(res.headers['cache-control']).toBe('no-store');
+    expect(lines.filter((l) => l.msg === 'unexpected error')).toEqual([]);
+  });
 });
