@@ -34,22 +34,28 @@ function privacyParagraph(s: PrivacyStatement): string {
   const how = s.protects.howVoted;
   const whether = s.protects.whetherVoted;
   const turnoutNote = 'The turnout is published as an exact count and is not protected: it shows how many members voted.';
+  // With no ballots nothing is drawn (outcome "no-ballots"), so a lone voter changes the outcome
+  // itself, which no factor e^ε bounds (Dwork & Roth 2014, Def. 2.4): say so, never over-promise.
+  const anyoneVoted = 'One thing is shown whatever the setting: whether anyone voted at all, since with no ballots no winner is drawn.';
   if (s.neighbour === 'replace-one') {
     const first = `Whatever any one member ticked, the chance of this announcement changed by at most a factor of e^ε ≈ ${how.factorAtMost}.`;
     const second = whether
-      ? 'This covers whether a member voted as well as how: not voting looks the same as a ballot with nothing ticked.'
+      ? `This covers whether a member voted as well as how: not voting looks the same as a ballot with nothing ticked. ${anyoneVoted}`
       : turnoutNote;
     return `${first} ${setting} ${second}`;
   }
   const ticked = `Whatever any one member ticked, the chance of this announcement changed by at most a factor of e^(2ε) ≈ ${how.factorAtMost}: a changed ballot counts as one ballot removed and another added. The organiser chose this weaker setting on purpose.`;
   const first = whether
-    ? `Whether any one member voted changed the chance of this announcement by at most a factor of e^ε ≈ ${whether.factorAtMost}.`
+    ? `Whether any one member voted changed the chance of this announcement by at most a factor of e^ε ≈ ${whether.factorAtMost}. ${anyoneVoted}`
     : turnoutNote;
   return `${first} ${setting} ${ticked}`;
 }
 
 function compositionParagraph(s: PrivacyStatement): string {
-  return `The privacy setting was split evenly over the ${s.seats} seats: each seat's draw used ε/${s.seats} = ${s.perRoundEpsilon}, and the costs of the draws add up to ε = ${s.epsilon} for the whole announcement (basic composition).`;
+  const total = `The privacy setting was split evenly over the ${s.seats} seats: each seat's draw used ε/${s.seats} = ${s.perRoundEpsilon}, and the costs of the draws add up to ε = ${s.epsilon} for the whole announcement (basic composition).`;
+  if (s.neighbour === 'replace-one') return total;
+  // Under add/remove each draw costs 2ε/k for a changed ballot, so the composed total is 2ε.
+  return `${total} That total is for whether a member voted. For what a member ticked the total is 2ε = ${s.protects.howVoted.epsilon}, as above.`;
 }
 
 function releasedParagraph(s: PrivacyStatement): string {
@@ -82,7 +88,7 @@ export function describeStatement(s: PrivacyStatement): StatementText {
     return {
       headline: headlineOf(s),
       paragraphs: [
-        'No ballots were cast, so nothing was counted and no winner was drawn. Nothing about any member can be learned from this result.',
+        'No ballots were cast, so nothing was counted and no winner was drawn. The result shows that nobody voted, and nothing more.',
       ],
       boundsSentence: boundsSentenceOf(s),
       caution: RANDOM_WINNER_CAUTION,

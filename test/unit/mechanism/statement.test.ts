@@ -77,6 +77,26 @@ describe('buildStatement', () => {
     expect(text.boundsSentence).toMatch(/^For each seat, with probability at least 95%/);
   });
 
+  it('does not promise to hide whether anyone voted at all: no ballots means no draw', () => {
+    // Dwork & Roth 2014, Def. 2.4: for the neighbours "no ballot" and "one ballot", P(no-ballots outcome)
+    // is 1 and 0 (closeAndTally draws only when ballots were cast), so no factor e^ε bounds that change.
+    for (const neighbour of ['replace-one', 'add-remove'] as const) {
+      const s = buildStatement({ draw: make('1', 1, neighbour), optionLabels: labels, winners: [0], turnout: null });
+      expect(describeStatement(s).paragraphs.join(' ')).toContain('whether anyone voted at all');
+    }
+    const none = describeStatement(buildStatement({ draw: make('1'), optionLabels: labels, winners: null, turnout: null }));
+    expect(none.paragraphs.join(' ')).not.toContain('Nothing about any member can be learned');
+    expect(none.paragraphs.join(' ')).toContain('nobody voted');
+  });
+
+  it('add-remove over several seats: the composed total for what a member ticked is 2ε, not ε', () => {
+    // Basic composition (Dwork & Roth 2014, Thm. 3.16) of k draws each costing 2ε/k for a changed ballot.
+    const s = buildStatement({ draw: make('1.5', 3, 'add-remove'), optionLabels: labels, winners: [0, 1, 2], turnout: null });
+    expect(describeStatement(s).paragraphs.join(' ')).toContain('For what a member ticked the total is 2ε = 3');
+    const replace = buildStatement({ draw: make('1.5', 3), optionLabels: labels, winners: [0, 1, 2], turnout: null });
+    expect(describeStatement(replace).paragraphs.join(' ')).not.toContain('2ε');
+  });
+
   it('zero ballots: "no ballots cast; no winner drawn"', () => {
     const s = buildStatement({ draw: make('1'), optionLabels: labels, winners: null, turnout: 0 });
     expect(s.outcome).toBe('no-ballots');
