@@ -36,6 +36,8 @@ export class TallyPool {
         }
       });
       worker.on('error', (e) => this.fail(e));
+      // A worker gone before finish() would never answer it: remember that, so finish() throws.
+      worker.on('exit', () => this.fail(new Error('tally worker stopped early')));
       this.slots.push(slot);
     }
   }
@@ -82,6 +84,7 @@ export class TallyPool {
 
   /** Waits for every worker's counts and adds them up. */
   async finish(optionCount: number): Promise<PartialTally> {
+    if (this.failure) throw this.failure;
     const parts = await Promise.all(
       this.slots.map(
         (s) =>
