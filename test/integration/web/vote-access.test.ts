@@ -33,10 +33,11 @@ describe.each(engines)('member voting, timing and access [%s]', (engine) => {
 
   it('when voting closes between steps, the member is told clearly the ballot was not counted', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId);
+    clock.advance(7 * DAY - 10 * 60_000); // ten minutes before the close, inside the session's idle limit
     const { agent, csrf } = await begin(f);
     const code = f.codes[0]!;
     await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code }).expect(200);
-    clock.advance(7 * DAY); // exactly the closing instant: closed (acceptsBallotsAt is now < closesAt)
+    clock.advance(10 * 60_000); // exactly the closing instant: closed (acceptsBallotsAt is now < closesAt)
     for (const step of ['confirm', 'cast']) {
       const res = await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code, approve: ['1'] }).expect(409);
       expect(res.text).toContain('Voting has closed');
