@@ -8,6 +8,7 @@ import { errorHandler, notFoundHandler } from './middleware/errorHandler.ts';
 import { requestLog } from './middleware/requestLog.ts';
 import { routers } from './routes/index.ts';
 import { resumeExpiredVote } from './routes/vote/resume.ts';
+import { resumeOrganiserForm } from './routes/organise/resumeForm.ts';
 
 /** Builds the whole site. Never listens: main.ts does, and tests drive the app directly. */
 export function createApp(deps: AppDeps): Express {
@@ -37,7 +38,7 @@ export function createApp(deps: AppDeps): Express {
   for (const make of routers) app.use(make(deps));
 
   app.use(notFoundHandler);
-  app.use(errorHandler(deps.logger, [resumeExpiredVote]));
+  app.use(errorHandler(deps.logger, [resumeExpiredVote, resumeOrganiserForm]));
   return app;
 }
 

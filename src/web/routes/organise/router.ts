@@ -6,6 +6,7 @@ import { codeRoutes } from './codeRoutes.ts';
 import { dashboardRoutes } from './dashboardRoutes.ts';
 import { electionRoutes } from './electionRoutes.ts';
 import { tallyRoutes } from './tallyRoutes.ts';
+import { resumeRoutes } from './resumeForm.ts';
 
 /**
  * The organiser area, /organise/**. First run, sign-in and sign-out come first; every other
@@ -14,6 +15,7 @@ import { tallyRoutes } from './tallyRoutes.ts';
 export function organiseRouter(deps: AppDeps): Router {
   const router = Router();
   router.use(accountRoutes(deps));
+  router.use(resumeRoutes(deps));
   router.use('/organise', requireOrganiser(deps));
   // "new" is matched before ":id", so the order of these matters.
   router.use(electionRoutes(deps));
