@@ -98,17 +98,23 @@ describe('ballot codes', () => {
     );
   });
 
-  it('checks exhaustively every substitution and transposition of one random code', () => {
+  it('checks exhaustively every substitution and adjacent transposition of one random code', () => {
     const code = generateCode((n) => crypto.randomBytes(n)).canonical;
     let tried = 0;
     for (let pos = 0; pos < 27; pos++) {
       for (const r of pos < 26 ? ALPHABET : CHECK_ALPHABET) {
         if (r === code[pos]) continue;
         tried++;
-        expect(() => normaliseCode(code.slice(0, pos) + r + code.slice(pos + 1))).toThrow();
+        expect(() => normaliseCode(code.slice(0, pos) + r + code.slice(pos + 1))).toThrow(CodeTypo);
       }
     }
     expect(tried).toBe(26 * 31 + 36);
+    // Adjacent transpositions, the check symbol included (Crockford's mod-37 check catches them all).
+    for (let pos = 0; pos < 26; pos++) {
+      if (code[pos] === code[pos + 1]) continue;
+      const swapped = code.slice(0, pos) + code[pos + 1] + code[pos] + code.slice(pos + 2);
+      expect(() => normaliseCode(swapped)).toThrow();
+    }
   });
 });
 
