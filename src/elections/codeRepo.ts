@@ -44,10 +44,10 @@ export async function assertCodeUsable(db: Db, electionId: string, codeHash: Buf
   if (code.revoked) throw new CodeRevoked();
 }
 
-/** Revokes an unspent code; true if this call changed it. */
+/** Marks a code withdrawn, used or not; true if this call changed it. */
 export async function revokeCodeHash(db: Db, electionId: string, codeHash: Buffer): Promise<boolean> {
   const rows = await db('ballot_codes')
-    .where({ election_id: electionId, code_hash: codeHash, spent: false, revoked: false })
+    .where({ election_id: electionId, code_hash: codeHash, revoked: false })
     .update({ revoked: true })
     .returning('election_id');
   return rows.length === 1;

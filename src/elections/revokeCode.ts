@@ -3,12 +3,14 @@ import { recordEvent } from './audit.ts';
 import { findCode, revokeCodeHash } from './codeRepo.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
-import { AlreadyTallied, CodeAlreadySpent, CodeUnknown } from './errors.ts';
+import { AlreadyTallied, CodeUnknown } from './errors.ts';
 
 /**
- * Withdraws a code before it is used (e.g. handed to the wrong person). Revoking an
- * already revoked code changes nothing. A spent code cannot be revoked: its ballot is
- * sealed and not linked to it, so there would be nothing to take back.
+ * Withdraws a code (e.g. handed to the wrong person), so it can no longer be used.
+ * The answer is the same whether or not the code was already used: otherwise an organiser
+ * who knows who received a code could learn whether that member voted. A used code is
+ * marked withdrawn too (its ballot, sealed and unlinked, still counts), so the withdrawn
+ * count on the dashboard says nothing either. Revoking twice changes nothing.
  */
 export async function revokeCode(
   ctx: UseCaseContext,
@@ -23,8 +25,6 @@ export async function revokeCode(
       await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'code-revoked' }, ctx.now());
       return;
     }
-    const code = await findCode(trx, e.id, hash);
-    if (!code) throw new CodeUnknown();
-    if (code.spent) throw new CodeAlreadySpent();
+    if (!(await findCode(trx, e.id, hash))) throw new CodeUnknown();
   });
 }

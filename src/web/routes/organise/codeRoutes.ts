@@ -92,8 +92,6 @@ function revokeMessage(code: string, fallback: string): string {
   switch (code) {
     case 'CodeUnknown':
       return 'That code was not issued for this election.';
-    case 'CodeAlreadySpent':
-      return 'That code has already been used to vote, so it cannot be withdrawn. Its ballot is sealed and not linked to it.';
     default:
       return fallback;
   }
