@@ -167,7 +167,8 @@ describe.each(engines)('organiser ballot codes [%s]', (engine) => {
       expect([used.status, used.headers.location]).toEqual([unused.status, unused.headers.location]);
       expect(used.status).toBe(303);
       const page1 = await agent.get(used.headers.location!);
-      expect(page1.text).not.toContain('already been used');
+      expect(page1.text).not.toContain('cannot be withdrawn');
+      expect(page1.text).toContain('Code withdrawn');
     });
   });
 
