@@ -6,6 +6,7 @@ import { createElectionKeys, encodeAndSeal, openAndCount, openingKey, unwrapElec
 import type { Engine } from '../../src/db/knex.ts';
 import { countApprovals } from '../../src/elections/tallyCounter.ts';
 import { freshDatabase, type TestDatabase } from '../helpers/databases.ts';
+import type { BenchReport } from './run.ts';
 
 /**
  * Tally throughput: how many sealed ballots per second are opened and counted, in this
@@ -49,7 +50,7 @@ async function time(fn: () => Promise<unknown> | unknown): Promise<number> {
   return (performance.now() - t0) / 1000;
 }
 
-export async function run(): Promise<TallyBenchRow[]> {
+export async function run(): Promise<BenchReport> {
   const n = Number(process.env.BENCH_BALLOTS ?? 50_000);
   const engines: Engine[] = process.env.TEST_DATABASE_URL ? ['pglite', 'postgres'] : ['pglite'];
   const electionId = crypto.randomUUID();
@@ -87,9 +88,12 @@ export async function run(): Promise<TallyBenchRow[]> {
     }
   }
   const load = loadavg().map((x) => x.toFixed(1)).join(' ');
-  console.log(`tally throughput (d = ${D}, ${availableParallelism()} cores, load average ${load}; threads 0 = main thread only)`);
-  console.table(rows);
-  return rows;
+  const columns = ['engine', 'ballots', 'threads', 'seconds', 'ballotsPerSecond'] as const;
+  return {
+    title: `Tally throughput (d = ${D}, ${availableParallelism()} cores, load average ${load}; threads 0 = main thread only)`,
+    columns: [...columns],
+    rows: rows.map((r) => columns.map((c) => String(r[c]))),
+  };
 }
 
 if (import.meta.url === pathToFileURL(process.argv[1] ?? '').href) await run();
