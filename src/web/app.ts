@@ -26,14 +26,15 @@ export function createApp(deps: AppDeps): Express {
   app.use(express.urlencoded({ extended: false, limit: '512kb', parameterLimit: 5000 }));
   app.use(sessionMiddleware(deps));
   app.use(absoluteTimeout(deps.ctx.now));
-  app.use(csrfLocals); // before the check, so a page explaining a rejected form can offer a fresh token
-  app.use(sameOriginOnly);
-  app.use(csrfProtection);
+  // Locals come before the checks, so a page explaining a rejected form has them too.
+  app.use(csrfLocals);
   app.use((req, res, next) => {
     res.locals.path = req.path;
     res.locals.signedIn = Boolean(req.session?.organiserId);
     next();
   });
+  app.use(sameOriginOnly);
+  app.use(csrfProtection);
 
   for (const make of routers) app.use(make(deps));
 

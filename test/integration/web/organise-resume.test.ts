@@ -65,6 +65,13 @@ describe.each(engines)('organiser form after the session ran out [%s]', (engine)
     expect((await findElection(db.knex, id))?.options.map((o) => o.label)).toEqual(['Heron', 'Kingfisher', 'Otter', 'Grebe']);
   });
 
+  it('a signed-in organiser with a wrong token gets the plain refusal, not a sign-in page', async () => {
+    const agent = await signedIn(app, email);
+    const res = await agent.post('/organise/elections/new').type('form').send(encode({ ...electionForm(), _csrf: 'forged' })).expect(403);
+    expect(res.text).not.toContain('Sign in again to keep your changes');
+    expect(res.text).toContain('Sign out'); // the page still knows who is signed in
+  });
+
   it('other forms without a token still get the plain refusal', async () => {
     const agent = await signedIn(app, email);
     const res = await agent.post('/organise/organisers').type('form').send(encode({ email: 'cox@rowing.example' })).expect(403);

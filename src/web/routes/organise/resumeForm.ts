@@ -47,6 +47,8 @@ function resumeTarget(path: string): string | null {
 
 export const resumeOrganiserForm: Recovery = (err: unknown, req: Request) => {
   if (!(err instanceof CsrfRejected) || req.method !== 'POST') return null;
+  // Still signed in: the token was wrong, not expired. That is the plain refusal.
+  if (req.session?.organiserId) return null;
   const resumeTo = resumeTarget(req.path);
   if (!resumeTo) return null;
   return {
