@@ -25,8 +25,9 @@ export interface ReceiptCheckView {
 export function resultsRouter(deps: AppDeps): Router {
   const router = Router();
   const { ctx } = deps;
-  // 50-bit receipts make guessing pointless; this only bounds load.
-  const receiptChecks = limiter(100, 10 * 60_000, () => new TooManyAttempts('receipt checks'));
+  // 50-bit receipts make guessing pointless; this only bounds load, and a whole meeting on one
+  // network address may check its receipts at once, so the allowance is generous.
+  const receiptChecks = limiter(1000, 10 * 60_000, () => new TooManyAttempts('receipt checks'));
 
   async function publicElection(rawId: unknown): Promise<Election> {
     const param = idParam.safeParse({ id: rawId });
