@@ -1,8 +1,7 @@
-import { afterAll, beforeAll, expect, it } from 'vitest';
-import type { Browser } from 'playwright-core';
+import { expect, it } from 'vitest';
 import { launchChromium, screenshot } from './browser.ts';
 import { watchForScript } from './audit.ts';
-import { startMemberServer, type MemberServer } from './memberServer.ts';
+import { useMemberBrowser } from './memberServer.ts';
 import { openElectionFixture, tallyFixture } from '../test/helpers/fixtures.ts';
 
 /**
@@ -12,30 +11,20 @@ import { openElectionFixture, tallyFixture } from '../test/helpers/fixtures.ts';
 const SCRIPT = '<script>alert(1)</script>';
 const BREAKOUT = '"><img src=x onerror=alert(1)>';
 
-let server: MemberServer;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await startMemberServer();
-  browser = await launchChromium();
-});
-afterAll(async () => {
-  await browser?.close();
-  await server?.close();
-});
+const env = useMemberBrowser();
 
 it('shows hostile labels as text through ballot, confirmation and result, with no dialog and no console error', async () => {
-  const f = await openElectionFixture(server.ctx, server.organiserId, {
+  const f = await openElectionFixture(env.server.ctx, env.server.organiserId, {
     title: `Choir social ${BREAKOUT}`,
     description: SCRIPT,
     seats: 2,
     options: [{ label: SCRIPT, description: BREAKOUT }, { label: BREAKOUT }, { label: 'Picnic in the park' }],
   });
-  const context = await browser.newContext();
+  const context = await env.browser.newContext();
   const page = await context.newPage();
   const seen = watchForScript(page);
 
-  await page.goto(`${server.url}/vote/${f.id}`);
+  await page.goto(`${env.server.url}/vote/${f.id}`);
   expect(await page.locator('h1').innerText()).toBe(`Choir social ${BREAKOUT}`);
   await page.getByLabel('Ballot code', { exact: true }).fill(f.codes[0]!);
   await page.getByRole('button', { name: 'Show my ballot' }).click();
@@ -47,9 +36,9 @@ it('shows hostile labels as text through ballot, confirmation and result, with n
   await page.getByRole('button', { name: 'Cast my ballot' }).click();
   await page.getByRole('heading', { name: 'Your ballot has been received' }).waitFor();
 
-  server.clock.advance(8 * 24 * 3600_000);
-  const winners = await tallyFixture(server.ctx, f, true);
-  await page.goto(`${server.url}/results/${f.id}`);
+  env.server.clock.advance(8 * 24 * 3600_000);
+  const winners = await tallyFixture(env.server.ctx, f, true);
+  await page.goto(`${env.server.url}/results/${f.id}`);
   expect(await page.locator('ol.winners li').allInnerTexts()).toEqual(winners);
   await screenshot(page, 'escaping-result');
 

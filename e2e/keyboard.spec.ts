@@ -1,25 +1,14 @@
-import { afterAll, beforeAll, expect, it } from 'vitest';
-import type { Browser } from 'playwright-core';
+import { expect, it } from 'vitest';
 import { launchChromium, screenshot } from './browser.ts';
 import { focusRing, tabTo } from './audit.ts';
-import { startMemberServer, type MemberServer } from './memberServer.ts';
+import { useMemberBrowser } from './memberServer.ts';
 import { openElectionFixture, openStoredBallots } from '../test/helpers/fixtures.ts';
 
 /** A member who uses only the keyboard (Tab, Space, Enter and typing) can vote from start to receipt. */
-let server: MemberServer;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await startMemberServer();
-  browser = await launchChromium();
-});
-afterAll(async () => {
-  await browser?.close();
-  await server?.close();
-});
+const env = useMemberBrowser();
 
 it('votes with Tab, Space and Enter only, with a visible focus ring, and seals exactly the ticks made', async () => {
-  const f = await openElectionFixture(server.ctx, server.organiserId, {
+  const f = await openElectionFixture(env.server.ctx, env.server.organiserId, {
     title: 'Tenants’ repairs fund',
     options: [
       { label: 'Fix the lift', description: 'The lift has been out of order twice this winter.' },
@@ -28,9 +17,9 @@ it('votes with Tab, Space and Enter only, with a visible focus ring, and seals e
       { label: 'Brighter lights in the car park' },
     ],
   });
-  const context = await browser.newContext();
+  const context = await env.browser.newContext();
   const page = await context.newPage();
-  await page.goto(`${server.url}/vote/${f.id}`);
+  await page.goto(`${env.server.url}/vote/${f.id}`);
 
   await tabTo(page, { id: 'code' });
   expect(await focusRing(page)).toBe('solid 3px');
@@ -52,6 +41,6 @@ it('votes with Tab, Space and Enter only, with a visible focus ring, and seals e
   await Promise.all([page.waitForURL('**/cast'), page.keyboard.press('Enter')]);
 
   expect(await page.getByRole('heading', { name: 'Your ballot has been received' }).isVisible()).toBe(true);
-  expect(await openStoredBallots(server.ctx, f.id)).toEqual([[1, 3]]);
+  expect(await openStoredBallots(env.server.ctx, f.id)).toEqual([[1, 3]]);
   await context.close();
 });

@@ -1,8 +1,8 @@
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { Browser, BrowserContext, Page } from 'playwright-core';
+import { describe, expect, it } from 'vitest';
+import type { BrowserContext, Page } from 'playwright-core';
 import { launchChromium, screenshot } from './browser.ts';
 import { DESKTOP, PHONE, seriousViolations } from './audit.ts';
-import { startMemberServer, type MemberServer } from './memberServer.ts';
+import { useMemberBrowser } from './memberServer.ts';
 import { castAll, openElectionFixture, tallyFixture, type ElectionFixture } from '../test/helpers/fixtures.ts';
 
 /**
@@ -10,17 +10,7 @@ import { castAll, openElectionFixture, tallyFixture, type ElectionFixture } from
  * critical finding (WCAG 2.2 AA rules), on a desktop and on a phone-sized viewport, and a
  * screenshot of each is kept in e2e/artifacts/ for a person to look at.
  */
-let server: MemberServer;
-let browser: Browser;
-
-beforeAll(async () => {
-  server = await startMemberServer();
-  browser = await launchChromium();
-});
-afterAll(async () => {
-  await browser?.close();
-  await server?.close();
-});
+const env = useMemberBrowser();
 
 const CHOIR = {
   title: 'Spring concert programme',
@@ -36,7 +26,7 @@ const CHOIR = {
 };
 
 async function newPage(viewport: { width: number; height: number }): Promise<{ context: BrowserContext; page: Page }> {
-  const context = await browser.newContext({ viewport, isMobile: viewport.width < 600, hasTouch: viewport.width < 600 });
+  const context = await env.browser.newContext({ viewport, isMobile: viewport.width < 600, hasTouch: viewport.width < 600 });
   return { context, page: await context.newPage() };
 }
 
@@ -46,7 +36,7 @@ async function checkPage(page: Page, name: string): Promise<void> {
 }
 
 async function voteThrough(page: Page, f: ElectionFixture, code: string, tick: string[], size: string): Promise<string> {
-  await page.goto(`${server.url}/vote/${f.id}`);
+  await page.goto(`${env.server.url}/vote/${f.id}`);
   await checkPage(page, `vote-1-code-${size}`);
   await page.getByLabel('Ballot code', { exact: true }).fill(code);
   await page.getByRole('button', { name: 'Show my ballot' }).click();
@@ -74,7 +64,7 @@ describe('member pages in Chromium', () => {
   const receipts: string[] = [];
 
   it('code entry, ballot, confirmation and receipt pass axe on desktop and phone', async () => {
-    f = await openElectionFixture(server.ctx, server.organiserId, { ...CHOIR, codes: 8 });
+    f = await openElectionFixture(env.server.ctx, env.server.organiserId, { ...CHOIR, codes: 8 });
     for (const [i, [size, viewport]] of ([['desktop', DESKTOP], ['phone', PHONE]] as const).entries()) {
       const { context, page } = await newPage(viewport);
       receipts.push(await voteThrough(page, f, f.codes[i]!, i === 0 ? ['Folk lullaby', 'Sea shanties medley'] : [], size));
@@ -85,7 +75,7 @@ describe('member pages in Chromium', () => {
 
   it('the error pages pass axe too (typing slip, used code, closed)', async () => {
     const { context, page } = await newPage(DESKTOP);
-    await page.goto(`${server.url}/vote/${f.id}`);
+    await page.goto(`${env.server.url}/vote/${f.id}`);
     const code = f.codes[2]!;
     await page.getByLabel('Ballot code', { exact: true }).fill(code.slice(0, -1) + (code.endsWith('0') ? '1' : '0'));
     await page.getByRole('button', { name: 'Show my ballot' }).click();
@@ -98,15 +88,15 @@ describe('member pages in Chromium', () => {
   });
 
   it('the result page, before and after publication, passes axe on desktop and phone', async () => {
-    await castAll(server.ctx, f, [[0, 1], [1, 3], [2]], 3);
+    await castAll(env.server.ctx, f, [[0, 1], [1, 3], [2]], 3);
     const { context, page } = await newPage(DESKTOP);
-    await page.goto(`${server.url}/results/${f.id}`);
+    await page.goto(`${env.server.url}/results/${f.id}`);
     await checkPage(page, 'result-pending-desktop');
-    server.clock.advance(8 * 24 * 3600_000);
-    await page.goto(`${server.url}/vote/${f.id}`);
+    env.server.clock.advance(8 * 24 * 3600_000);
+    await page.goto(`${env.server.url}/vote/${f.id}`);
     await checkPage(page, 'vote-error-closed-desktop');
-    const winners = await tallyFixture(server.ctx, f, true);
-    await page.goto(`${server.url}/results/${f.id}`);
+    const winners = await tallyFixture(env.server.ctx, f, true);
+    await page.goto(`${env.server.url}/results/${f.id}`);
     await expect(page.locator('ol.winners li').allInnerTexts()).resolves.toEqual(winners);
     await checkPage(page, 'result-published-desktop');
     await page.getByLabel('Receipt', { exact: true }).fill(receipts[0]!.toLowerCase());
@@ -115,7 +105,7 @@ describe('member pages in Chromium', () => {
     await checkPage(page, 'result-receipt-found-desktop');
     await context.close();
     const phone = await newPage(PHONE);
-    await phone.page.goto(`${server.url}/results/${f.id}`);
+    await phone.page.goto(`${env.server.url}/results/${f.id}`);
     await checkPage(phone.page, 'result-published-phone');
     await phone.context.close();
   });

@@ -1,4 +1,7 @@
 import type { Server } from 'node:http';
+import { afterAll, beforeAll } from 'vitest';
+import type { Browser } from 'playwright-core';
+import { launchChromium } from './browser.ts';
 import type { UseCaseContext } from '../src/elections/context.ts';
 import { testApp } from '../test/helpers/app.ts';
 import { testClock, testContext, type TestClock } from '../test/helpers/context.ts';
@@ -40,4 +43,18 @@ export async function startMemberServer(start = '2026-06-01T09:00:00Z'): Promise
       await db.dispose();
     },
   };
+}
+
+/** A member server and a Chromium for one spec file, started before its tests and closed after. */
+export function useMemberBrowser(): { server: MemberServer; browser: Browser } {
+  const env = {} as { server: MemberServer; browser: Browser };
+  beforeAll(async () => {
+    env.server = await startMemberServer();
+    env.browser = await launchChromium();
+  });
+  afterAll(async () => {
+    await env.browser?.close();
+    await env.server?.close();
+  });
+  return env;
 }
