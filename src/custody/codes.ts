@@ -1,4 +1,4 @@
-import type { RandomBytes } from '../elections/context.ts';
+import type { RandomSource as RandomBytes } from '../mechanism/random.ts';
 import { CodeMalformed, CodeTypo, ReceiptMalformed } from './errors.ts';
 import {
   ALPHABET,

@@ -1,4 +1,4 @@
-import type { RandomBytes } from '../elections/context.ts';
+import type { RandomSource as RandomBytes } from '../mechanism/random.ts';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 

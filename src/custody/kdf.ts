@@ -1,8 +1,11 @@
 import argon2 from 'argon2';
 import { z } from 'zod';
-import type { KdfParams } from '../elections/context.ts';
-
-export type { KdfParams };
+/** Argon2id cost for wrapping election keys (RFC 9106 §4 second option by default). */
+export interface KdfParams {
+  memoryKiB: number;
+  iterations: number;
+  parallelism: number;
+}
 
 /**
  * Bounds on stored Argon2id parameters, so a damaged or hostile stored value cannot

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import type { RandomBytes } from '../elections/context.ts';
+import type { RandomSource as RandomBytes } from '../mechanism/random.ts';
 import { WrappedKeyInvalid, WrongPassphrase } from './errors.ts';
 import { uuidBytes } from './ids.ts';
 import { deriveKey, kdfParamsSchema, type KdfParams } from './kdf.ts';

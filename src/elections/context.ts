@@ -1,15 +1,12 @@
 import type { Knex } from 'knex';
 import type { Engine } from '../db/knex.ts';
 
-/** n random bytes. Production passes node:crypto; tests pass a seeded source. */
-export type RandomBytes = (byteCount: number) => Uint8Array;
+import type { KdfParams } from '../custody/kdf.ts';
+import type { RandomSource } from '../mechanism/random.ts';
 
-/** Argon2id cost for wrapping election keys (RFC 9106 §4 second option by default). */
-export interface KdfParams {
-  memoryKiB: number;
-  iterations: number;
-  parallelism: number;
-}
+/** n random bytes. Production passes node:crypto; tests pass a seeded source. The type lives in the core. */
+export type RandomBytes = RandomSource;
+export type { KdfParams };
 
 export interface InstanceSecrets {
   /** HMAC-SHA-256 key for ballot codes and receipts. */
