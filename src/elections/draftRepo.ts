@@ -6,6 +6,7 @@ function draftColumns(d: DraftInput) {
   return {
     title: d.title,
     description: d.description,
+    contact: d.contact ?? '',
     seats: d.seats,
     epsilon: d.epsilon,
     neighbour: d.neighbour,

@@ -4,6 +4,8 @@ import type { Election } from '../../elections/electionRepo.ts';
 import { describeStatement, type PrivacyStatement } from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
+import { timelineView, type TimelineEntry } from './timeline.ts';
+import { votingTimes } from '../../elections/votingTimes.ts';
 
 /**
  * The public result page's view model. Every sentence about the draw and its privacy comes
@@ -36,19 +38,7 @@ const NEIGHBOURS = {
   },
 } as const;
 
-const TIMELINE: Record<string, string> = {
-  created: 'Election set up',
-  opened: 'Voting opened',
-  closed: 'Voting closed',
-  tallied: 'Sealed ballots counted and the winners drawn',
-  published: 'Result published',
-  shredded: 'Sealed ballots and the tally key destroyed',
-};
-
-export interface TimelineEntry {
-  label: string;
-  at: ShownTime;
-}
+export type { TimelineEntry } from './timeline.ts';
 
 export interface PublishedResultView {
   headline: string;
@@ -87,11 +77,6 @@ export interface ResultPageView {
   result: PublishedResultView | null;
 }
 
-export function timelineView(events: readonly AuditRow[], timeZone: string): TimelineEntry[] {
-  // Only the action and time are shown; details are for the organiser's record.
-  return events.filter((ev) => ev.action in TIMELINE).map((ev) => ({ label: TIMELINE[ev.action]!, at: shownTime(ev.at, timeZone) }));
-}
-
 export function publishedResultView(stored: unknown): PublishedResultView {
   const { statement } = storedResult.parse(stored);
   const text = describeStatement(statement as unknown as PrivacyStatement);
@@ -118,7 +103,7 @@ export function publishedResultView(stored: unknown): PublishedResultView {
 
 export function resultPageView(e: Election, events: readonly AuditRow[], now: Date): ResultPageView {
   const published = e.state === 'published';
-  const closedAt = e.closedAt ?? (votingWindow(e, now) === 'closed' ? e.closesAt : null);
+  const closedAt = votingTimes(e, now).closed;
   return {
     id: e.id,
     title: e.title,
@@ -131,7 +116,7 @@ export function resultPageView(e: Election, events: readonly AuditRow[], now: Da
     publishedAt: published && e.publishedAt ? shownTime(e.publishedAt, e.timeZone) : null,
     tallied: e.state === 'tallied',
     caution: DRAW_CAUTION,
-    timeline: timelineView(events, e.timeZone),
+    timeline: timelineView(events, e, now),
     result: published ? publishedResultView(e.result) : null,
   };
 }
