@@ -25,7 +25,7 @@ export async function countOrganisers(db: Db): Promise<number> {
 }
 
 export async function findCredentials(db: Db, email: string): Promise<OrganiserCredentials | null> {
-  const row = await db('organisers').where({ email: normaliseEmail(email) }).first('id', 'email', 'password_hash');
+  const row = await db('organisers').where({ email: normaliseEmail(email) }).whereNull('removed_at').first('id', 'email', 'password_hash');
   return row ? { id: row.id, email: row.email, passwordHash: row.password_hash } : null;
 }
 
@@ -40,8 +40,10 @@ export async function listOrganisers(db: Db): Promise<Organiser[]> {
   return rows.map(fromRow);
 }
 
+/** Removed organisers (removed_at set) are kept for the record but are nobody here. */
 function listQuery(db: Db) {
   return db('organisers as o')
+    .whereNull('o.removed_at')
     .leftJoin('organisers as c', 'c.id', 'o.created_by')
     .select('o.id', 'o.email', 'o.created_at', 'c.email as created_by_email');
 }

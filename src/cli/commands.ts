@@ -1,8 +1,9 @@
 import type { Command } from './io.ts';
 import { migrateCommand } from './migrateCommand.ts';
+import { organiserCommand } from './organiserCommand.ts';
 import { boundsCommand } from './commands/bounds.ts';
 import { drawCommand } from './commands/draw.ts';
 import { simulateCommand } from './commands/simulate.ts';
 
 /** Every `veiltally` command, in the order `--help` lists them. */
-export const commands: readonly Command[] = [migrateCommand, drawCommand, simulateCommand, boundsCommand];
+export const commands: readonly Command[] = [migrateCommand, organiserCommand, drawCommand, simulateCommand, boundsCommand];
