@@ -26,8 +26,7 @@ export async function publishResult(ctx: UseCaseContext, input: { electionId: st
 async function publishLocked(trx: Db, e: Election, organiserId: string | null, clock: Date): Promise<void> {
   if (e.state === 'published') throw new AlreadyPublished();
   if (e.state !== 'tallied') throw new NotTallied();
-  // Never before the draw's own minute, so the timeline stays in order.
-  const now = e.resultVisibleAt && e.resultVisibleAt > clock ? e.resultVisibleAt : clock;
+  const now = clock;
   // A stored value outside 1..90 is a bug elsewhere: refuse rather than keep ballots too long.
   const days = retentionDaysSchema.parse(e.retentionDays);
   const shredAfter = days === null ? null : new Date(now.getTime() + days * DAY_MS);
