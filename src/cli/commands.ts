@@ -3,6 +3,7 @@ import { migrateCommand } from './migrateCommand.ts';
 import { boundsCommand } from './commands/bounds.ts';
 import { drawCommand } from './commands/draw.ts';
 import { simulateCommand } from './commands/simulate.ts';
+import { demoCommand } from './commands/demo.ts';
 
 /** Every `veiltally` command, in the order `--help` lists them. */
-export const commands: readonly Command[] = [migrateCommand, drawCommand, simulateCommand, boundsCommand];
+export const commands: readonly Command[] = [migrateCommand, drawCommand, simulateCommand, boundsCommand, demoCommand];
