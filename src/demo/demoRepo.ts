@@ -7,6 +7,7 @@ export const DEMO_SETTING = 'demo';
 export interface DemoRecord {
   state: 'seeding' | 'ready' | 'failed';
   startedAt: string;
+  organiserId?: string;
   organiserEmail?: string;
   openElectionId?: string;
   publishedElectionId?: string;

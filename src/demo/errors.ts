@@ -32,3 +32,12 @@ export class DemoIncomplete extends VeiltallyError {
     );
   }
 }
+
+/** The first-run button is offered only on a site that has no organiser of its own yet. */
+export class DemoNotOffered extends VeiltallyError {
+  readonly code = 'DemoNotOffered';
+  override readonly status = 409;
+  constructor() {
+    super('Sample elections are offered only on a new site, before its first organiser account is created.');
+  }
+}

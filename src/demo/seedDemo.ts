@@ -20,7 +20,7 @@ const BALLOT_SEED = 'veiltally demo ballots v1';
 export interface DemoSummary {
   /** False when the sample elections existed already: nothing was added, and no password is shown. */
   created: boolean;
-  organiser: { email: string; password: string | null };
+  organiser: { id: string; email: string; password: string | null };
   open: { id: string; title: string; voters: number; codes: number; unusedCodes: string[]; passphrase: string };
   published: { id: string; title: string; receipt: string };
 }
@@ -52,6 +52,7 @@ export async function seedDemo(ctx: UseCaseContext, options: SeedOptions = {}): 
   }
   try {
     const organiser = await createDemoOrganiser(ctx);
+    record.organiserId = organiser.organiserId;
     record.organiserEmail = organiser.email;
     const published = await seedPublished(ctx, organiser.organiserId, TENANTS, new Date(start.getTime() - 14 * DAY));
     record.publishedElectionId = published.id;
@@ -83,10 +84,16 @@ async function waitForReady(ctx: UseCaseContext, record: DemoRecord, waitMs: num
   throw new DemoIncomplete();
 }
 
+/** The sample elections as they stand, or null when the demo never ran or is unfinished. */
+export async function findDemo(ctx: UseCaseContext): Promise<DemoSummary | null> {
+  const r = await readDemo(ctx.knex);
+  return r?.state === 'ready' ? summaryOf(r, null) : null;
+}
+
 function summaryOf(r: DemoRecord, password: string | null): DemoSummary {
   return {
     created: password !== null,
-    organiser: { email: r.organiserEmail!, password },
+    organiser: { id: r.organiserId!, email: r.organiserEmail!, password },
     open: {
       id: r.openElectionId!,
       title: ROWING_CLUB.title,
