@@ -51,7 +51,6 @@ export function demoText(s: DemoSummary, publicUrl: string): string {
 
 export const demoCommand: Command = {
   name: 'demo',
-  summary: 'add two sample elections and a demo organiser login, and print their addresses',
   usage,
   async run(args, io) {
     if (args.length > 0) {
