@@ -2,14 +2,12 @@ import {
   BallotUnreadable,
   WrappedKeyInvalid,
   parseWrappedKey,
-  publicKeyFromSeed,
   publicKeyOf,
   randomUuid,
-  signStatement,
   unwrapElectionKey,
   wipe,
 } from '../custody/index.ts';
-import { buildStatement, canonicalStatementBytes, makeExponentialDraw, type PrivacyStatement } from '../mechanism/index.ts';
+import { buildStatement, makeExponentialDraw, type PrivacyStatement } from '../mechanism/index.ts';
 import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
@@ -18,14 +16,15 @@ import type { Election } from './electionRepo.ts';
 import { tallyInProgress } from './status.ts';
 import { countApprovals } from './tallyCounter.ts';
 import { rewriteVotingRows, vacuumAfterTally } from './unlinkStorage.ts';
+import { chargeAndSign } from './signDraw.ts';
 
-/** What elections.result holds: the one draw, its statement and the instance signature over it. */
+/**
+ * What elections.result holds: the one draw and its statement for the pages. The signed,
+ * published statement (tied to this election and this draw) is in the statements table.
+ */
 export interface StoredResult {
   winners: string[];
   statement: PrivacyStatement;
-  /** Ed25519 over canonicalStatementBytes(statement), base64. */
-  signature: string;
-  signingPublicKey: string;
 }
 
 /** Every draw is published: the organiser's preview lasts at most this long (our rule, 48 hours). */
@@ -167,15 +166,12 @@ export async function runQueuedTally(
         electionTitle: e.title,
       });
       const labels = statement.winners;
-      const result: StoredResult = {
-        winners: labels,
-        statement,
-        signature: signStatement(canonicalStatementBytes(statement), ctx.secrets.signingSeed).toString('base64'),
-        signingPublicKey: publicKeyFromSeed(ctx.secrets.signingSeed).toString('base64'),
-      };
+      const result: StoredResult = { winners: labels, statement };
       // Public and organiser alike see the draw from its whole minute, never earlier.
       const now = ctx.now();
       const drawnAt = now <= q.revealAt ? q.revealAt : revealMinute(new Date(now.getTime() - 60_000));
+      // The ledger is charged and the statement signed in this transaction, published or not.
+      await chargeAndSign(trx, ctx, { election: e, draw, winners, ballots, at: drawnAt });
       await trx('elections').where({ id: e.id }).update({
         state: 'tallied',
         result: JSON.stringify(result),

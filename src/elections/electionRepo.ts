@@ -46,6 +46,8 @@ export interface Election {
   /** The preview ends here: the housekeeping job publishes the result. */
   publishDueAt: Date | null;
   createdAt: Date;
+  /** The member group whose privacy ledger this election's draw is charged to. */
+  groupId: string | null;
   options: ElectionOption[];
 }
 
@@ -84,6 +86,7 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     resultVisibleAt: date(r.result_visible_at),
     publishDueAt: date(r.publish_due_at),
     createdAt: new Date(r.created_at as string),
+    groupId: (r.group_id as string | null | undefined) ?? null,
     options,
   };
 }
