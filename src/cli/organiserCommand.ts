@@ -56,7 +56,6 @@ const resetFlags = z.object({ email: z.string({ message: '--email is missing: gi
 export function makeOrganiserCommand(open: ContextOpener = openConfigured): Command {
   return {
     name: 'organiser',
-    summary: 'list organisers, or reset an organiser’s password (for the operator)',
     usage: USAGE,
     async run(args: string[], io: CliIo) {
       const [action, ...rest] = args;

@@ -57,6 +57,8 @@ export interface ElectionSummary {
   closedAt: Date | null;
   timeZone: string;
   createdAt: Date;
+  tallyStartedAt: Date | null;
+  resultVisibleAt: Date | null;
 }
 
 /** The organiser's own elections and those shared with them (shared: true), newest first. */
@@ -65,7 +67,7 @@ export async function listOwnElections(db: Db, ownerId: string): Promise<(Electi
     .where({ owner_id: ownerId })
     .orWhereIn('id', db('election_organisers').where({ organiser_id: ownerId }).select('election_id'))
     .orderBy([{ column: 'created_at', order: 'desc' }, { column: 'id' }])
-    .select('id', 'owner_id', 'title', 'state', 'opens_at', 'closes_at', 'opened_at', 'closed_at', 'time_zone', 'created_at');
+    .select('id', 'owner_id', 'title', 'state', 'opens_at', 'closes_at', 'opened_at', 'closed_at', 'time_zone', 'created_at', 'tally_started_at', 'result_visible_at');
   return rows.map((r) => ({
     id: r.id,
     title: r.title,
@@ -77,5 +79,7 @@ export async function listOwnElections(db: Db, ownerId: string): Promise<(Electi
     timeZone: r.time_zone,
     createdAt: new Date(r.created_at),
     shared: r.owner_id !== ownerId,
+    tallyStartedAt: r.tally_started_at ? new Date(r.tally_started_at) : null,
+    resultVisibleAt: r.result_visible_at ? new Date(r.result_visible_at) : null,
   }));
 }

@@ -21,8 +21,12 @@ function timeNote(d: Dashboard): string {
       const t = votingTimes(e, d.now);
       return `Voting ended${t.closedEarly ? ' early' : ''}${t.closed ? ` on ${describeInstant(t.closed, e.timeZone)}` : ''}. Unlock the tally with your passphrase to draw the result.`;
     }
+    case 'drawing':
+      return 'The result is being drawn. It appears on the tally page at the next whole minute or soon after.';
     case 'tallied':
-      return 'The result has been drawn. Check the preview, then publish it.';
+      return e.publishDueAt
+        ? `The result has been drawn. Check the preview, then publish it. It will be published automatically on ${describeInstant(e.publishDueAt, e.timeZone)}: every draw is made public.`
+        : 'The result has been drawn. Check the preview, then publish it.';
     case 'published':
       return `The result was published${e.publishedAt ? ` on ${describeInstant(e.publishedAt, e.timeZone)}` : ''}.`;
   }
@@ -71,6 +75,19 @@ function timeSettings(d: Dashboard): { term: string; value: string }[] {
   return [opened, closed];
 }
 
+/**
+ * Our decision (DESIGN §5): no count of any kind while voting runs, not even a noisy one, since
+ * every estimate would cost privacy and the organiser needs none to run the vote. After close, the
+ * exact turnout is shown to nobody unless the organiser chose before opening to publish it; then
+ * it is part of the result, seen by the organiser in the preview and by everyone on publication.
+ */
+function turnoutNote(e: Dashboard['election']): string {
+  const live = 'Nobody is shown how many members have voted, you included, while voting runs or before the result is drawn: a live count would tell you whether a member you are watching has voted.';
+  return e.publishTurnout
+    ? `${live} You chose to publish the turnout: the exact number of ballots is part of the drawn result, shown to you in the preview and to everyone once published, marked as exact and not protected.`
+    : `${live} You chose not to publish the turnout, so nobody will ever be shown it; the result says only whether anyone voted.`;
+}
+
 export interface DashboardView {
   id: string;
   title: string;
@@ -80,12 +97,18 @@ export interface DashboardView {
   statusLabel: string;
   timeNote: string;
   closesText: string;
-  turnoutText: string;
+  /** Codes issued and withdrawn: never how many ballots were cast. */
+  codesText: string;
+  /** Who sees the turnout, and when. */
+  turnoutNote: string;
   liveCodes: number;
   settings: { term: string; value: string }[];
   options: { label: string; description: string }[];
   electorate: (ElectorateWarning & { className: string }) | null;
-  can: { edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean; deleteDraft: boolean; extendClosing: boolean; correctWording: boolean };
+  can: {
+    edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean; drawing: boolean;
+    deleteDraft: boolean; extendClosing: boolean; correctWording: boolean;
+  };
   events: { iso: string; when: string; who: string; what: string }[];
   resultsPath: string;
   timeZone: string;
@@ -93,11 +116,12 @@ export interface DashboardView {
 
 export function dashboardView(d: Dashboard): DashboardView {
   const e = d.election;
-  const t = d.turnout;
+  const t = d.codes;
   const warning = electorateWarning(e);
+  // What the drawn result reveals; what the organiser sees besides is said in the turnout note.
   const protects = e.neighbour === 'replace-one'
-    ? `Whether and how each member voted, both at ε = ${e.epsilon}`
-    : `Whether a member voted at ε = ${e.epsilon}; how they voted at 2ε (expert choice)`;
+    ? `In the drawn result: whether and how each member voted, both at ε = ${e.epsilon}` + (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '')
+    : `In the drawn result: whether a member voted at ε = ${e.epsilon}` + (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '') + '; how they voted at 2ε (expert choice)';
   return {
     id: e.id,
     title: e.title,
@@ -107,7 +131,8 @@ export function dashboardView(d: Dashboard): DashboardView {
     statusLabel: STATUS_LABELS[d.status],
     timeNote: timeNote(d),
     closesText: describeInstant(e.closesAt, e.timeZone),
-    turnoutText: `${plural(t.ballotsCast, 'ballot')} cast out of ${plural(t.codesIssued, 'code')} issued` + (t.codesRevoked > 0 ? ` (${t.codesRevoked.toLocaleString('en')} withdrawn)` : ''),
+    codesText: `${plural(t.codesIssued, 'ballot code')} issued` + (t.codesRevoked > 0 ? ` (${t.codesRevoked.toLocaleString('en')} withdrawn)` : ''),
+    turnoutNote: turnoutNote(e),
     liveCodes: t.codesIssued - t.codesRevoked,
     settings: [
       { term: 'Seats', value: String(e.seats) },
@@ -126,8 +151,9 @@ export function dashboardView(d: Dashboard): DashboardView {
       open: e.state === 'draft',
       close: canCloseEarly(e, d.now),
       tally: canTally(e, d.now),
-      publish: e.state === 'tallied',
-      seeResult: e.state === 'tallied' || e.state === 'published',
+      publish: d.status === 'tallied',
+      seeResult: d.status === 'tallied' || d.status === 'published',
+      drawing: d.status === 'drawing',
       deleteDraft: e.state === 'draft',
       extendClosing: e.state === 'open' && d.now < e.closesAt,
       correctWording: e.state === 'open' && d.now < e.closesAt,

@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
+import { resultHidden } from '../../elections/status.ts';
 import { describeStatement, type PrivacyStatement } from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
@@ -70,6 +71,8 @@ export interface ResultPageView {
   closedAt: ShownTime | null;
   publishedAt: ShownTime | null;
   tallied: boolean;
+  /** When a drawn result becomes public at the latest (every draw is published). */
+  publishDueAt: ShownTime | null;
   /** Before publication there is no statement yet, so the page carries the general caution. */
   caution: string;
   timeline: TimelineEntry[];
@@ -114,7 +117,8 @@ export function resultPageView(e: Election, events: readonly AuditRow[], now: Da
     closesAt: shownTime(e.closesAt, e.timeZone),
     closedAt: closedAt ? shownTime(closedAt, e.timeZone) : null,
     publishedAt: published && e.publishedAt ? shownTime(e.publishedAt, e.timeZone) : null,
-    tallied: e.state === 'tallied',
+    tallied: e.state === 'tallied' && !resultHidden(e, now),
+    publishDueAt: e.state === 'tallied' && !resultHidden(e, now) && e.publishDueAt ? shownTime(e.publishDueAt, e.timeZone) : null,
     caution: DRAW_CAUTION,
     timeline: timelineView(events, e, now),
     result: published ? publishedResultView(e.result) : null,

@@ -10,7 +10,7 @@ export interface TimelineEntry {
 
 const LABELS: Record<string, string> = {
   created: 'Election set up',
-  tallied: 'Sealed ballots counted and the winners drawn',
+  tallied: 'Drawn: sealed ballots counted and the winners drawn (the result is public by the deadline below)',
   published: 'Result published',
   shredded: 'Sealed ballots and the tally key destroyed',
   'closing-extended': 'Closing time extended',
@@ -29,6 +29,8 @@ export function timelineView(events: readonly AuditRow[], e: TimedElection, now:
   const times = votingTimes(e, now);
   const entries: { label: string; at: Date }[] = [];
   for (const ev of events) {
+    // The draw is stamped with the whole minute it becomes visible, so it is listed from that minute on.
+    if (ev.at > now) continue;
     if (ev.action === 'closing-extended' && typeof ev.detail.closesAt === 'string') {
       entries.push({ label: `Closing time extended to ${shownTime(new Date(ev.detail.closesAt), e.timeZone).text}`, at: ev.at });
     } else if (ev.action in LABELS) {
