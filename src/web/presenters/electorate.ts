@@ -46,15 +46,12 @@ export function electorateFacts(draw: ExponentialDraw, voters: number): Electora
   const facts = [
     `If all ${plural(voters, 'voter')} approve one option and nobody approves any other, that option ${chanceWords(a.unanimous, seats, true)}.`,
     `If an option leads every other by ${plural(a.typical.lead, 'approval')} (about one voter in ten), it ${chanceWords(a.typical, seats, false)}.`,
-    seats === 1
-      ? `For a 95% chance, the most approved option must lead every other by at least ${plural(a.margin95, 'approval')}.`
-      : `For a 95% chance at each seat, the most approved option still in play must lead every other by at least ${plural(a.margin95, 'approval')}.`,
   ];
   const message =
     a.level === 'uncertain'
-      ? `With about ${plural(voters, 'voter')}, even an option everyone approves falls short of a 95% chance. A larger ε, fewer options or fewer seats would make the draw follow the approvals more closely.`
+      ? `A 95% chance needs a lead of ${plural(a.margin95, 'approval')}, more than there are voters, so even an option everyone approves falls short of it. A larger ε, fewer options or fewer seats would make the draw follow the approvals more closely.`
       : a.level === 'noisy'
-        ? `A lead of one voter in ten falls short of a 95% chance, so in a close vote chance may decide who is drawn.`
+        ? `A 95% chance needs a lead of ${plural(a.margin95, 'approval')}, more than one voter in ten, so in a close vote chance may decide who is drawn.`
         : `A lead of one voter in ten gives at least a 95% chance. The ${seats === 1 ? 'winner is' : 'winners are'} still drawn by a weighted lottery, so nothing is certain.`;
   return { level: a.level, heading: HEADINGS[a.level], facts, message, expectedVoters: voters };
 }
@@ -123,5 +120,5 @@ export function drawWarning(e: Settings, turnout: number | null): DrawWarning | 
 }
 
 export function noticeClass(level: ElectorateLevel): string {
-  return level === 'uncertain' ? 'notice notice-problem' : level === 'noisy' ? 'notice notice-warn' : 'notice notice-good';
+  return level === 'uncertain' ? 'notice notice-warn' : level === 'noisy' ? 'notice' : 'notice notice-good';
 }
