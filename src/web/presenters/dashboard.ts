@@ -19,8 +19,12 @@ function timeNote(d: Dashboard): string {
       return `Voting closes in ${describeDuration(e.closesAt.getTime() - now)}, on ${describeInstant(e.closesAt, e.timeZone)}.`;
     case 'voting-ended':
       return `Voting ended${e.closedAt && e.closedAt < e.closesAt ? ' early' : ''}. Unlock the tally with your passphrase to draw the result.`;
+    case 'drawing':
+      return 'The result is being drawn. It appears on the tally page at the next whole minute or soon after.';
     case 'tallied':
-      return 'The result has been drawn. Check the preview, then publish it.';
+      return e.publishDueAt
+        ? `The result has been drawn. Check the preview, then publish it. It will be published automatically on ${describeInstant(e.publishDueAt, e.timeZone)}: every draw is made public.`
+        : 'The result has been drawn. Check the preview, then publish it.';
     case 'published':
       return `The result was published${e.publishedAt ? ` on ${describeInstant(e.publishedAt, e.timeZone)}` : ''}.`;
   }
@@ -79,7 +83,7 @@ export interface DashboardView {
   /** Before the draw (close and tally pages): the chances for the turnout the organiser may see, else the expected electorate. */
   beforeDraw: DrawWarning | null;
   protection: ProtectionWarning | null;
-  can: { edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean };
+  can: { edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean; drawing: boolean };
   events: { iso: string; when: string; who: string; what: string }[];
   resultsPath: string;
   timeZone: string;
@@ -134,8 +138,9 @@ export function dashboardView(d: Dashboard): DashboardView {
       open: e.state === 'draft',
       close: canCloseEarly(e, d.now),
       tally: canTally(e, d.now),
-      publish: e.state === 'tallied',
-      seeResult: e.state === 'tallied' || e.state === 'published',
+      publish: d.status === 'tallied',
+      seeResult: d.status === 'tallied' || d.status === 'published',
+      drawing: d.status === 'drawing',
     },
     events: [...d.events].reverse().map((ev) => ({
       iso: ev.at.toISOString(),
