@@ -10,7 +10,7 @@ export interface TimelineEntry {
 
 const LABELS: Record<string, string> = {
   created: 'Election set up',
-  tallied: 'Drawn: sealed ballots counted and the winners drawn (the result is public by the deadline below)',
+  tallied: 'Result drawn: sealed ballots counted and the winners drawn',
   published: 'Result published',
   shredded: 'Sealed ballots and the tally key destroyed',
   'closing-extended': 'Closing time extended',
