@@ -5,6 +5,7 @@ import type { AppDeps } from './deps.ts';
 import { securityHeaders, sameOriginOnly } from './middleware/security.ts';
 import { absoluteTimeout, csrfLocals, csrfProtection, isSecureSite, sessionMiddleware } from './middleware/sessions.ts';
 import { errorHandler, notFoundHandler } from './middleware/errorHandler.ts';
+import { refuseNulBytes } from './middleware/input.ts';
 import { requestLog } from './middleware/requestLog.ts';
 import { routers } from './routes/index.ts';
 import { resumeExpiredVote } from './routes/vote/resume.ts';
@@ -24,17 +25,18 @@ export function createApp(deps: AppDeps): Express {
   app.use(securityHeaders(isSecureSite(deps.config.publicUrl)));
   app.use('/static', express.static(PUBLIC_DIR, { index: false, maxAge: '1h' }));
   app.use(express.urlencoded({ extended: false, limit: '512kb', parameterLimit: 5000 }));
+  app.use(refuseNulBytes);
   app.use(sessionMiddleware(deps));
   app.use(absoluteTimeout(deps.ctx.now));
   // Locals come before the checks, so a page explaining a rejected form has them too.
-  app.use(csrfLocals);
+  app.use(csrfLocals(deps));
   app.use((req, res, next) => {
     res.locals.path = req.path;
     res.locals.signedIn = Boolean(req.session?.organiserId);
     next();
   });
   app.use(sameOriginOnly);
-  app.use(csrfProtection);
+  app.use(csrfProtection(deps));
 
   for (const make of routers) app.use(make(deps));
 

@@ -39,3 +39,16 @@ export class UnreadableForm extends VeiltallyError {
     this.status = status;
   }
 }
+
+/** A path with broken percent-encoding, or a field holding a character no database column can store (NUL). */
+export class UnreadableRequest extends VeiltallyError {
+  readonly code = 'UnreadableRequest';
+  override readonly status = 400;
+  constructor(what: 'address' | 'form') {
+    super(
+      what === 'address'
+        ? 'That address is not one we can read. Check the link and try again.'
+        : 'That form held a character we cannot store (a NUL byte). Remove it and send the form again.',
+    );
+  }
+}

@@ -61,7 +61,8 @@ export const resumeOrganiserForm: Recovery = (err: unknown, req: Request) => {
 const resumeSchema = z.object({
   email: z.string().max(254).catch(''),
   password: z.string().max(1024).catch(''),
-  resumeTo: z.string().max(200),
+  // Missing or repeated (an array): no known form to go back to, so plain sign-in.
+  resumeTo: z.string().max(200).catch(''),
 });
 
 export function resumeRoutes(deps: AppDeps): Router {
