@@ -36,27 +36,32 @@ export const noStore: RequestHandler = (_req, res, next) => {
 };
 
 /**
- * A second CSRF line beside the synchroniser token (OWASP CSRF Prevention Cheat Sheet,
- * "Verifying origin with standard headers" and Fetch Metadata): refuse state changes
- * that a browser says came from another site.
+ * A second CSRF line beside the token (OWASP CSRF Prevention Cheat Sheet, "Verifying origin with
+ * standard headers" and Fetch Metadata): refuse state changes that a browser says came from another
+ * site. The Origin is compared with the configured public origin (PUBLIC_URL), so a proxy that
+ * rewrites Host or sets X-Forwarded-Host does not break forms; a match with the Host the browser
+ * sent is also accepted, since a forged cross-site request carries its own site's Origin.
  */
-export const sameOriginOnly: RequestHandler = (req, _res, next) => {
-  if (req.method === 'GET' || req.method === 'HEAD' || req.method === 'OPTIONS') return next();
-  const site = req.get('sec-fetch-site');
-  if (site && site !== 'same-origin' && site !== 'none') {
-    return next(new Forbidden('This form was sent from another site, so we did not act on it.'));
-  }
-  const origin = req.get('origin');
-  if (origin && origin !== 'null') {
-    let host: string;
-    try {
-      host = new URL(origin).host;
-    } catch {
-      return next(new Forbidden('This form came with an unreadable origin, so we did not act on it.'));
-    }
-    if (host !== req.get('host')) {
+export function sameOriginOnly(publicUrl: string): RequestHandler {
+  const publicOrigin = new URL(publicUrl).origin;
+  return (req, _res, next) => {
+    if (req.method === 'GET' || req.method === 'HEAD' || req.method === 'OPTIONS') return next();
+    const site = req.get('sec-fetch-site');
+    if (site && site !== 'same-origin' && site !== 'none') {
       return next(new Forbidden('This form was sent from another site, so we did not act on it.'));
     }
-  }
-  next();
-};
+    const origin = req.get('origin');
+    if (origin && origin !== 'null') {
+      let parsed: URL;
+      try {
+        parsed = new URL(origin);
+      } catch {
+        return next(new Forbidden('This form came with an unreadable origin, so we did not act on it.'));
+      }
+      if (parsed.origin !== publicOrigin && parsed.host !== req.get('host')) {
+        return next(new Forbidden('This form was sent from another site, so we did not act on it.'));
+      }
+    }
+    next();
+  };
+}

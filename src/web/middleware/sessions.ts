@@ -32,7 +32,7 @@ export function sessionMiddleware(deps: AppDeps): RequestHandler {
     resave: false,
     saveUninitialized: false,
     rolling: true,
-    proxy: deps.config.trustProxy,
+    // Left undefined, express-session follows Express's 'trust proxy' (TRUST_PROXY) to decide if a request came over TLS.
     cookie: { httpOnly: true, sameSite: 'lax', secure, path: '/', maxAge: IDLE_MS },
   });
 }
