@@ -7,6 +7,7 @@ import { MigrationFailed, migrateLatest } from './db/migrate.ts';
 import { DEFAULT_KDF, type UseCaseContext } from './elections/context.ts';
 import { createLogger } from './log.ts';
 import { loadSecrets } from './secrets.ts';
+import { checkSecretsAgree, SecretsDisagree } from './instanceCheck.ts';
 import { createApp } from './web/app.ts';
 import { startHousekeeping } from './housekeeping.ts';
 
@@ -38,6 +39,13 @@ async function start(): Promise<void> {
     await db.close().catch(() => undefined);
     if (e instanceof MigrationFailed) fail(`could not prepare the database, ${e.message}`);
     fail(`could not reach the database (${e instanceof Error ? e.message : String(e)})`);
+  }
+  try {
+    await checkSecretsAgree(db.knex, secrets);
+  } catch (e) {
+    await db.close().catch(() => undefined);
+    if (e instanceof SecretsDisagree) fail(e.message);
+    throw e;
   }
 
   const ctx: UseCaseContext = {
