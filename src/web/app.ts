@@ -35,6 +35,7 @@ export function createApp(given: Omit<AppDeps, 'limits'> & { limits?: AppDeps['l
   app.use((req, res, next) => {
     res.locals.path = req.path;
     res.locals.signedIn = Boolean(req.session?.organiserId);
+    res.locals.demoOrganiser = Boolean(req.session?.organiserId && req.session.demo);
     next();
   });
   app.use(sameOriginOnly(deps.config.publicUrl));
