@@ -2,7 +2,7 @@ import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import { AlreadyPublished, NotTallied } from './errors.ts';
-import { retentionDaysSchema, shredInTransaction } from './shred.ts';
+import { retentionDaysSchema, rewriteShreddedTables, shredInTransaction } from './shred.ts';
 
 const DAY_MS = 24 * 60 * 60 * 1000;
 
@@ -26,4 +26,7 @@ export async function publishResult(ctx: UseCaseContext, input: { electionId: st
     await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'published' }, now);
     if (shredAfter === null && !e.shreddedAt) await shredInTransaction(trx, e.id, input.organiserId, now);
   });
+  // After commit: rewrite the tables so no dead row version keeps the key (shred.ts). If this fails,
+  // the housekeeping round retries it; the publication itself stands.
+  await rewriteShreddedTables(ctx.knex).catch(() => undefined);
 }
