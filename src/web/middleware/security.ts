@@ -7,7 +7,7 @@ import { Forbidden } from '../errors.ts';
  * HSTS only when the site is served over TLS.
  */
 export function securityHeaders(secure: boolean): RequestHandler {
-  return helmet({
+  const headers = helmet({
     contentSecurityPolicy: {
       useDefaults: false,
       directives: {
@@ -25,7 +25,14 @@ export function securityHeaders(secure: boolean): RequestHandler {
     referrerPolicy: { policy: 'no-referrer' },
     strictTransportSecurity: secure ? { maxAge: 31_536_000, includeSubDomains: true } : false,
     crossOriginEmbedderPolicy: false,
+    // Matches frame-ancestors 'none' for browsers that only read the older header.
+    xFrameOptions: { action: 'deny' },
   });
+  return (req, res, next) => {
+    // No page needs these browser features (W3C Permissions Policy); helmet does not set this header.
+    res.set('Permissions-Policy', 'camera=(), microphone=(), geolocation=(), payment=(), usb=(), fullscreen=()');
+    headers(req, res, next);
+  };
 }
 
 /** Pages that show a code, a receipt or a ballot must never be stored by a browser or proxy. */
