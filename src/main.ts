@@ -9,6 +9,7 @@ import { createLogger } from './log.ts';
 import { loadSecrets } from './secrets.ts';
 import { checkSecretsAgree, SecretsDisagree } from './instanceCheck.ts';
 import { createApp } from './web/app.ts';
+import { answerClientError } from './web/middleware/security.ts';
 import { startHousekeeping } from './housekeeping.ts';
 
 function fail(line: string): never {
@@ -58,6 +59,7 @@ async function start(): Promise<void> {
   };
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });
   const server: Server = app.listen(config.port, config.host);
+  server.on('clientError', answerClientError);
   await new Promise<void>((resolve, reject) => {
     server.once('listening', resolve);
     server.once('error', reject);

@@ -5,6 +5,7 @@ import { Writable } from 'node:stream';
 import { loadConfig } from '../../src/config.ts';
 import { createApp } from '../../src/web/app.ts';
 import { createLogger } from '../../src/log.ts';
+import { answerClientError } from '../../src/web/middleware/security.ts';
 import { freshDatabase, type TestDatabase } from '../helpers/databases.ts';
 import { FIXTURE_PASSWORD, createOrganiser, openElectionFixture, type ElectionFixture } from '../helpers/fixtures.ts';
 import { TEST_KDF, testContext } from '../helpers/context.ts';
@@ -17,7 +18,7 @@ import { pool, record } from './_harness.ts';
  * the real database. Not one may answer 5xx or log at error level. Every page carries the security
  * headers; markup typed into a field comes back as text; an oversized body gets 413.
  */
-const RUNS = 10_000;
+const RUNS = Number(process.env.FUZZ_RUNS ?? 10_000);
 const SEED = Number(process.env.FUZZ_SEED ?? 20261202);
 
 const FORMS: Array<{ path: string; fields: string[]; organiser?: boolean }> = [
@@ -69,7 +70,7 @@ const text = fc.oneof(
   fc.string({ maxLength: 30 }),
   fc.string({ unit: 'binary', maxLength: 30 }),
   fc.constantFrom('', ' ', '\u0000', 'a\u0000b', '<script>alert(1)</script>', '%', '%E0%A4%A', '1e309', '-1', '0', 'NaN', '2026-13-45T25:61', '../../etc/passwd', '\u202e', '\ud800'),
-  fc.integer({ min: 1000, max: 300_000 }).map((n) => 'x'.repeat(n)),
+  fc.integer({ min: 1000, max: 20_000 }).map((n) => 'x'.repeat(n)),
 );
 const value = fc.oneof({ weight: 4, arbitrary: text }, { weight: 1, arbitrary: fc.array(text, { minLength: 2, maxLength: 4 }) });
 
@@ -141,6 +142,7 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
     });
     const app = createApp({ config: loadConfig({ VEILTALLY_DATA_DIR: '/nonexistent-test-dir' }), ctx, logger: createLogger('info', sink), sessionSecret: 'hostile-input-session-secret-0123456789' });
     server = app.listen(0, '127.0.0.1');
+    server.on('clientError', answerClientError); // as main.ts does
     await new Promise((r) => server.once('listening', r));
     const a = server.address();
     base = `http://127.0.0.1:${typeof a === 'object' && a ? a.port : 0}`;
@@ -180,7 +182,7 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
     const statuses = new Map<number, number>();
     const failures: string[] = [];
     let headerProblems = 0;
-    const results = await pool(requests.length, 16, 240_000, async (i) => {
+    const results = await pool(requests.length, 16, 270_000, async (i) => {
       const r = requests[i]!;
       const who = r.organiser ? organiser : anonymous;
       const path = r.path.replace(':id', ids(r)) + r.rawQuery;
@@ -205,7 +207,10 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
         res.headers.get('x-frame-options') !== 'DENY' ||
         res.headers.get('referrer-policy') !== 'no-referrer' ||
         !res.headers.get('permissions-policy')
-      ) headerProblems++;
+      ) {
+        headerProblems++;
+        if (headerProblems <= 3) failures.push(`headers: ${r.method} ${path.slice(0, 80)} → ${res.status} ${csp} xfo=${res.headers.get('x-frame-options')}`);
+      }
       return res.status;
     });
     const sent = results.filter((s) => s !== undefined).length;
@@ -216,7 +221,7 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
     expect(sent).toBe(RUNS);
     expect(headerProblems).toBe(0);
     expect(errorLines).toEqual([]);
-  });
+  }, 300_000);
 
   it('answers a body over the limit with 413, and shows typed markup as text', async () => {
     const organiser = await tokensFor(organiserCookie);

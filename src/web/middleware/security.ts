@@ -72,3 +72,30 @@ export function sameOriginOnly(publicUrl: string): RequestHandler {
     next();
   };
 }
+
+/**
+ * Node answers some malformed requests itself before Express sees them (an address or headers over
+ * its 16 KiB limit: 431; unparseable HTTP: 400), with no headers at all. Give those answers the same
+ * protective headers as every page. Wire with `server.on('clientError', answerClientError)`.
+ */
+export function answerClientError(err: NodeJS.ErrnoException, socket: import('node:stream').Duplex): void {
+  if (err.code === 'ECONNRESET' || !socket.writable) return void socket.destroy();
+  const tooLarge = err.code === 'HPE_HEADER_OVERFLOW';
+  const status = tooLarge ? '431 Request Header Fields Too Large' : '400 Bad Request';
+  const body = tooLarge ? 'The address or the headers of that request were too long.\n' : 'That request could not be read.\n';
+  socket.end(
+    [
+      `HTTP/1.1 ${status}`,
+      'Content-Type: text/plain; charset=utf-8',
+      `Content-Length: ${Buffer.byteLength(body)}`,
+      'Connection: close',
+      "Content-Security-Policy: default-src 'none'; script-src 'self'; frame-ancestors 'none'; base-uri 'none'; form-action 'self'",
+      'X-Content-Type-Options: nosniff',
+      'X-Frame-Options: DENY',
+      'Referrer-Policy: no-referrer',
+      'Permissions-Policy: camera=(), microphone=(), geolocation=(), payment=(), usb=(), fullscreen=()',
+      '',
+      body,
+    ].join('\r\n'),
+  );
+}
