@@ -36,6 +36,11 @@ const schema = z.object({
     .regex(/^https?:\/\/[^\s/]+(\/[^\s]*)?$/, 'must be an http:// or https:// address, for example https://vote.example.org')
     .optional(),
   TRUST_PROXY: z.string().default('false'),
+  VEILTALLY_PREVIEW_HOURS: z.coerce
+    .number({ error: 'must be a number of hours from 0 to 48' })
+    .min(0, { error: 'must be a number of hours from 0 to 48' })
+    .max(48, { error: 'must be at most 48: every draw is published within 48 hours' })
+    .default(48),
   LOG_LEVEL: z.enum(LOG_LEVELS, { error: `must be one of ${LOG_LEVELS.join(', ')}` }).default('info'),
 });
 
@@ -55,6 +60,8 @@ export type Config = Readonly<{
    */
   trustProxy: TrustProxy;
   logLevel: (typeof LOG_LEVELS)[number];
+  /** How long an organiser may hold a drawn result as a private preview before it publishes itself (≤ 48 h). */
+  previewMs: number;
 }>;
 
 export type TrustProxy = false | number | readonly string[];
@@ -141,5 +148,6 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     publicUrl: (e.PUBLIC_URL ?? `http://${e.HOST.includes(':') ? `[${e.HOST}]` : e.HOST}:${e.PORT}`).replace(/\/+$/, ''),
     trustProxy,
     logLevel: e.LOG_LEVEL,
+    previewMs: Math.round(e.VEILTALLY_PREVIEW_HOURS * 3600_000),
   });
 }

@@ -1,4 +1,5 @@
 import { deleteExpiredSessions } from './accounts/sessionRepo.ts';
+import { publishDue } from './elections/publishResult.ts';
 import { shredDue } from './elections/shred.ts';
 import type { UseCaseContext } from './elections/context.ts';
 import type { Logger } from './log.ts';
@@ -9,13 +10,17 @@ export interface Job {
 }
 
 /**
- * Periodic chores. Each would be safe on several app servers at once (shredding locks the election
- * row, deletions are idempotent), but only one runs them at a time: see withHousekeepingLock.
+/**
+ * Periodic chores. Each would be safe on several app servers at once (publishing and shredding lock
+ * the election row with SKIP LOCKED and check its state, deletions are idempotent), but only one
+ * runs them at a time: see withHousekeepingLock.
  */
 export const jobs: readonly Job[] = [
   { name: 'expire sessions', run: (ctx) => deleteExpiredSessions(ctx.knex, ctx.now()) },
   // Attempt-limit rows whose window has ended (src/web/middleware/limits.ts); `expire` is in ms.
   { name: 'forget ended attempt limits', run: (ctx) => ctx.knex('rate_limits').where('expire', '<', ctx.now().getTime()).delete() },
+  // Before shredding, so a result published now with "shred at once" is shredded in the same pass.
+  { name: 'publish results whose preview has ended', run: (ctx) => publishDue(ctx) },
   { name: 'shred ballots past their retention', run: (ctx) => shredDue(ctx) },
 ];
 
