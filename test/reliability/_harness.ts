@@ -126,12 +126,18 @@ export async function cast(base: string, m: Member, electionId: string, code: st
   for (const a of approvals) body.append('approve', String(a));
   const res = await fetch(`${base}/vote/${electionId}/cast`, {
     method: 'POST',
+    redirect: 'manual',
     headers: { 'content-type': 'application/x-www-form-urlencoded', cookie: m.cookie },
     body,
     signal,
   });
-  const html = await res.text();
-  return { status: res.status, receipt: res.status === 200 ? (/<p class="receipt">([^<]+)<\/p>/.exec(html)?.[1] ?? null) : null };
+  await res.arrayBuffer();
+  if (res.status !== 303) return { status: res.status, receipt: null };
+  // Post/redirect/get: the receipt is shown once, to the browser holding the receipt cookie.
+  const cookie = [m.cookie, ...(res.headers.getSetCookie?.() ?? []).map((c) => c.split(';')[0])].join('; ');
+  const page = await fetch(new URL(res.headers.get('location')!, base), { headers: { cookie }, signal });
+  const html = await page.text();
+  return { status: page.status, receipt: page.status === 200 ? (/<p class="receipt">([^<]+)<\/p>/.exec(html)?.[1] ?? null) : null };
 }
 
 /** Runs `work(i)` for i in [0, count) on `clients` concurrent workers, stopping early at `deadline`. */

@@ -63,7 +63,8 @@ describe.runIf(process.env.TEST_DATABASE_URL)('secrets stay out of logs and dump
       const token = csrfFrom(start.text);
       await member.post(`/vote/${id}/ballot`).type('form').send(encode({ _csrf: token, code })).expect(200);
       await member.post(`/vote/${id}/confirm`).type('form').send(encode({ _csrf: token, code, approve: [String(i % 3)] })).expect(200);
-      const cast = await member.post(`/vote/${id}/cast`).type('form').send(encode({ _csrf: token, code, approve: [String(i % 3)] })).expect(200);
+      const posted = await member.post(`/vote/${id}/cast`).type('form').send(encode({ _csrf: token, code, approve: [String(i % 3)] })).expect(303);
+      const cast = await member.get(posted.headers.location!).expect(200);
       receipts.push(/<p class="receipt">([^<]+)<\/p>/.exec(cast.text)![1]!);
     }
     expect((await postForm(agent, `/organise/elections/${id}/close`, `/organise/elections/${id}/close`, {})).status).toBeLessThan(400);
