@@ -5,9 +5,9 @@ import { ElectionNotFound } from '../../../elections/errors.ts';
 import { findBallotByCode, listPublishedResults } from '../../../elections/findBallotByCode.ts';
 import { findElection } from '../../../elections/electionRepo.ts';
 import { CodeMalformed, CodeTypo } from '../../../custody/errors.ts';
-import { limiter } from '../../app.ts';
-import { TooManyAttempts } from '../../errors.ts';
 import { noStore } from '../../middleware/security.ts';
+import type { LockedOut } from '../../middleware/limits.ts';
+import { TooManyAttempts } from '../../errors.ts';
 import { votingElectionView } from '../../presenters/ballot.ts';
 import { shownTime } from '../../presenters/publicTime.ts';
 import { ballotPathOf, findBallotForm } from './schema.ts';
@@ -26,9 +26,15 @@ export function siteRouter(deps: AppDeps): Router {
 
   const { ctx } = deps;
   // Like the ballot steps: only failed look-ups count, so a meeting on one address is never locked out.
-  const codeAttempts = limiter(300, 10 * 60_000, () => new TooManyAttempts('ballot code attempts'), { countFailuresOnly: true });
+  const codeAttempts = deps.limits.codeLookups;
 
   async function renderHome(res: Response, status: number, code: string, problem: string | null) {
+    // Past the look-up limit a failed look-up is not answered, only "wait" (limits.ts, failures-only).
+    const locked = res.locals.lockedOut as LockedOut | undefined;
+    if (status >= 400 && locked) {
+      res.set('Retry-After', String(Math.max(1, Math.ceil(locked.retryAfterMs / 1000))));
+      throw new TooManyAttempts(locked.what, locked.retryAfterMs);
+    }
     const results = (await listPublishedResults(ctx)).map((r) => ({ url: `/results/${r.id}`, title: r.title, publishedAt: shownTime(r.publishedAt, r.timeZone) }));
     res.status(status).render('site/home', { title: 'Private approval votes', code, problem, results });
   }
