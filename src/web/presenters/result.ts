@@ -73,6 +73,7 @@ export interface PublishedResultView {
   /** For several seats: that the order is the draw order, not a ranking. */
   orderNote: string | null;
   winnersHeading: string;
+  /** order: "Drawn 1st"… for several seats, empty for one. */
   winnerEntries: { order: string; label: string }[];
   options: ResultOption[];
   chart: ResultChart | null;
@@ -184,7 +185,7 @@ export function publishedResultView(stored: unknown): PublishedResultView {
         ? 'Listed in the order they were drawn. This order is not a ranking: the option drawn first did not necessarily have more approvals than the others.'
         : null,
     winnersHeading: seats === 1 ? 'The winner' : `The ${seats} options drawn, in draw order`,
-    winnerEntries: statement.winners.map((label, i) => ({ order: seats === 1 ? 'Drawn' : `Drawn ${ordinal(i + 1)}`, label })),
+    winnerEntries: statement.winners.map((label, i) => ({ order: seats === 1 ? '' : `Drawn ${ordinal(i + 1)}`, label })),
     options: statement.optionLabels.map((label) => ({ label, drawn: drawnAs(label) })),
     chart: noBallots ? null : resultChart(statement),
     paragraphs: text.paragraphs,
