@@ -42,7 +42,7 @@ const TIMELINE: Record<string, string> = {
   created: 'Election set up',
   opened: 'Voting opened',
   closed: 'Voting closed',
-  tallied: 'Drawn: sealed ballots counted and the winners drawn (the result is public by the deadline below)',
+  tallied: 'Result drawn: sealed ballots counted and the winners drawn',
   published: 'Result published',
   shredded: 'Sealed ballots and the tally key destroyed',
 };

@@ -66,7 +66,7 @@ describe.each(engines)('public result pages [%s]', (engine) => {
       'Election set up',
       'Voting opened',
       'Voting closed',
-      'Sealed ballots counted and the winners drawn',
+      'Result drawn: sealed ballots counted and the winners drawn',
       'Result published',
       'Sealed ballots and the tally key destroyed',
     ]);
