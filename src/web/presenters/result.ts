@@ -157,7 +157,7 @@ function resultChart(s: { epsilon: string; optionLabels: string[]; seats: number
     title: `Lead needed against the chance that ${who} is drawn${s.seats === 1 ? '' : ', for each seat'}`,
     desc:
       `For ε = ${draw.epsilon.text}, ${s.optionLabels.length} options and ${s.seats} ${s.seats === 1 ? 'seat' : 'seats'}: ` +
-      `with a lead of ${m95} approvals over every other option the chance is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
+      `with a lead of ${m95} ${m95 === 1 ? 'approval' : 'approvals'} over every other option the chance is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
   });
   return {
     chart,
