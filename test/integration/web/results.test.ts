@@ -51,7 +51,7 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     expect(listed).toEqual(f.options.map((o) => [o.label, o.label === winners[0] ? 'Drawn' : 'Not drawn']));
     // The caution once, the statement's paragraphs folded away under <details>.
     expect(html.split(escapeHtml(text.caution)).length - 1).toBe(1);
-    const folded = html.slice(html.indexOf('<details class="maths'), html.indexOf('</details>'));
+    const folded = html.slice(html.indexOf('<details class="maths'), html.lastIndexOf('</details>'));
     for (const p of text.paragraphs) expect(folded).toContain(escapeHtml(p));
     expect(folded).toContain(escapeHtml(text.boundsSentence));
     expect(folded).toMatch(/<svg[^>]*role="img" aria-labelledby="chart-title chart-desc"/);
