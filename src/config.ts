@@ -34,6 +34,11 @@ const schema = z.object({
     .regex(/^https?:\/\/[^\s/]+(\/[^\s]*)?$/, 'must be an http:// or https:// address, for example https://vote.example.org')
     .optional(),
   TRUST_PROXY: booleanish.default(false),
+  VEILTALLY_EPSILON_BUDGET: z
+    .string()
+    .regex(/^(0|[1-9][0-9]{0,3})(\.[0-9]{1,4})?$/, 'must be a decimal ε such as 10 or 12.5')
+    .default('10'),
+  VEILTALLY_ALLOW_OVER_BUDGET: booleanish.default(false),
   LOG_LEVEL: z.enum(LOG_LEVELS, { error: `must be one of ${LOG_LEVELS.join(', ')}` }).default('info'),
 });
 
@@ -48,6 +53,8 @@ export type Config = Readonly<{
   publicUrl: string;
   trustProxy: boolean;
   logLevel: (typeof LOG_LEVELS)[number];
+  /** Annual ε budget per member group (how members voted, 12 months), and whether opening past it is allowed. */
+  ledger: Readonly<{ annualBudget: string; allowOverBudget: boolean }>;
 }>;
 
 export class ConfigError extends Error {
@@ -75,5 +82,6 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     publicUrl: (e.PUBLIC_URL ?? `http://${e.HOST.includes(':') ? `[${e.HOST}]` : e.HOST}:${e.PORT}`).replace(/\/+$/, ''),
     trustProxy: e.TRUST_PROXY,
     logLevel: e.LOG_LEVEL,
+    ledger: Object.freeze({ annualBudget: e.VEILTALLY_EPSILON_BUDGET, allowOverBudget: e.VEILTALLY_ALLOW_OVER_BUDGET }),
   });
 }

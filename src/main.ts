@@ -40,6 +40,7 @@ async function start(): Promise<void> {
     random: (n) => crypto.randomBytes(n),
     secrets,
     kdf: DEFAULT_KDF,
+    ledgerPolicy: config.ledger,
   };
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });
   const server: Server = app.listen(config.port, config.host);

@@ -46,6 +46,7 @@ export {
   epsilonExceeds,
   ledgerTotals,
   checkBudget,
+  howVotedCost,
   toMinute,
   yearBefore,
 } from './ledger.ts';

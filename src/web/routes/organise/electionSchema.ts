@@ -22,6 +22,8 @@ export interface ElectionFormValues {
   publishTurnout: 'yes' | 'no';
   retention: 'shred' | 'keep';
   retentionDays: string;
+  /** The member group the draw is charged to in the privacy ledger. */
+  memberGroup: string;
 }
 
 /** Rows beyond this are never rendered or read; the option limit itself is checked by the draft rules. */
@@ -46,6 +48,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
     publishTurnout: field(body, 'publishTurnout') === 'yes' ? 'yes' : 'no',
     retention: field(body, 'retention') === 'keep' ? 'keep' : 'shred',
     retentionDays: cut(field(body, 'retentionDays'), 20),
+    memberGroup: cut(field(body, 'memberGroup'), 400),
   };
 }
 
@@ -94,6 +97,8 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     publishTurnout: v.publishTurnout === 'yes',
     retentionDays,
     expectedVoters: expectedVoters ?? 1,
+    // Left empty: the instance's default group on creation, and no change on an edit.
+    memberGroup: v.memberGroup.trim() === '' ? undefined : v.memberGroup,
   };
   try {
     const draft = checkDraft(candidate);
