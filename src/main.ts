@@ -8,6 +8,7 @@ import { createLogger } from './log.ts';
 import { loadSecrets } from './secrets.ts';
 import { createApp } from './web/app.ts';
 import { startHousekeeping } from './housekeeping.ts';
+import { registerSigningKey } from './elections/signingKeyRepo.ts';
 
 function fail(line: string): never {
   process.stderr.write(`veiltally: ${line}\n`);
@@ -42,6 +43,8 @@ async function start(): Promise<void> {
     kdf: DEFAULT_KDF,
     ledgerPolicy: config.ledger,
   };
+  // The active signing key's public half is listed on /keys from the start, before its first statement.
+  await registerSigningKey(db.knex, secrets.signingSeed, new Date());
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });
   const server: Server = app.listen(config.port, config.host);
   await new Promise<void>((resolve, reject) => {
