@@ -27,7 +27,6 @@ key list   lists every signing key with its id and fingerprint.`;
 
 export const keyCommand: Command = {
   name: 'key',
-  summary: 'add a new statement-signing key (old statements keep verifying) or list the keys',
   usage,
   async run(args, io) {
     const [action, ...rest] = args;

@@ -132,7 +132,6 @@ function summary(e: StatementEnvelope): string {
 
 export const verifyCommand: Command = {
   name: 'verify',
-  summary: 'check a signed result statement offline: signature, format, election and every bound',
   usage,
   async run(args, io) {
     const [file, ...rest] = args;
