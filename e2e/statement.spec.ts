@@ -11,7 +11,7 @@ it('the key, verify and ledger pages and a result with its statement links have 
   await castAll(server.ctx, f, [[0], [1, 2], [0, 3]]);
   server.clock.advance(8 * 24 * 3600_000);
   await tallyFixture(server.ctx, f, true);
-  const statement = await (await fetch(`${server.url}/results/${f.id}/statement.json`)).json();
+  const statement = (await (await fetch(`${server.url}/results/${f.id}/statement.json`)).json()) as { statement: { ledger: { groupId: string } } };
   const context = await browser.newContext();
   const page = await context.newPage();
   const pages = ['/keys', '/verify', `/groups/${statement.statement.ledger.groupId}/ledger`, `/results/${f.id}`];

@@ -39,6 +39,11 @@ const schema = z.object({
     .regex(/^(0|[1-9][0-9]{0,3})(\.[0-9]{1,4})?$/, 'must be a decimal ε such as 10 or 12.5')
     .default('10'),
   VEILTALLY_ALLOW_OVER_BUDGET: booleanish.default(false),
+  VEILTALLY_PREVIEW_HOURS: z.coerce
+    .number({ error: 'must be a number of hours from 0 to 48' })
+    .min(0, { error: 'must be a number of hours from 0 to 48' })
+    .max(48, { error: 'must be at most 48: every draw is published within 48 hours' })
+    .default(48),
   LOG_LEVEL: z.enum(LOG_LEVELS, { error: `must be one of ${LOG_LEVELS.join(', ')}` }).default('info'),
 });
 
@@ -55,6 +60,8 @@ export type Config = Readonly<{
   logLevel: (typeof LOG_LEVELS)[number];
   /** Annual ε budget per member group (how members voted, 12 months), and whether opening past it is allowed. */
   ledger: Readonly<{ annualBudget: string; allowOverBudget: boolean }>;
+  /** How long an organiser may hold a drawn result as a private preview before it publishes itself (≤ 48 h). */
+  previewMs: number;
 }>;
 
 export class ConfigError extends Error {
@@ -83,5 +90,6 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     trustProxy: e.TRUST_PROXY,
     logLevel: e.LOG_LEVEL,
     ledger: Object.freeze({ annualBudget: e.VEILTALLY_EPSILON_BUDGET, allowOverBudget: e.VEILTALLY_ALLOW_OVER_BUDGET }),
+    previewMs: Math.round(e.VEILTALLY_PREVIEW_HOURS * 3600_000),
   });
 }
