@@ -1,4 +1,4 @@
-import { checkBudget, howVotedCost, ledgerTotals, type BudgetCheck, type LedgerTotals } from '../mechanism/index.ts';
+import { checkBudget, howVotedCost, ledgerTotals, sumEpsilons, yearBefore, type BudgetCheck, type LedgerTotals } from '../mechanism/index.ts';
 import type { Db } from '../db/knex.ts';
 import { DEFAULT_LEDGER_POLICY, type UseCaseContext } from './context.ts';
 import { findGroup, findGroupByName, listLedger, pendingDraws, type LedgerRow, type MemberGroup } from './ledgerRepo.ts';
@@ -15,9 +15,12 @@ export interface GroupLedger {
 export async function loadGroupLedger(ctx: UseCaseContext, groupId: string): Promise<GroupLedger> {
   const group = await findGroup(ctx.knex, groupId);
   if (!group) throw new NotFound('We could not find that member group.');
-  const rows = await listLedger(ctx.knex, group.id);
+  // A draw shows from its whole minute (closeAndTally stamps it there), so a charge stamped
+  // later than now is not listed yet: the ledger must not tell a draw's time more finely.
+  const now = ctx.now();
+  const rows = (await listLedger(ctx.knex, group.id)).filter((r) => r.chargedAt <= now);
   const policy = ctx.ledgerPolicy ?? DEFAULT_LEDGER_POLICY;
-  return { group, rows, totals: ledgerTotals(rows, ctx.now()), budget: policy.annualBudget };
+  return { group, rows, totals: ledgerTotals(rows, now), budget: policy.annualBudget };
 }
 
 export interface BudgetPreview extends BudgetCheck {
@@ -43,7 +46,11 @@ export async function budgetPreview(
   const policy = ctx.ledgerPolicy ?? DEFAULT_LEDGER_POLICY;
   const group = await findGroupByName(db, input.groupName);
   const rows = group ? await listLedger(db, group.id) : [];
-  const totals = ledgerTotals(rows, ctx.now());
+  // Every charge of the last 12 months counts, including one stamped at the coming minute.
+  const now = ctx.now();
+  const since = yearBefore(now);
+  const recent = rows.filter((r) => r.chargedAt > since);
+  const totals = { howVotedEpsilon: sumEpsilons(recent.map((r) => r.howVotedEpsilon)), draws: recent.length };
   const pending = group ? await pendingDraws(db, group.id, input.electionId) : [];
   const check = checkBudget({
     spent: totals.howVotedEpsilon,

@@ -43,7 +43,11 @@ describe.each(engines)('the privacy ledger [%s]', (engine) => {
       s.ctx.knex('privacy_ledger').insert({ group_id: e.groupId, election_id: e.id, kind: 'draw', charged_at: new Date(), how_voted_epsilon: '0', whether_voted_epsilon: '0', unprotected: '[]' }),
     ).rejects.toThrow();
 
-    // The public ledger page lists both draws, the withheld one marked, with the 12-month totals.
+    // The public ledger page lists both draws, the withheld one marked, with the 12-month totals,
+    // from the draw's whole minute on (the time the draw is stamped with).
+    const early = (await request(s.app).get(`/groups/${e.groupId}/ledger`).expect(200)).text;
+    expect(early).not.toContain('but the exact turnout was published'); // the second draw's minute has not come yet
+    s.clock.advance(2 * 60_000);
     const page = (await request(s.app).get(`/groups/${e.groupId}/ledger`).expect(200)).text;
     expect(page).toContain('Tenants association');
     expect(page).toContain('(not published)');
