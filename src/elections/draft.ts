@@ -18,7 +18,8 @@ export interface DraftInput {
   publishTurnout: boolean;
   /** null: shred the key and sealed ballots at publication (the default). */
   retentionDays: number | null;
-  expectedVoters: number;
+  /** null: the organiser gave no estimate (it only feeds the guidance). */
+  expectedVoters: number | null;
   /**
    * The member group whose privacy ledger the draw is charged to, by name ("Rowing club members").
    * Absent: the instance's default group on creation, unchanged on an edit.
@@ -73,7 +74,8 @@ export const draftSchema = z
       .number()
       .int('Give a whole number of voters.')
       .min(1, 'Expect at least 1 voter.')
-      .max(L.votersMax, `We support up to ${L.votersMax.toLocaleString('en')} voters.`),
+      .max(L.votersMax, `We support up to ${L.votersMax.toLocaleString('en')} voters.`)
+      .nullable(),
     memberGroup: z
       .string()
       .trim()

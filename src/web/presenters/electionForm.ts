@@ -79,6 +79,8 @@ export interface ElectionFormView {
   canAddRows: boolean;
   /** The group's privacy spending and what this election would add; null until a group and a valid ε are given. */
   budget: BudgetPreview | null;
+  /** A passphrase had been typed but the form came back: it is never echoed, so say it must be typed again. */
+  passphraseCleared: boolean;
 }
 
 export function electionFormView(input: {
@@ -89,6 +91,7 @@ export function electionFormView(input: {
   addRows?: number;
   maxRows: number;
   budget?: BudgetPreview | null;
+  passphraseCleared?: boolean;
 }): ElectionFormView {
   const errors = input.errors ?? {};
   const values = { ...input.values, options: [...input.values.options] };
@@ -111,5 +114,6 @@ export function electionFormView(input: {
     ambiguous: input.ambiguous ?? [],
     canAddRows: values.options.length < input.maxRows,
     budget: input.budget ?? null,
+    passphraseCleared: input.electionId === null && (input.passphraseCleared ?? false),
   };
 }
