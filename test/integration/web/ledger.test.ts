@@ -1,11 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { findElection } from '../../../src/elections/electionRepo.ts';
-import { OverBudget } from '../../../src/elections/errors.ts';
+import { AlreadyTallied, OverBudget } from '../../../src/elections/errors.ts';
 import { publishResult } from '../../../src/elections/publishResult.ts';
 import { openElection } from '../../../src/elections/openElection.ts';
 import { engines } from '../../helpers/databases.ts';
-import { createDraft, FIXTURE_PASSWORD, openFixture } from '../../helpers/fixtures.ts';
+import { createDraft, FIXTURE_PASSWORD, openFixture, tallyFixture } from '../../helpers/fixtures.ts';
 import { DAY, useMemberSuite } from '../../helpers/memberSuite.ts';
 import { csrfFrom } from './organiseSupport.ts';
 
@@ -62,6 +62,16 @@ describe.each(engines)('the privacy ledger [%s]', (engine) => {
     // Publishing the withheld result later changes no charge.
     await publishResult(s.ctx, { electionId: e.id, organiserId: s.organiserId });
     expect(await ledgerRows(s, e.groupId!)).toEqual(after);
+  });
+
+  it('an election reset behind the app\'s back cannot be drawn and signed a second time', async () => {
+    const d = await s.decided([[0], [1], [2]], { memberGroup: 'Allotment holders' }, false);
+    const before = await s.ctx.knex('statements').where({ election_id: d.f.id }).select('draw_sequence', 'canonical');
+    // A database operator puts the election back to "closed" to get another draw.
+    await s.ctx.knex('elections').where({ id: d.f.id }).update({ state: 'closed', result: null, tallied_at: null, ballots_counted: null, result_visible_at: null, publish_due_at: null });
+    await expect(tallyFixture(s.ctx, d.f, false)).rejects.toBeInstanceOf(AlreadyTallied);
+    expect(await s.ctx.knex('statements').where({ election_id: d.f.id }).select('draw_sequence', 'canonical')).toEqual(before);
+    expect(Number((await s.ctx.knex('privacy_ledger').where({ election_id: d.f.id }).count({ n: '*' }).first())!.n)).toBe(1);
   });
 
   it('refuses to open an election that would pass the annual budget, unless the configuration allows it', async () => {
