@@ -117,16 +117,19 @@ export function verifyStatementText(statementText: string, keyText: string | nul
   return { lines, passed: lines.every((l) => l.ok), envelope };
 }
 
+/** Text from the statement is shown in a terminal: control characters (escape sequences) become "?". */
+const shown = (text: string): string => text.replace(/[\u0000-\u001f\u007f-\u009f]/g, '?');
+
 function summary(e: StatementEnvelope): string {
   const s = e.statement;
-  const winners = s.released.anyoneVoted ? s.released.winners.map((w) => `"${w}"`).join(', ') : 'none (no ballots were cast)';
+  const winners = s.released.anyoneVoted ? s.released.winners.map((w) => `"${shown(w)}"`).join(', ') : 'none (no ballots were cast)';
   const turnout = s.released.turnout ? `${s.released.turnout.value} ballots (exact, not protected)` : 'not published';
   const whether = s.privacy.whetherVoted ? `ε = ${s.privacy.whetherVoted.epsilon}` : 'not protected (exact turnout published)';
   return [
-    `What the statement says: election "${s.electionTitle}" (${s.electionId}), draw number ${s.drawSequence} of this instance, drawn ${s.drawnAt}.`,
+    `What the statement says: election "${shown(s.electionTitle)}" (${s.electionId}), draw number ${s.drawSequence} of this instance, drawn ${s.drawnAt}.`,
     `Released: winners ${winners}; turnout ${turnout}; whether anyone voted (not protected).`,
     `Rule: ${s.mechanism.rule}, ε = ${s.mechanism.epsilon}, ${s.mechanism.seats} seat(s), ${s.mechanism.neighbour} neighbours. How a member voted: ε = ${s.privacy.howVoted.epsilon}; whether: ${whether}.`,
-    `Group "${s.ledger.groupName}" over the 12 months to this draw: ${s.ledger.draws} draw(s), ε = ${s.ledger.howVotedEpsilon} for how members voted, ε = ${s.ledger.whetherVotedEpsilon} for whether (basic composition, Dwork & Roth 2014, Thm 3.16).`,
+    `Group "${shown(s.ledger.groupName)}" over the 12 months to this draw: ${s.ledger.draws} draw(s), ε = ${s.ledger.howVotedEpsilon} for how members voted, ε = ${s.ledger.whetherVotedEpsilon} for whether (basic composition, Dwork & Roth 2014, Thm 3.16).`,
   ].map((l) => wrap(l)).join('');
 }
 
