@@ -45,6 +45,8 @@ export function loadSecrets(config: Config): AllSecrets {
     codePepper: config.codePepperHex
       ? Buffer.from(config.codePepperHex, 'hex')
       : readOrCreate(dir, 'code-pepper', 32),
-    signingSeed: readOrCreate(dir, SIGNING_SEED_FILE, 32),
+    signingSeed: config.signingSeedHex
+      ? Buffer.from(config.signingSeedHex, 'hex')
+      : readOrCreate(dir, SIGNING_SEED_FILE, 32),
   });
 }

@@ -8,6 +8,7 @@ import { migrateLatest } from '../../db/migrate.ts';
 import { listSigningKeys, registerSigningKey } from '../../elections/signingKeyRepo.ts';
 import { InvalidInput } from '../../errors.ts';
 import { SIGNING_SEED_FILE } from '../../secrets.ts';
+import { replaceSigningSeedFingerprint } from '../../instanceCheck.ts';
 import { parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
 
@@ -21,8 +22,9 @@ key add    makes a new Ed25519 signing key and registers its public key in the d
            directory (${path.join('secrets', SIGNING_SEED_FILE)}); the old seed is overwritten, so
            the old key can sign nothing more.
            --print writes the new seed (hex) to standard output instead, for operators who
-           give every instance its secrets from the environment or a file: put it there,
-           then restart every instance.
+           give every instance its secrets in VEILTALLY_SIGNING_SEED or VEILTALLY_SIGNING_SEED_FILE:
+           put it there, then restart every instance. Either way the stored fingerprint of
+           the seed follows the new one, so an instance left on the old seed will not start.
 key list   lists every signing key with its id and fingerprint.`;
 
 export const keyCommand: Command = {
@@ -42,8 +44,12 @@ export const keyCommand: Command = {
         }
         return 0;
       }
+      if (!flags.print && config.signingSeedHex !== undefined) {
+        throw new InvalidInput('the signing seed is given by VEILTALLY_SIGNING_SEED (or its _FILE): run `veiltally key add --print`, put the printed seed there on every instance, and restart them');
+      }
       const seed = crypto.randomBytes(32);
       const key = await registerSigningKey(db.knex, seed, new Date());
+      await replaceSigningSeedFingerprint(db.knex, seed);
       if (flags.print) {
         io.stdout(`${seed.toString('hex')}\n`);
       } else {
