@@ -55,6 +55,7 @@ export {
   epsilonExceeds,
   ledgerTotals,
   checkBudget,
+  howVotedCost,
   toMinute,
   yearBefore,
 } from './ledger.ts';
