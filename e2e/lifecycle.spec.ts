@@ -69,7 +69,7 @@ it('runs an election from first-run setup to a published result, entirely throug
   await page.getByLabel('Title', { exact: true }).fill('Which repairs to fund this year');
   await page.getByLabel('Description (optional)', { exact: true }).fill('The association has money for some repairs.\nTick every one you support.');
   for (const [i, label] of OPTIONS.entries()) await page.getByLabel(`Option ${i + 1} label`, { exact: true }).fill(label);
-  await page.getByLabel('Expected number of voters', { exact: true }).fill('5');
+  await page.getByLabel('Expected number of voters (optional)', { exact: true }).fill('5');
   await page.getByLabel('Passphrase', { exact: true }).fill(PASSPHRASE);
   await page.getByLabel('Passphrase again', { exact: true }).fill(PASSPHRASE);
   await audited(page, 'organise-election-form');
@@ -113,10 +113,10 @@ it('runs an election from first-run setup to a published result, entirely throug
   const reader = await browser.newContext({ viewport: DESKTOP });
   const result = await reader.newPage();
   await result.goto(`${server.url}/results/${electionId}`);
-  const winners = await result.locator('ol.winners li').allInnerTexts();
+  const winners = await result.locator('.announce-name').allInnerTexts();
   expect(winners).toHaveLength(1);
   expect(OPTIONS).toContain(winners[0]);
-  expect(await result.locator('.result-outcome .lede').innerText()).toContain(`${winners[0]} was drawn as the winner.`);
+  expect(await result.locator('.meaning p').first().innerText()).toContain(`${winners[0]} was drawn by a lottery weighted toward the options more members approved.`);
   await result.getByLabel('Receipt', { exact: true }).fill(receipts[2]!);
   await result.getByRole('button', { name: 'Check receipt' }).click();
   expect(await result.getByRole('status').filter({ hasText: 'This receipt is among the ballots counted.' }).count()).toBe(1);

@@ -2,6 +2,7 @@ import { z } from 'zod';
 import type { Election } from '../../elections/electionRepo.ts';
 import { InvalidBallot } from '../../elections/errors.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
+import { votingTimes } from '../../elections/votingTimes.ts';
 import { describeParties, makeExponentialDraw, type PartyText } from '../../mechanism/index.ts';
 
 /** Members are told the longest preview the product allows; a shorter configured one only publishes sooner. */
@@ -27,6 +28,12 @@ export interface VotingElectionView {
   opensAt: ShownTime;
   closesAt: ShownTime;
   window: VotingWindow;
+  /** When voting really ended (an early close, or the closing time once passed); null while open. */
+  closedAt: ShownTime | null;
+  /** The result is public: the ballot link then says so and points to it. */
+  published: boolean;
+  /** How to reach the organiser, as they wrote it; empty when they gave none. */
+  contact: string;
   voteUrl: string;
   resultsUrl: string;
   /** Short sentences shown before voting: how the result will be drawn. */
@@ -55,8 +62,13 @@ function howDrawn(e: Election): string[] {
 // The rule every caution carries (see the project's wording rules); not statement text, which comes from the mechanism.
 export const DRAW_CAUTION =
   'The winner is drawn at random, weighted toward the most approved options, so it is not always the option with the most approvals. ' +
-  'With few voters or a small ε the draw is close to a lottery. ' +
+  'With few voters or a small ε, chance plays a larger part, so a less approved option may well be drawn. ' +
   'Your organisation adopted this way of choosing before the vote, in line with its bylaws and local election law.';
+
+function closedAtOf(e: Election, now: Date): ShownTime | null {
+  const closed = votingTimes(e, now).closed;
+  return closed ? shownTime(closed, e.timeZone) : null;
+}
 
 export function votingElectionView(e: Election, now: Date): VotingElectionView {
   return {
@@ -69,6 +81,9 @@ export function votingElectionView(e: Election, now: Date): VotingElectionView {
     opensAt: shownTime(e.opensAt, e.timeZone),
     closesAt: shownTime(e.closesAt, e.timeZone),
     window: votingWindow(e, now),
+    closedAt: closedAtOf(e, now),
+    published: e.state === 'published',
+    contact: e.contact,
     voteUrl: `/vote/${e.id}`,
     resultsUrl: `/results/${e.id}`,
     howDrawn: howDrawn(e),

@@ -17,6 +17,7 @@ export function blankValues(now: Date, timeZone = 'UTC'): ElectionFormValues {
   return {
     title: '',
     description: '',
+    contact: '',
     options: Array.from({ length: DEFAULT_ROWS }, () => ({ label: '', description: '' })),
     seats: '1',
     epsilon: DEFAULT_EPSILON,
@@ -35,6 +36,7 @@ export function valuesFromElection(e: Election): ElectionFormValues {
   return {
     title: e.title,
     description: e.description,
+    contact: e.contact,
     options: [...e.options.map((o) => ({ label: o.label, description: o.description })), { label: '', description: '' }, { label: '', description: '' }],
     seats: String(e.seats),
     epsilon: e.epsilon,
@@ -74,6 +76,8 @@ export interface ElectionFormView {
   guidance: GuidanceView;
   ambiguous: string[];
   canAddRows: boolean;
+  /** A passphrase had been typed but the form came back: it is never echoed, so say it must be typed again. */
+  passphraseCleared: boolean;
 }
 
 export function electionFormView(input: {
@@ -83,6 +87,7 @@ export function electionFormView(input: {
   ambiguous?: string[];
   addRows?: number;
   maxRows: number;
+  passphraseCleared?: boolean;
 }): ElectionFormView {
   const errors = input.errors ?? {};
   const values = { ...input.values, options: [...input.values.options] };
@@ -104,5 +109,6 @@ export function electionFormView(input: {
     guidance: guidanceFor({ epsilon: values.epsilon, options: filled, seats, neighbour: values.neighbour === 'add-remove' ? 'add-remove' : 'replace-one', expectedVoters: voters }),
     ambiguous: input.ambiguous ?? [],
     canAddRows: values.options.length < input.maxRows,
+    passphraseCleared: input.electionId === null && (input.passphraseCleared ?? false),
   };
 }

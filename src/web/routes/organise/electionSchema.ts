@@ -11,6 +11,7 @@ type Body = Record<string, unknown> | undefined;
 export interface ElectionFormValues {
   title: string;
   description: string;
+  contact: string;
   options: { label: string; description: string }[];
   seats: string;
   epsilon: string;
@@ -35,6 +36,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
   return {
     title: cut(field(body, 'title'), 1000),
     description: cut(field(body, 'description'), 20_000),
+    contact: cut(field(body, 'contact'), 1000),
     options: Array.from({ length: rows }, (_, i) => ({ label: cut(labels[i] ?? '', 1000), description: cut(descriptions[i] ?? '', 2000) })),
     seats: cut(field(body, 'seats'), 20),
     epsilon: cut(field(body, 'epsilon'), 20),
@@ -66,8 +68,10 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
   });
   const seats = wholeNumber(v.seats);
   if (seats === null) errors.seats = 'Give the number of seats as a whole number, such as 1.';
-  const expectedVoters = wholeNumber(v.expectedVoters);
-  if (expectedVoters === null) errors.expectedVoters = 'Give the number of voters you expect, as a whole number, such as 40.';
+  // Optional, as the form says: left empty, the guidance simply shows no electorate figures.
+  const votersGiven = v.expectedVoters.trim() !== '';
+  const expectedVoters = votersGiven ? wholeNumber(v.expectedVoters) : null;
+  if (votersGiven && expectedVoters === null) errors.expectedVoters = 'Give the number of voters you expect as a whole number, such as 40, or leave it empty.';
   const retentionDays = v.retention === 'keep' ? wholeNumber(v.retentionDays) : null;
   if (v.retention === 'keep' && retentionDays === null) errors.retentionDays = 'Give the number of days as a whole number from 1 to 90.';
   const ambiguous: ('opensAt' | 'closesAt')[] = [];
@@ -84,6 +88,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
   const candidate: DraftInput = {
     title: v.title,
     description: v.description,
+    contact: v.contact,
     options,
     seats: seats ?? 1,
     epsilon: v.epsilon.trim(),
@@ -93,7 +98,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     timeZone: v.timeZone,
     publishTurnout: v.publishTurnout === 'yes',
     retentionDays,
-    expectedVoters: expectedVoters ?? 1,
+    expectedVoters: votersGiven ? (expectedVoters ?? 1) : null,
   };
   try {
     const draft = checkDraft(candidate);
