@@ -70,3 +70,5 @@ export {
   recheckStatement,
   unprotectedReleases,
 } from './publicStatement.ts';
+export { describeParties } from './describeParties.ts';
+export type { PartySettings, PartyText } from './describeParties.ts';
