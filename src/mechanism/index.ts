@@ -17,12 +17,17 @@ export { bernoulliRational, bernoulliExpMinus } from './bernoulli.ts';
 export {
   type Neighbour,
   type ExponentialDraw,
+  type SeatDraw,
   type PrivacyCost,
   NEIGHBOURS,
   MAX_OPTIONS,
   SENSITIVITY,
   makeExponentialDraw,
+  makePermuteAndFlipDraw,
+  makeDraw,
 } from './draw.ts';
+export { type DrawRule, DRAW_RULES, DEFAULT_DRAW_RULE, RULE_NAMES } from './rule.ts';
+export { PF_EXACT_MAX_OPTIONS } from './permuteAndFlip.ts';
 export { type Bounds } from './bounds.ts';
 export { type ElectorateAssessment, type ElectorateLevel, PLAUSIBLE_LEAD_FRACTION, assessElectorate } from './electorate.ts';
 export {
