@@ -8,7 +8,7 @@ import {
   unwrapElectionKey,
   wipe,
 } from '../custody/index.ts';
-import { buildStatement, canonicalStatementBytes, makeExponentialDraw, type PrivacyStatement } from '../mechanism/index.ts';
+import { buildStatement, canonicalStatementBytes, makeDraw, type PrivacyStatement } from '../mechanism/index.ts';
 import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
@@ -29,7 +29,7 @@ export interface StoredResult {
  * Closes (if the closing time has passed) and tallies, in one transaction holding the
  * election row lock. The passphrase unwraps the key (WrongPassphrase otherwise); the sealed
  * ballots are counted (BallotUnreadable stops everything, nothing is skipped); the winners
- * are drawn ONCE with the exponential mechanism, at random and weighted toward the most
+ * are drawn ONCE with the election's draw rule (the exponential mechanism or permute-and-flip), at random and weighted toward the most
  * approved options. The counts never leave this function: they go to the mechanism and
  * are wiped. A second call raises AlreadyTallied, so no organiser can re-roll a draw.
  */
@@ -47,11 +47,12 @@ export async function closeAndTally(
     if (!e.publicKey || e.wrappedKey == null) throw new TallyKeyMissing();
 
     // Every check that can fail on bad settings runs before the key is unwrapped.
-    const draw = makeExponentialDraw({
+    const draw = makeDraw({
       epsilon: e.epsilon,
       options: e.options.length,
       seats: e.seats,
       neighbour: e.neighbour,
+      rule: e.rule,
     });
     const optionLabels = e.options.map((o) => o.label);
     buildStatement({ draw, optionLabels, winners: null, turnout: null, electionTitle: e.title }); // labels, title

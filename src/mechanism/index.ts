@@ -26,8 +26,9 @@ export {
   makePermuteAndFlipDraw,
   makeDraw,
 } from './draw.ts';
-export { type DrawRule, DRAW_RULES, DEFAULT_DRAW_RULE, RULE_NAMES } from './rule.ts';
+export { type DrawRule, DRAW_RULES, DEFAULT_DRAW_RULE, RULE_NAMES, RULE_SENTENCES } from './rule.ts';
 export { PF_EXACT_MAX_OPTIONS } from './permuteAndFlip.ts';
+export { favouriteSeatChance } from './compare.ts';
 export { type Bounds } from './bounds.ts';
 export { type ElectorateAssessment, type ElectorateLevel, PLAUSIBLE_LEAD_FRACTION, assessElectorate } from './electorate.ts';
 export {
@@ -37,6 +38,6 @@ export {
   type NotReleased,
   buildStatement,
 } from './statement.ts';
-export { type StatementText, describeStatement, RANDOM_WINNER_CAUTION } from './describe.ts';
+export { type StatementText, describeStatement, ruleSentence, RANDOM_WINNER_CAUTION } from './describe.ts';
 export { describeBounds } from './describeBounds.ts';
 export { canonicalJson, canonicalStatementBytes } from './canonical.ts';

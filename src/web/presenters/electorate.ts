@@ -1,5 +1,5 @@
 import type { Election } from '../../elections/electionRepo.ts';
-import { assessElectorate, makeExponentialDraw, type ElectorateLevel } from '../../mechanism/index.ts';
+import { assessElectorate, makeDraw, type ElectorateLevel } from '../../mechanism/index.ts';
 
 export interface ElectorateWarning {
   level: ElectorateLevel;
@@ -15,10 +15,10 @@ const HEADINGS: Record<ElectorateLevel, string> = {
 };
 
 /** assessElectorate for a stored election: shown on the dashboard and before opening. */
-export function electorateWarning(e: Pick<Election, 'epsilon' | 'options' | 'seats' | 'neighbour' | 'expectedVoters'>): ElectorateWarning | null {
+export function electorateWarning(e: Pick<Election, 'epsilon' | 'options' | 'seats' | 'neighbour' | 'expectedVoters'> & { rule?: Election['rule'] }): ElectorateWarning | null {
   if (e.expectedVoters === null || e.expectedVoters < 1) return null;
   try {
-    const draw = makeExponentialDraw({ epsilon: e.epsilon, options: e.options.length, seats: e.seats, neighbour: e.neighbour });
+    const draw = makeDraw({ epsilon: e.epsilon, options: e.options.length, seats: e.seats, neighbour: e.neighbour, rule: e.rule });
     const a = assessElectorate(draw, e.expectedVoters);
     return { level: a.level, heading: HEADINGS[a.level], message: a.message, expectedVoters: e.expectedVoters };
   } catch {

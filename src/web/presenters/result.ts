@@ -1,7 +1,7 @@
 import { z } from 'zod';
 import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
-import { describeStatement, type PrivacyStatement } from '../../mechanism/index.ts';
+import { RULE_NAMES, describeStatement, type PrivacyStatement } from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
 
@@ -13,6 +13,7 @@ const protection = z.object({ epsilon: z.string(), factorAtMost: z.number() });
 const statementShape = z
   .object({
     statementVersion: z.literal(1),
+    mechanism: z.enum(['exponential-mechanism', 'permute-and-flip']),
     outcome: z.enum(['winners', 'no-ballots']),
     winners: z.array(z.string()),
     optionLabels: z.array(z.string()),
@@ -62,6 +63,8 @@ export interface PublishedResultView {
     epsilon: string;
     seats: number;
     optionCount: number;
+    /** The draw rule in plain words, e.g. "permute-and-flip". */
+    ruleName: string;
     neighbourName: string;
     neighbourMeans: string;
     howVoted: { epsilon: string; factorAtMost: number };
@@ -108,6 +111,7 @@ export function publishedResultView(stored: unknown): PublishedResultView {
       epsilon: statement.epsilon,
       seats: statement.seats,
       optionCount: statement.optionLabels.length,
+      ruleName: RULE_NAMES[statement.mechanism === 'permute-and-flip' ? 'permute-and-flip' : 'exponential'],
       neighbourName: neighbour.name,
       neighbourMeans: neighbour.means,
       howVoted: statement.protects.howVoted,
