@@ -1,9 +1,17 @@
 #!/usr/bin/env node
-// Entry for the `veiltally` command: loads the TypeScript sources through tsx.
-import { register } from 'tsx/esm/api';
+// Entry for the `veiltally` command. Runs the compiled build (dist/, made by `npm install` or
+// `npm run build`) when it is current, so a command starts in a plain node's time; otherwise it
+// loads the TypeScript sources through tsx, so a stale build never runs.
+import { buildIsFresh } from '../../scripts/buildState.mjs';
 
-register();
-const { main } = await import('./main.ts');
+let main;
+if (buildIsFresh()) {
+  ({ main } = await import('../../dist/src/cli/main.js'));
+} else {
+  const { register } = await import('tsx/esm/api');
+  register();
+  ({ main } = await import('./main.ts'));
+}
 process.exitCode = await main(process.argv.slice(2), {
   stdout: (s) => process.stdout.write(s),
   stderr: (s) => process.stderr.write(s),

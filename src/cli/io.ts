@@ -7,7 +7,6 @@ export interface CliIo {
 /** A command returns its exit code: 0 done, 2 bad input, 1 anything else. */
 export type Command = {
   name: string;
-  summary: string;
   usage: string;
   run(args: string[], io: CliIo): Promise<number>;
 };

@@ -1,8 +1,8 @@
 import { isVeiltallyError } from '../errors.ts';
-import type { CliIo, Command } from './io.ts';
-import { commands } from './commands.ts';
+import type { CliIo } from './io.ts';
+import { commands, type CommandEntry } from './commands.ts';
 
-function helpText(list: readonly Command[]): string {
+function helpText(list: readonly CommandEntry[]): string {
   const width = Math.max(...list.map((c) => c.name.length));
   const lines = list.map((c) => `  ${c.name.padEnd(width)}  ${c.summary}`);
   return [
@@ -24,11 +24,12 @@ export async function main(argv: string[], io: CliIo): Promise<number> {
     io.stdout(helpText(commands));
     return name === undefined ? 2 : 0;
   }
-  const command = commands.find((c) => c.name === name);
-  if (!command) {
+  const entry = commands.find((c) => c.name === name);
+  if (!entry) {
     io.stderr(`veiltally: unknown command "${name}". Run \`veiltally --help\` for the list.\n`);
     return 2;
   }
+  const command = await entry.load();
   if (rest.includes('--help') || rest.includes('-h')) {
     io.stdout(command.usage.endsWith('\n') ? command.usage : `${command.usage}\n`);
     return 0;

@@ -5,7 +5,6 @@ import type { Command } from './io.ts';
 
 export const migrateCommand: Command = {
   name: 'migrate',
-  summary: 'apply pending database migrations (DATABASE_URL, or the embedded database)',
   usage: 'Usage: veiltally migrate\n\nApplies every pending migration and lists what it applied.',
   async run(args, io) {
     if (args.length > 0) {

@@ -4,7 +4,9 @@ import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 
 const MIGRATIONS_DIR = fileURLToPath(new URL('../../migrations/', import.meta.url));
-const NAME = /^\d{14}-[a-z0-9]+(-[a-z0-9]+)*\.ts$/;
+// Sources load migrations/*.ts; the compiled build (dist/) loads its own migrations/*.js.
+const EXT = path.extname(fileURLToPath(import.meta.url));
+const NAME = new RegExp(`^\\d{14}-[a-z0-9]+(-[a-z0-9]+)*\\${EXT}$`);
 
 interface MigrationModule {
   up(knex: Knex): Promise<void>;
@@ -14,13 +16,14 @@ interface MigrationModule {
 /** Reads migrations/ ourselves so the same files load under tsx, vitest and any engine. */
 class DirectorySource implements Knex.MigrationSource<string> {
   async getMigrations(): Promise<string[]> {
-    const files = fs.readdirSync(MIGRATIONS_DIR).filter((f) => f.endsWith('.ts'));
+    const files = fs.readdirSync(MIGRATIONS_DIR).filter((f) => f.endsWith(EXT));
     const bad = files.find((f) => !NAME.test(f));
-    if (bad) throw new MigrationFailed(`"${bad}" is not named YYYYMMDDHHMMSS-kebab-name.ts`);
+    if (bad) throw new MigrationFailed(`"${bad}" is not named YYYYMMDDHHMMSS-kebab-name${EXT}`);
     return files.sort();
   }
+  /** Recorded under the source's name, so a database migrated from the sources and from dist/ agrees. */
   getMigrationName(file: string): string {
-    return file;
+    return file.slice(0, -EXT.length) + '.ts';
   }
   async getMigration(file: string): Promise<MigrationModule> {
     const mod = (await import(pathToFileURL(path.join(MIGRATIONS_DIR, file)).href)) as MigrationModule;

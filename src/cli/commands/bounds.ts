@@ -28,7 +28,6 @@ seat's draw at ε/k.`;
 
 export const boundsCommand: Command = {
   name: 'bounds',
-  summary: 'show accuracy guarantees and needed leads for a planned vote (no ballots needed)',
   usage,
   async run(args, io) {
     const flags = checkFlags(schema, parseFlags('bounds', args, spec));

@@ -36,7 +36,6 @@ The winner is drawn at random, weighted toward the most approved options.`;
 
 export const drawCommand: Command = {
   name: 'draw',
-  summary: 'draw winners from a ballot file (CSV or PrefLib .cat) and print the privacy statement',
   usage,
   async run(args, io) {
     const flags = checkFlags(schema, parseFlags('draw', args, spec));

@@ -28,7 +28,6 @@ The winner is drawn at random, weighted toward the most approved options.`;
 
 export const simulateCommand: Command = {
   name: 'simulate',
-  summary: 'run the sampler many times on hypothetical scores to see how often each option wins',
   usage,
   async run(args, io) {
     const flags = checkFlags(schema, parseFlags('simulate', args, spec));

@@ -1,7 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import {
+  buildPublicStatement,
   buildStatement,
   describeStatement,
+  recheckStatement,
   makeExponentialDraw,
   makePermuteAndFlipDraw,
 } from '../../../src/mechanism/index.ts';
@@ -35,5 +37,50 @@ describe('the statement names the draw rule', () => {
     );
     expect(pf.paragraphs.join(' ')).toContain('Draw rule: permute-and-flip.');
     expect(em.paragraphs.join(' ')).toContain('Draw rule: the exponential mechanism.');
+  });
+});
+
+describe('the signed statement format names the rule and is rechecked with it', () => {
+  const at = '2026-12-02T13:00Z';
+  const input = (draw: ReturnType<typeof makeExponentialDraw>) => ({
+    draw,
+    electionId: '00000000-0000-4000-8000-000000000001',
+    electionTitle: 'Repairs to fund first',
+    keyId: 'k1',
+    drawSequence: 1,
+    drawnAt: at,
+    optionLabels: labels,
+    winners: [0, 1, 2],
+    publishedTurnout: null,
+    ledger: {
+      groupId: 'g',
+      groupName: 'Tenants',
+      windowStart: '2025-12-02T13:00Z',
+      windowEnd: at,
+      draws: 1,
+      howVotedEpsilon: '1.5',
+      whetherVotedEpsilon: '1.5',
+      anyoneVotedReleases: 1,
+      exactTurnoutReleases: 0,
+    },
+  });
+
+  it('a permute-and-flip statement says so and every recheck passes; relabelled as exponential, the bounds no longer match', () => {
+    const s = buildPublicStatement(input(makePermuteAndFlipDraw(settings)));
+    expect(s.mechanism.rule).toBe('permute-and-flip');
+    const checks = recheckStatement(s);
+    expect(checks.every((c) => c.ok)).toBe(true);
+    expect(checks.map((c) => c.what).join(' ')).toContain('permute-and-flip');
+    const relabelled = { ...s, mechanism: { ...s.mechanism, rule: 'exponential' as const } };
+    expect(recheckStatement(relabelled).filter((c) => !c.ok).map((c) => c.what).join(' ')).toContain('margin table');
+  });
+
+  it('an exponential statement rechecks; an unknown rule is refused; a rule that is not the draw’s is refused', () => {
+    const s = buildPublicStatement(input(makeExponentialDraw(settings)));
+    expect(s.mechanism.rule).toBe('exponential');
+    expect(recheckStatement(s).every((c) => c.ok)).toBe(true);
+    const odd = { ...s, mechanism: { ...s.mechanism, rule: 'coin-toss' as never } };
+    expect(recheckStatement(odd)).toEqual([expect.objectContaining({ ok: false })]);
+    expect(() => buildPublicStatement({ ...input(makeExponentialDraw(settings)), rule: 'permute-and-flip' })).toThrow(/rule/);
   });
 });
