@@ -50,8 +50,10 @@ function leaderProbabilityExponential(d: number, a: Dec, m: number): Dec {
  * it is drawn iff every option visited before it fails; each of those fails with probability
  * ≥ 1 − x, independently, and the number visited before the leader is uniform on {0, …, d − 1}.
  * Equality when the others are tied exactly m below. It is never below the exponential
- * mechanism's bound, as McKenna & Sheldon's expected-error theorem implies for that two-level
- * profile (checked on a grid in test/unit/mechanism/permuteAndFlip.test.ts).
+ * mechanism's bound: on that two-level profile the expected shortfall is m·(1 − P(leader)), and
+ * McKenna & Sheldon 2020 prove permute-and-flip's expected shortfall never exceeds the exponential
+ * mechanism's (abstract; the theorem number, Thm. 2, is from memory). Also checked on a grid in
+ * test/unit/mechanism/permuteAndFlip.test.ts.
  */
 function leaderProbabilityPermuteAndFlip(d: number, a: Dec, m: number): Dec {
   if (m === 0) return new Decimal(1).div(d);

@@ -104,10 +104,12 @@ export function makeDraw(cfg: DrawConfig): SeatDraw {
   // Dwork & Roth 2014, Thm. 3.10 uses ε/(2Δ). When every score can only rise as a
   // ballot is added (approval counts are monotone), ε/Δ suffices for add/remove
   // neighbours (Dwork & Roth 2014, §3.4 remark on monotone utilities; cited from memory).
-  // Permute-and-flip takes the same scale: ε/(2Δ) is McKenna & Sheldon 2020, Thm. 1; for
+  // Permute-and-flip takes the same scale: ε/(2Δ) is McKenna & Sheldon 2020, Thm. 1 (number from memory); for
   // monotone scores ε/Δ follows from its equivalence with report-noisy-max with exponential
-  // noise (Ding, Kifer et al. 2021), as for the exponential mechanism. Both are also checked
-  // on exact probabilities in test/unit/mechanism/permuteAndFlip.test.ts.
+  // noise of rate a (Ding, Kifer et al. 2021): the argument of Dwork & Roth 2014, Claim 3.9
+  // (report-noisy-max on monotone counts) needs only P(Z ≥ t + 1) ≥ e^(−a)·P(Z ≥ t) for every t,
+  // which exponential noise satisfies. Both scales are also checked on exact probabilities, one
+  // and two seats, in test/unit/mechanism/permuteAndFlip.test.ts.
   const perRoundScale = divideByInteger(perRound, BigInt(neighbour === 'replace-one' ? 2 * SENSITIVITY : SENSITIVITY));
   const perRoundEpsilon = rationalToText(perRound);
   const doubled = rationalToText(multiplyByInteger(total, 2n));

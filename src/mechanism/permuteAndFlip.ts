@@ -6,7 +6,7 @@ import { uniformBelowSmall, type RandomSource } from './random.ts';
  * One round of permute-and-flip (McKenna & Sheldon 2020, Algorithm 1) over the
  * candidates still in play: visit the candidates in a uniformly random order and
  * flip, for each in turn, a coin with P(heads) = exp(−a·(m − sᵢ)), m = max sᵢ; the
- * first heads wins. With a = ε/(2Δ) it is ε-DP (McKenna & Sheldon 2020, Thm. 1),
+ * first heads wins. With a = ε/(2Δ) it is ε-DP (McKenna & Sheldon 2020, Thm. 1; theorem number from memory),
  * the same scale as the exponential mechanism. It is the same law as
  * report-noisy-max with exponential noise of scale 1/a (Ding, Kifer et al. 2021).
  *

@@ -22,7 +22,7 @@ import { seededRandom } from './support/seededRandom.ts';
  * - report-noisy-max with exponential noise, simulated in floating point (Ding,
  *   Kifer et al., "The Permute-and-Flip Mechanism is Identical to Report-Noisy-Max
  *   with Exponential Noise", 2021);
- * - ε-DP on neighbouring count vectors (McKenna & Sheldon 2020, Thm. 1; Dwork & Roth
+ * - ε-DP on neighbouring count vectors (McKenna & Sheldon 2020, Thm. 1, number from memory; Dwork & Roth
  *   2014, Def. 2.4), from exact probabilities;
  * - expected shortfall never above the exponential mechanism's (McKenna & Sheldon
  *   2020: "the expected score of our mechanism is always at least as large as the
