@@ -26,6 +26,9 @@ describe.each(engines)('draw rule: exponential mechanism or permute-and-flip [%s
     expect(edit.text).toContain('A clear favourite: ahead of every other option by one voter in four (10 approvals)');
     expect(edit.text).toMatch(/\(4 approvals\)<\/th><td>\d+\.\d%<\/td><td>\d+\.\d%<\/td>/);
 
+    const dashboard = await agent.get(`/organise/elections/${made}`).expect(200);
+    expect(dashboard.text).toContain('<dt>Draw rule</dt><dd>Permute-and-flip</dd>');
+
     // No rule sent (an older form): the default.
     const plain = await createElectionViaForm(agent);
     expect((await findElection(s.ctx.knex, plain))!.rule).toBe('exponential');
