@@ -7,6 +7,7 @@ import {
   makeExponentialDraw,
   makePermuteAndFlipDraw,
 } from '../../../src/mechanism/index.ts';
+import { schemaProblems } from '../../../src/statementFormat.ts';
 
 // A tenants' association choosing repairs (invented scenario).
 const labels = ['Boiler', 'Roof', 'Lift', 'Windows', 'Intercom', 'Bins', 'Stairs', 'Garden'];
@@ -46,14 +47,14 @@ describe('the signed statement format names the rule and is rechecked with it', 
     draw,
     electionId: '00000000-0000-4000-8000-000000000001',
     electionTitle: 'Repairs to fund first',
-    keyId: 'k1',
+    keyId: '0123456789abcdef',
     drawSequence: 1,
     drawnAt: at,
     optionLabels: labels,
     winners: [0, 1, 2],
     publishedTurnout: null,
     ledger: {
-      groupId: 'g',
+      groupId: '00000000-0000-4000-8000-000000000002',
       groupName: 'Tenants',
       windowStart: '2025-12-02T13:00Z',
       windowEnd: at,
@@ -73,6 +74,9 @@ describe('the signed statement format names the rule and is rechecked with it', 
     expect(checks.map((c) => c.what).join(' ')).toContain('permute-and-flip');
     const relabelled = { ...s, mechanism: { ...s.mechanism, rule: 'exponential' as const } };
     expect(recheckStatement(relabelled).filter((c) => !c.ok).map((c) => c.what).join(' ')).toContain('margin table');
+    // The shipped JSON Schema accepts it (signature value: a well-formed placeholder, not checked here).
+    const envelope = { statement: s, signature: { alg: 'Ed25519', keyId: s.keyId, value: 'A'.repeat(86) } };
+    expect(schemaProblems(JSON.parse(JSON.stringify(envelope)))).toEqual([]);
   });
 
   it('an exponential statement rechecks; an unknown rule is refused; a rule that is not the draw’s is refused', () => {
