@@ -18,8 +18,12 @@ function timeNote(d: Dashboard): string {
       return `Voting closes in ${describeDuration(e.closesAt.getTime() - now)}, on ${describeInstant(e.closesAt, e.timeZone)}.`;
     case 'voting-ended':
       return `Voting ended${e.closedAt && e.closedAt < e.closesAt ? ' early' : ''}. Unlock the tally with your passphrase to draw the result.`;
+    case 'drawing':
+      return 'The result is being drawn. It appears on the tally page at the next whole minute or soon after.';
     case 'tallied':
-      return 'The result has been drawn. Check the preview, then publish it.';
+      return e.publishDueAt
+        ? `The result has been drawn. Check the preview, then publish it. It will be published automatically on ${describeInstant(e.publishDueAt, e.timeZone)}: every draw is made public.`
+        : 'The result has been drawn. Check the preview, then publish it.';
     case 'published':
       return `The result was published${e.publishedAt ? ` on ${describeInstant(e.publishedAt, e.timeZone)}` : ''}.`;
   }
@@ -75,7 +79,7 @@ export interface DashboardView {
   settings: { term: string; value: string }[];
   options: { label: string; description: string }[];
   electorate: (ElectorateWarning & { className: string }) | null;
-  can: { edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean };
+  can: { edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean; drawing: boolean };
   events: { iso: string; when: string; who: string; what: string }[];
   resultsPath: string;
   timeZone: string;
@@ -120,8 +124,9 @@ export function dashboardView(d: Dashboard): DashboardView {
       open: e.state === 'draft',
       close: canCloseEarly(e, d.now),
       tally: canTally(e, d.now),
-      publish: e.state === 'tallied',
-      seeResult: e.state === 'tallied' || e.state === 'published',
+      publish: d.status === 'tallied',
+      seeResult: d.status === 'tallied' || d.status === 'published',
+      drawing: d.status === 'drawing',
     },
     events: [...d.events].reverse().map((ev) => ({
       iso: ev.at.toISOString(),

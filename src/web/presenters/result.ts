@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
+import { resultHidden } from '../../elections/status.ts';
 import { RULE_NAMES, describeStatement, type PrivacyStatement } from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
@@ -41,7 +42,7 @@ const TIMELINE: Record<string, string> = {
   created: 'Election set up',
   opened: 'Voting opened',
   closed: 'Voting closed',
-  tallied: 'Sealed ballots counted and the winners drawn',
+  tallied: 'Drawn: sealed ballots counted and the winners drawn (the result is public by the deadline below)',
   published: 'Result published',
   shredded: 'Sealed ballots and the tally key destroyed',
 };
@@ -83,6 +84,8 @@ export interface ResultPageView {
   closedAt: ShownTime | null;
   publishedAt: ShownTime | null;
   tallied: boolean;
+  /** When a drawn result becomes public at the latest (every draw is published). */
+  publishDueAt: ShownTime | null;
   /** Before publication there is no statement yet, so the page carries the general caution. */
   caution: string;
   timeline: TimelineEntry[];
@@ -90,9 +93,10 @@ export interface ResultPageView {
   result: PublishedResultView | null;
 }
 
-export function timelineView(events: readonly AuditRow[], timeZone: string): TimelineEntry[] {
-  // Only the action and time are shown; details are for the organiser's record.
-  return events.filter((ev) => ev.action in TIMELINE).map((ev) => ({ label: TIMELINE[ev.action]!, at: shownTime(ev.at, timeZone) }));
+export function timelineView(events: readonly AuditRow[], timeZone: string, now?: Date): TimelineEntry[] {
+  // Only the action and time are shown; details are for the organiser's record. The draw is
+  // stamped with the whole minute it becomes visible, so it is listed from that minute on.
+  return events.filter((ev) => ev.action in TIMELINE && (now === undefined || ev.at <= now)).map((ev) => ({ label: TIMELINE[ev.action]!, at: shownTime(ev.at, timeZone) }));
 }
 
 export function publishedResultView(stored: unknown): PublishedResultView {
@@ -133,9 +137,10 @@ export function resultPageView(e: Election, events: readonly AuditRow[], now: Da
     closesAt: shownTime(e.closesAt, e.timeZone),
     closedAt: closedAt ? shownTime(closedAt, e.timeZone) : null,
     publishedAt: published && e.publishedAt ? shownTime(e.publishedAt, e.timeZone) : null,
-    tallied: e.state === 'tallied',
+    tallied: e.state === 'tallied' && !resultHidden(e, now),
+    publishDueAt: e.state === 'tallied' && !resultHidden(e, now) && e.publishDueAt ? shownTime(e.publishDueAt, e.timeZone) : null,
     caution: DRAW_CAUTION,
-    timeline: timelineView(events, e.timeZone),
+    timeline: timelineView(events, e.timeZone, now),
     result: published ? publishedResultView(e.result) : null,
   };
 }

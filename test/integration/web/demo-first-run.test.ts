@@ -58,7 +58,7 @@ describe.each(engines)('first-run "explore with sample elections" [%s]', (engine
     expect(page.text).toContain('Which three repairs first? (sample election)');
     expect(page.text).toMatch(/href="\/vote\/[0-9a-f-]{36}"/);
     expect(page.text).toMatch(/href="\/results\/[0-9a-f-]{36}"/);
-    expect(page.text.match(/<li><code>[0-9A-Z-]+<\/code><\/li>/g)).toHaveLength(5);
+    expect(page.text.match(/<li><code>[^<]+<\/code><\/li>/g)).toHaveLength(5);
 
     const list = await agent.get('/organise');
     expect(list.text).toContain('Demo organiser');
