@@ -55,4 +55,10 @@ describe.each(engines)('draw rule: exponential mechanism or permute-and-flip [%s
     const open = await openElectionFixture(s.ctx, s.organiserId, { codes: 1 });
     expect((await request(s.app).get(`/vote/${open.id}`).expect(200)).text).toContain('Draw rule: the exponential mechanism.');
   });
+
+  it('the members’ help page explains both rules, with the references', async () => {
+    const res = await request(s.app).get('/help/how-the-result-is-drawn').expect(200);
+    expect(res.text).toContain('<strong>Two draw rules.</strong>');
+    expect(res.text).toContain('Permute-and-flip: a new mechanism for differentially private selection. NeurIPS 2020.');
+  });
 });
