@@ -16,7 +16,7 @@ export const RULE_NAMES: Readonly<Record<DrawRule, string>> = Object.freeze({
 /** One sentence each, for the ballot page, the result page and the statement text. */
 export const RULE_SENTENCES: Readonly<Record<DrawRule, string>> = Object.freeze({
   exponential:
-    'Draw rule: the exponential mechanism. Each option’s chance grows with its approvals, and each extra approval multiplies it by the same factor.',
+    'Draw rule: the exponential mechanism. Each option’s chance grows with its approvals: every extra approval multiplies its weight in the draw by the same factor.',
   'permute-and-flip':
     'Draw rule: permute-and-flip. The options are put in a random order and each in turn is kept or passed over by a weighted coin; the most approved option is always kept when its turn comes, so on average the winner has at least as many approvals as under the exponential mechanism, with the same privacy.',
 });
