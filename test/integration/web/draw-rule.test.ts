@@ -1,6 +1,7 @@
 import request from 'supertest';
 import { describe, expect, it } from 'vitest';
 import { findElection } from '../../../src/elections/electionRepo.ts';
+import { makePermuteAndFlipDraw } from '../../../src/mechanism/index.ts';
 import { engines } from '../../helpers/databases.ts';
 import { openElectionFixture } from '../../helpers/fixtures.ts';
 import { useMemberSuite } from '../../helpers/memberSuite.ts';
@@ -60,5 +61,15 @@ describe.each(engines)('draw rule: exponential mechanism or permute-and-flip [%s
     const res = await request(s.app).get('/help/how-the-result-is-drawn').expect(200);
     expect(res.text).toContain('<strong>Two draw rules.</strong>');
     expect(res.text).toContain('Permute-and-flip: a new mechanism for differentially private selection. NeurIPS 2020.');
+  });
+
+  it('"Choosing ε" shows permute-and-flip’s own 95% lead beside the exponential mechanism’s', async () => {
+    const res = await request(s.app).get('/help/choosing-epsilon?options=6&seats=1&epsilon=1').expect(200);
+    expect(res.text).toContain('<th scope="col">Lead for 95%, permute-and-flip</th>');
+    const row = /<tr><th scope="row">0\.5<\/th>\s*<td>(\d+)<\/td><td>(\d+)<\/td><td>(\d+)<\/td><td>(\d+)<\/td>/.exec(res.text);
+    expect(row).not.toBeNull();
+    const pf = makePermuteAndFlipDraw({ epsilon: '0.5', options: 6, seats: 1, neighbour: 'replace-one' }).bounds(0.05);
+    expect(Number(row![4])).toBe(pf.marginFor['0.95']);
+    expect(Number(row![4])).toBeLessThan(Number(row![2]));
   });
 });
