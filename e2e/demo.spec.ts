@@ -90,7 +90,7 @@ it('a member votes in the open sample election with a printed code', async () =>
 it('the published sample result shows three winners and counts the printed receipt', async () => {
   await page.goto(`${server.url}${resultHref}`);
   expect(await page.locator('h1').innerText()).toContain('Which three repairs first?');
-  expect(await page.locator('main').innerText()).toMatch(/in the order drawn/i);
+  expect(await page.locator('main').innerText()).toMatch(/in draw order/i);
   await shot('result');
   expect(await seriousViolations(page)).toEqual([]);
   await page.locator('input[name="receipt"]').fill(receipt);

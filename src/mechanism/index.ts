@@ -28,9 +28,17 @@ export {
 } from './draw.ts';
 export { type DrawRule, DRAW_RULES, DEFAULT_DRAW_RULE, RULE_NAMES, RULE_SENTENCES } from './rule.ts';
 export { PF_EXACT_MAX_OPTIONS } from './permuteAndFlip.ts';
-export { favouriteSeatChance } from './compare.ts';
 export { type Bounds } from './bounds.ts';
-export { type ElectorateAssessment, type ElectorateLevel, PLAUSIBLE_LEAD_FRACTION, assessElectorate } from './electorate.ts';
+export {
+  type ElectorateAssessment,
+  type ElectorateLevel,
+  type LeadChance,
+  PLAUSIBLE_LEAD_FRACTION,
+  WEAK_PROTECTION_EPSILON,
+  assessElectorate,
+  leadChance,
+  protectionStrength,
+} from './electorate.ts';
 export {
   type PrivacyStatement,
   type Protection,

@@ -79,6 +79,8 @@ export interface ElectionFormView {
   ruleComparison: RuleComparisonView;
   ambiguous: string[];
   canAddRows: boolean;
+  /** A passphrase had been typed but the form came back: it is never echoed, so say it must be typed again. */
+  passphraseCleared: boolean;
 }
 
 export function electionFormView(input: {
@@ -88,6 +90,7 @@ export function electionFormView(input: {
   ambiguous?: string[];
   addRows?: number;
   maxRows: number;
+  passphraseCleared?: boolean;
 }): ElectionFormView {
   const errors = input.errors ?? {};
   const values = { ...input.values, options: [...input.values.options] };
@@ -111,5 +114,6 @@ export function electionFormView(input: {
     ruleComparison: ruleComparisonFor({ epsilon: values.epsilon, options: filled, seats, neighbour: values.neighbour === 'add-remove' ? 'add-remove' : 'replace-one', expectedVoters: voters, rule }),
     ambiguous: input.ambiguous ?? [],
     canAddRows: values.options.length < input.maxRows,
+    passphraseCleared: input.electionId === null && (input.passphraseCleared ?? false),
   };
 }

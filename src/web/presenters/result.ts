@@ -2,8 +2,9 @@ import { z } from 'zod';
 import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
 import { resultHidden } from '../../elections/status.ts';
-import { RULE_NAMES, describeStatement, type PrivacyStatement } from '../../mechanism/index.ts';
+import { RULE_NAMES, describeStatement, makeDraw, type PrivacyStatement } from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
+import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
 
 /**
@@ -42,7 +43,7 @@ const TIMELINE: Record<string, string> = {
   created: 'Election set up',
   opened: 'Voting opened',
   closed: 'Voting closed',
-  tallied: 'Drawn: sealed ballots counted and the winners drawn (the result is public by the deadline below)',
+  tallied: 'Result drawn: sealed ballots counted and the winners drawn',
   published: 'Result published',
   shredded: 'Sealed ballots and the tally key destroyed',
 };
@@ -52,8 +53,30 @@ export interface TimelineEntry {
   at: ShownTime;
 }
 
+/** One option as the result page lists it: ballot order, and whether (and in which draw) it was drawn. */
+export interface ResultOption {
+  label: string;
+  /** "Drawn 1st"…, "Drawn" for a single seat, or null when not drawn. */
+  drawn: string | null;
+}
+
+/** The data-free chart of the lead needed against the chance the leader is drawn, for this election's settings. */
+export interface ResultChart {
+  chart: MarginChart;
+  rows: { margin: number; percent: string; marked: boolean }[];
+  caption: string;
+}
+
 export interface PublishedResultView {
   headline: string;
+  /** One short paragraph, in plain words, on what the announcement means. */
+  meaning: string;
+  /** For several seats: that the order is the draw order, not a ranking. */
+  orderNote: string | null;
+  winnersHeading: string;
+  winnerEntries: { order: string; label: string }[];
+  options: ResultOption[];
+  chart: ResultChart | null;
   paragraphs: string[];
   boundsSentence: string;
   caution: string;
@@ -99,16 +122,85 @@ export function timelineView(events: readonly AuditRow[], timeZone: string, now?
   return events.filter((ev) => ev.action in TIMELINE && (now === undefined || ev.at <= now)).map((ev) => ({ label: TIMELINE[ev.action]!, at: shownTime(ev.at, timeZone) }));
 }
 
+const ORDINALS = ['1st', '2nd', '3rd'];
+export const ordinal = (n: number): string => (n <= 3 ? ORDINALS[n - 1]! : `${n}th`);
+
+function meaningOf(winners: string[], seats: number, noBallots: boolean): string {
+  if (noBallots) return 'No ballots were cast, so nothing was counted and no winner was drawn. The page shows that nobody voted, and nothing more.';
+  const nobody = 'Nobody, the organiser included, was shown how many approvals any option received.';
+  if (seats === 1) {
+    return (
+      `${winners[0]} was drawn by a lottery weighted toward the options more members approved. ` +
+      `That makes it likely, though not certain, that ${winners[0]} was among the most approved. ${nobody}`
+    );
+  }
+  return (
+    `These ${seats} options were drawn one at a time, each by a lottery weighted toward the options more members approved, ` +
+    `among those not drawn yet. That makes it likely, though not certain, that they were among the most approved; ` +
+    `the order they were drawn in says nothing about which had more approvals. ${nobody}`
+  );
+}
+
+/**
+ * The chart on the result page, from the mechanism's data-free bounds for this election's ε, options,
+ * seats and neighbour relation (Dwork & Roth 2014, §3.4): it depends on no count, so showing it costs no privacy.
+ */
+function resultChart(s: {
+  epsilon: string;
+  optionLabels: string[];
+  seats: number;
+  neighbour: 'replace-one' | 'add-remove';
+  mechanism: 'exponential-mechanism' | 'permute-and-flip';
+}): ResultChart | null {
+  let draw;
+  try {
+    const rule = s.mechanism === 'permute-and-flip' ? 'permute-and-flip' : 'exponential';
+    draw = makeDraw({ epsilon: s.epsilon, options: s.optionLabels.length, seats: s.seats, neighbour: s.neighbour, rule });
+  } catch {
+    return null; // a stored statement always passed these checks; without them there is nothing honest to draw
+  }
+  const b = draw.bounds(0.05);
+  const m95 = b.marginFor['0.95'];
+  const who = s.seats === 1 ? 'the most approved option' : 'the most approved option still in play';
+  const chart = marginChart(b.marginTable, m95, {
+    title: `Lead needed against the chance that ${who} is drawn${s.seats === 1 ? '' : ', for each seat'}`,
+    desc:
+      `For ε = ${draw.epsilon.text}, ${s.optionLabels.length} options and ${s.seats} ${s.seats === 1 ? 'seat' : 'seats'}: ` +
+      `with a lead of ${m95} approvals over every other option the chance is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
+  });
+  return {
+    chart,
+    rows: marginRows(b.marginTable, [b.marginFor['0.9'], m95, b.marginFor['0.99']]),
+    caption: `Minimum chance that ${who} is drawn${s.seats === 1 ? '' : ' for a seat'}, by how far it leads every other option. The dashed lines mark 95%. These figures follow from the settings alone, not from any count.`,
+  };
+}
+
 export function publishedResultView(stored: unknown): PublishedResultView {
   const { statement } = storedResult.parse(stored);
   const text = describeStatement(statement as unknown as PrivacyStatement);
   const neighbour = NEIGHBOURS[statement.neighbour];
+  const noBallots = statement.outcome === 'no-ballots';
+  const seats = statement.seats;
+  const drawnAs = (label: string): string | null => {
+    const at = statement.winners.indexOf(label);
+    if (at < 0) return null;
+    return seats === 1 ? 'Drawn' : `Drawn ${ordinal(at + 1)}`;
+  };
   return {
     headline: text.headline,
+    meaning: meaningOf(statement.winners, seats, noBallots),
+    orderNote:
+      seats > 1 && !noBallots
+        ? 'Listed in the order they were drawn. This order is not a ranking: the option drawn first did not necessarily have more approvals than the others.'
+        : null,
+    winnersHeading: seats === 1 ? 'The winner' : `The ${seats} options drawn, in draw order`,
+    winnerEntries: statement.winners.map((label, i) => ({ order: seats === 1 ? 'Drawn' : `Drawn ${ordinal(i + 1)}`, label })),
+    options: statement.optionLabels.map((label) => ({ label, drawn: drawnAs(label) })),
+    chart: noBallots ? null : resultChart(statement),
     paragraphs: text.paragraphs,
     boundsSentence: text.boundsSentence,
     caution: text.caution,
-    noBallots: statement.outcome === 'no-ballots',
+    noBallots,
     winners: statement.winners,
     turnout: statement.turnout,
     parameters: {

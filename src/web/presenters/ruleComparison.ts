@@ -1,7 +1,7 @@
 import {
   PLAUSIBLE_LEAD_FRACTION,
   RULE_NAMES,
-  favouriteSeatChance,
+  leadChance,
   makeDraw,
   type DrawRule,
 } from '../../mechanism/index.ts';
@@ -35,7 +35,7 @@ const pct = (p: number) => `${(Math.floor(p * 1000) / 10).toFixed(1)}%`;
 
 /**
  * The chance that a favourite is drawn under each rule, side by side, for the expected
- * electorate and the settings on the form. Exact closed forms (favouriteSeatChance), computed
+ * electorate and the settings on the form. Exact closed forms (leadChance, rounded down), computed
  * from settings only: no ballots, no simulation.
  */
 export function ruleComparisonFor(input: RuleComparisonInput): RuleComparisonView {
@@ -66,8 +66,8 @@ export function ruleComparisonFor(input: RuleComparisonInput): RuleComparisonVie
         : `Chance that the favourite wins one of the ${input.seats} seats, with about ${voters} voters`,
     rows: scenarios.map((s) => ({
       ...s,
-      exponential: pct(favouriteSeatChance(exponential, s.lead)),
-      permuteAndFlip: pct(favouriteSeatChance(permuteAndFlip, s.lead)),
+      exponential: pct(leadChance(exponential, s.lead).anySeat),
+      permuteAndFlip: pct(leadChance(permuteAndFlip, s.lead).anySeat),
     })),
   };
 }

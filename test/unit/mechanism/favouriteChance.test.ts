@@ -1,10 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import { favouriteSeatChance, makeDraw, type DrawRule } from '../../../src/mechanism/index.ts';
+import { leadChance, makeDraw, type DrawRule } from '../../../src/mechanism/index.ts';
 import { D, type Dec, orderedOutcomeReference, orderedOutcomes, scaleOf } from './support/exactReference.ts';
 import { pfOrderedOutcomeDecimal } from './support/pfReference.ts';
 
 /**
- * The organiser's side-by-side figure, P(the favourite wins a seat) when it leads every other
+ * The organiser’s side-by-side figure (leadChance), P(the favourite wins a seat) when it leads every other
  * option by `lead` and the others are level, against a brute-force sum over every ordered
  * outcome that seats the favourite, from the references in support/ (exponential mechanism:
  * Dwork & Roth 2014, Def. 3.4; permute-and-flip: McKenna & Sheldon 2020, Algorithm 1, by its
@@ -22,7 +22,7 @@ function bruteForce(rule: DrawRule, d: number, seats: number, epsilon: string, l
   return total.toNumber();
 }
 
-describe('favouriteSeatChance: exact closed forms against brute force', () => {
+describe('leadChance under each rule: exact closed forms (rounded down to 4 decimals) against brute force', () => {
   it.each([
     ['exponential', 4, 1, '1', 3],
     ['permute-and-flip', 4, 1, '1', 3],
@@ -32,16 +32,23 @@ describe('favouriteSeatChance: exact closed forms against brute force', () => {
     ['permute-and-flip', 3, 1, '1', 0],
   ] as const)('%s, d = %i, %i seat(s), ε = %s, lead %i', (rule, d, seats, epsilon, lead) => {
     const draw = makeDraw({ epsilon, options: d, seats, neighbour: 'replace-one', rule });
-    expect(favouriteSeatChance(draw, lead)).toBeCloseTo(bruteForce(rule, d, seats, epsilon, lead), 12);
+    const exact = bruteForce(rule, d, seats, epsilon, lead);
+    const shown = leadChance(draw, lead).anySeat;
+    expect(shown).toBeLessThanOrEqual(exact + 1e-15); // never overstated
+    expect(exact - shown).toBeLessThan(1e-4);
+    const first = leadChance(draw, lead).firstSeat;
+    const firstExact = bruteForce(rule, d, 1, epsilon, lead); // first seat at ε/k is the 1-seat law at ε/k
+    if (seats === 1) expect(firstExact - first).toBeLessThan(1e-4);
   });
 
   it('permute-and-flip is never below the exponential mechanism for this profile', () => {
     for (const d of [2, 4, 8, 16, 40]) {
       for (const lead of [0, 1, 3, 10, 40]) {
         for (const seats of [1, Math.min(3, d - 1)]) {
-          const em = favouriteSeatChance(makeDraw({ epsilon: '0.8', options: d, seats, neighbour: 'replace-one' }), lead);
-          const pf = favouriteSeatChance(makeDraw({ epsilon: '0.8', options: d, seats, neighbour: 'replace-one', rule: 'permute-and-flip' }), lead);
-          expect(pf).toBeGreaterThanOrEqual(em - 1e-15);
+          const em = leadChance(makeDraw({ epsilon: '0.8', options: d, seats, neighbour: 'replace-one' }), lead);
+          const pf = leadChance(makeDraw({ epsilon: '0.8', options: d, seats, neighbour: 'replace-one', rule: 'permute-and-flip' }), lead);
+          expect(pf.anySeat).toBeGreaterThanOrEqual(em.anySeat);
+          expect(pf.firstSeat).toBeGreaterThanOrEqual(em.firstSeat);
         }
       }
     }
