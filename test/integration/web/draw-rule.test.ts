@@ -1,7 +1,7 @@
 import request from 'supertest';
 import { describe, expect, it } from 'vitest';
 import { findElection } from '../../../src/elections/electionRepo.ts';
-import { makePermuteAndFlipDraw } from '../../../src/mechanism/index.ts';
+import { makeExponentialDraw, makePermuteAndFlipDraw } from '../../../src/mechanism/index.ts';
 import { engines } from '../../helpers/databases.ts';
 import { openElectionFixture } from '../../helpers/fixtures.ts';
 import { useMemberSuite } from '../../helpers/memberSuite.ts';
@@ -46,6 +46,10 @@ describe.each(engines)('draw rule: exponential mechanism or permute-and-flip [%s
     const res = await request(s.app).get(`/results/${f.id}`).expect(200);
     expect(res.text).toMatch(/<dt>Draw rule<\/dt>\s*<dd>Permute-and-flip<\/dd>/);
     expect(res.text).toContain('Draw rule: permute-and-flip.');
+    // The chart's bound is permute-and-flip's own (bounds.ts), smaller than the exponential mechanism's.
+    const m95 = makePermuteAndFlipDraw({ epsilon: '1', options: 4, seats: 1, neighbour: 'replace-one' }).bounds().marginFor['0.95'];
+    expect(m95).toBeLessThan(makeExponentialDraw({ epsilon: '1', options: 4, seats: 1, neighbour: 'replace-one' }).bounds().marginFor['0.95']);
+    expect(res.text).toContain(`with a lead of ${m95} approvals over every other option the chance is at least 95%`);
   });
 
   it('an exponential-mechanism election says so on the ballot and result pages', async () => {
