@@ -18,6 +18,11 @@ export const commands: readonly CommandEntry[] = [
     load: async () => (await import('./migrateCommand.ts')).migrateCommand,
   },
   {
+    name: 'organiser',
+    summary: 'list organisers, or reset an organiser’s password (for the operator)',
+    load: async () => (await import('./organiserCommand.ts')).organiserCommand,
+  },
+  {
     name: 'draw',
     summary: 'draw winners from a ballot file (CSV or PrefLib .cat) and print the privacy statement',
     load: async () => (await import('./commands/draw.ts')).drawCommand,

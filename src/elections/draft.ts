@@ -8,6 +8,8 @@ import { isTimeZone } from './time.ts';
 export interface DraftInput {
   title: string;
   description: string;
+  /** How members reach the organiser; optional, shown on the member pages that can leave them stuck. */
+  contact?: string;
   options: { label: string; description: string }[];
   seats: number;
   epsilon: string;
@@ -27,6 +29,7 @@ export interface DraftInput {
 export const DRAFT_LIMITS = Object.freeze({
   titleMax: 200,
   descriptionMax: 5000,
+  contactMax: 300,
   optionsMin: 2,
   optionsMax: 100,
   labelMax: 120,
@@ -49,6 +52,7 @@ export const draftSchema = z
   .object({
     title: z.string().trim().min(1, 'Give the election a title.').max(L.titleMax, `Keep the title to ${L.titleMax} characters or fewer.`),
     description: z.string().trim().max(L.descriptionMax, `Keep the description to ${L.descriptionMax} characters or fewer.`),
+    contact: z.string().trim().max(L.contactMax, `Keep the contact line to ${L.contactMax} characters or fewer.`).optional(),
     options: z
       .array(option)
       .min(L.optionsMin, `Give at least ${L.optionsMin} options.`)

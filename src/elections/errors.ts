@@ -158,3 +158,12 @@ export class NoCodesIssued extends VeiltallyError {
     super('Issue at least one ballot code before opening: without a code, nobody can vote.');
   }
 }
+
+/** A code batch asked for again that this election never issued (or of another size). */
+export class CodeBatchUnknown extends VeiltallyError {
+  readonly code = 'CodeBatchUnknown';
+  override readonly status = 404;
+  constructor() {
+    super('Those ballot codes were not issued for this election, so there is nothing to download. Issue new codes instead.');
+  }
+}

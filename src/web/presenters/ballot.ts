@@ -3,6 +3,7 @@ import type { Election } from '../../elections/electionRepo.ts';
 import { InvalidBallot } from '../../elections/errors.ts';
 import { RULE_SENTENCES } from '../../mechanism/index.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
+import { votingTimes } from '../../elections/votingTimes.ts';
 
 /** Where a member is in the three steps; error pages word themselves by it. */
 export type VoteStep = 'code' | 'ballot' | 'confirm' | 'cast';
@@ -24,6 +25,12 @@ export interface VotingElectionView {
   opensAt: ShownTime;
   closesAt: ShownTime;
   window: VotingWindow;
+  /** When voting really ended (an early close, or the closing time once passed); null while open. */
+  closedAt: ShownTime | null;
+  /** The result is public: the ballot link then says so and points to it. */
+  published: boolean;
+  /** How to reach the organiser, as they wrote it; empty when they gave none. */
+  contact: string;
   voteUrl: string;
   resultsUrl: string;
   /** Short sentences shown before voting: how the result will be drawn. */
@@ -54,6 +61,11 @@ export const DRAW_CAUTION =
   'With few voters or a small ε, chance plays a larger part, so a less approved option may well be drawn. ' +
   'Your organisation adopted this way of choosing before the vote, in line with its bylaws and local election law.';
 
+function closedAtOf(e: Election, now: Date): ShownTime | null {
+  const closed = votingTimes(e, now).closed;
+  return closed ? shownTime(closed, e.timeZone) : null;
+}
+
 export function votingElectionView(e: Election, now: Date): VotingElectionView {
   return {
     id: e.id,
@@ -65,6 +77,9 @@ export function votingElectionView(e: Election, now: Date): VotingElectionView {
     opensAt: shownTime(e.opensAt, e.timeZone),
     closesAt: shownTime(e.closesAt, e.timeZone),
     window: votingWindow(e, now),
+    closedAt: closedAtOf(e, now),
+    published: e.state === 'published',
+    contact: e.contact,
     voteUrl: `/vote/${e.id}`,
     resultsUrl: `/results/${e.id}`,
     howDrawn: howDrawn(e),

@@ -18,6 +18,7 @@ export function blankValues(now: Date, timeZone = 'UTC'): ElectionFormValues {
   return {
     title: '',
     description: '',
+    contact: '',
     options: Array.from({ length: DEFAULT_ROWS }, () => ({ label: '', description: '' })),
     seats: '1',
     epsilon: DEFAULT_EPSILON,
@@ -37,6 +38,7 @@ export function valuesFromElection(e: Election): ElectionFormValues {
   return {
     title: e.title,
     description: e.description,
+    contact: e.contact,
     options: [...e.options.map((o) => ({ label: o.label, description: o.description })), { label: '', description: '' }, { label: '', description: '' }],
     seats: String(e.seats),
     epsilon: e.epsilon,

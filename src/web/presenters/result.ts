@@ -6,6 +6,8 @@ import { RULE_NAMES, describeStatement, makeDraw, type PrivacyStatement } from '
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
+import { timelineView, type TimelineEntry } from './timeline.ts';
+import { votingTimes } from '../../elections/votingTimes.ts';
 
 /**
  * The public result page's view model. Every sentence about the draw and its privacy comes
@@ -39,19 +41,7 @@ const NEIGHBOURS = {
   },
 } as const;
 
-const TIMELINE: Record<string, string> = {
-  created: 'Election set up',
-  opened: 'Voting opened',
-  closed: 'Voting closed',
-  tallied: 'Result drawn: sealed ballots counted and the winners drawn',
-  published: 'Result published',
-  shredded: 'Sealed ballots and the tally key destroyed',
-};
-
-export interface TimelineEntry {
-  label: string;
-  at: ShownTime;
-}
+export type { TimelineEntry } from './timeline.ts';
 
 /** One option as the result page lists it: ballot order, and whether (and in which draw) it was drawn. */
 export interface ResultOption {
@@ -114,12 +104,6 @@ export interface ResultPageView {
   timeline: TimelineEntry[];
   /** Present only once the organiser has published; a tallied result is still a private preview. */
   result: PublishedResultView | null;
-}
-
-export function timelineView(events: readonly AuditRow[], timeZone: string, now?: Date): TimelineEntry[] {
-  // Only the action and time are shown; details are for the organiser's record. The draw is
-  // stamped with the whole minute it becomes visible, so it is listed from that minute on.
-  return events.filter((ev) => ev.action in TIMELINE && (now === undefined || ev.at <= now)).map((ev) => ({ label: TIMELINE[ev.action]!, at: shownTime(ev.at, timeZone) }));
 }
 
 const ORDINALS = ['1st', '2nd', '3rd'];
@@ -218,7 +202,7 @@ export function publishedResultView(stored: unknown): PublishedResultView {
 
 export function resultPageView(e: Election, events: readonly AuditRow[], now: Date): ResultPageView {
   const published = e.state === 'published';
-  const closedAt = e.closedAt ?? (votingWindow(e, now) === 'closed' ? e.closesAt : null);
+  const closedAt = votingTimes(e, now).closed;
   return {
     id: e.id,
     title: e.title,
@@ -232,7 +216,7 @@ export function resultPageView(e: Election, events: readonly AuditRow[], now: Da
     tallied: e.state === 'tallied' && !resultHidden(e, now),
     publishDueAt: e.state === 'tallied' && !resultHidden(e, now) && e.publishDueAt ? shownTime(e.publishDueAt, e.timeZone) : null,
     caution: DRAW_CAUTION,
-    timeline: timelineView(events, e.timeZone, now),
+    timeline: timelineView(events, e, now),
     result: published ? publishedResultView(e.result) : null,
   };
 }

@@ -42,9 +42,9 @@ export function electionRoutes(deps: AppDeps): Router {
     return e;
   }
 
-  router.get('/organise', async (_req, res) => {
+  router.get('/organise', async (req, res) => {
     const rows = await listElections(ctx, { organiserId: organiserOf(res).id });
-    res.render('organise/elections', { title: 'Your elections', ...electionListView(rows) });
+    res.render('organise/elections', { title: 'Your elections', deleted: req.query.deleted === '1', ...electionListView(rows, ctx.now()) });
   });
 
   router.get('/organise/elections/new', async (_req, res) => {

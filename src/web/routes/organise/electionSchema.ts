@@ -11,6 +11,7 @@ type Body = Record<string, unknown> | undefined;
 export interface ElectionFormValues {
   title: string;
   description: string;
+  contact: string;
   options: { label: string; description: string }[];
   seats: string;
   epsilon: string;
@@ -37,6 +38,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
   return {
     title: cut(field(body, 'title'), 1000),
     description: cut(field(body, 'description'), 20_000),
+    contact: cut(field(body, 'contact'), 1000),
     options: Array.from({ length: rows }, (_, i) => ({ label: cut(labels[i] ?? '', 1000), description: cut(descriptions[i] ?? '', 2000) })),
     seats: cut(field(body, 'seats'), 20),
     epsilon: cut(field(body, 'epsilon'), 20),
@@ -89,6 +91,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
   const candidate: DraftInput = {
     title: v.title,
     description: v.description,
+    contact: v.contact,
     options,
     seats: seats ?? 1,
     epsilon: v.epsilon.trim(),
