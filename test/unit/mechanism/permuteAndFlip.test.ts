@@ -80,6 +80,28 @@ describe('permute-and-flip: the reference itself', () => {
     expect(other!.minus(x.div(2)).abs().lt('1e-40')).toBe(true);
   });
 
+  it('the sum over subsets equals the literal average over all d! orders (d = 6, 720 orders)', () => {
+    const scores = [9, 7, 7, 4, 1, 0];
+    const a = new D('0.4');
+    const max = Math.max(...scores);
+    const p = scores.map((x) => D.exp(a.times(x - max)));
+    const byOrders = scores.map(() => new D(0));
+    const visit = (prefix: number[], rest: number[]) => {
+      if (rest.length === 0) {
+        let reach = new D(1); // probability that every option so far failed
+        for (const i of prefix) {
+          byOrders[i] = (byOrders[i] as Dec).plus(reach.times(p[i] as Dec));
+          reach = reach.times(new D(1).minus(p[i] as Dec));
+        }
+        return;
+      }
+      rest.forEach((i, k) => visit([...prefix, i], [...rest.slice(0, k), ...rest.slice(k + 1)]));
+    };
+    visit([], scores.map((_, i) => i));
+    const bySubsets = pfFirstSeatDecimal(scores, a);
+    byOrders.forEach((x, i) => expect(x.div(720).minus(bySubsets[i] as Dec).abs().lt('1e-40')).toBe(true));
+  });
+
   it('equal scores give the uniform law; a sum over subsets adds to 1', () => {
     expect(pfFirstSeatDecimal([4, 4, 4, 4, 4], new D(1)).every((p) => p.minus(new D(1).div(5)).abs().lt('1e-40'))).toBe(true);
     const total = pfFirstSeatDecimal([9, 9, 7, 5, 5, 3, 2, 1, 0, 0, 11, 6], new D('0.3')).reduce((x, p) => x.plus(p), new D(0));
