@@ -69,7 +69,7 @@ it('runs an election from first-run setup to a published result, entirely throug
   await page.getByLabel('Title', { exact: true }).fill('Which repairs to fund this year');
   await page.getByLabel('Description (optional)', { exact: true }).fill('The association has money for some repairs.\nTick every one you support.');
   for (const [i, label] of OPTIONS.entries()) await page.getByLabel(`Option ${i + 1} label`, { exact: true }).fill(label);
-  await page.getByLabel('Expected number of voters', { exact: true }).fill('5');
+  await page.getByLabel('Expected number of voters (optional)', { exact: true }).fill('5');
   await page.getByLabel('Passphrase', { exact: true }).fill(PASSPHRASE);
   await page.getByLabel('Passphrase again', { exact: true }).fill(PASSPHRASE);
   await audited(page, 'organise-election-form');

@@ -7,7 +7,9 @@ import { MigrationFailed, migrateLatest } from './db/migrate.ts';
 import { DEFAULT_KDF, type UseCaseContext } from './elections/context.ts';
 import { createLogger } from './log.ts';
 import { loadSecrets } from './secrets.ts';
+import { checkSecretsAgree, SecretsDisagree } from './instanceCheck.ts';
 import { createApp } from './web/app.ts';
+import { answerClientError } from './web/middleware/security.ts';
 import { startHousekeeping } from './housekeeping.ts';
 
 function fail(line: string): never {
@@ -39,6 +41,13 @@ async function start(): Promise<void> {
     if (e instanceof MigrationFailed) fail(`could not prepare the database, ${e.message}`);
     fail(`could not reach the database (${e instanceof Error ? e.message : String(e)})`);
   }
+  try {
+    await checkSecretsAgree(db.knex, secrets);
+  } catch (e) {
+    await db.close().catch(() => undefined);
+    if (e instanceof SecretsDisagree) fail(e.message);
+    throw e;
+  }
 
   const ctx: UseCaseContext = {
     knex: db.knex,
@@ -50,6 +59,7 @@ async function start(): Promise<void> {
   };
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });
   const server: Server = app.listen(config.port, config.host);
+  server.on('clientError', answerClientError);
   await new Promise<void>((resolve, reject) => {
     server.once('listening', resolve);
     server.once('error', reject);

@@ -42,6 +42,8 @@ export function loadSecrets(config: Config): AllSecrets {
     codePepper: config.codePepperHex
       ? Buffer.from(config.codePepperHex, 'hex')
       : readOrCreate(dir, 'code-pepper', 32),
-    signingSeed: readOrCreate(dir, 'signing-seed', 32),
+    signingSeed: config.signingSeedHex
+      ? Buffer.from(config.signingSeedHex, 'hex')
+      : readOrCreate(dir, 'signing-seed', 32),
   });
 }

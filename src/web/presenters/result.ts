@@ -64,6 +64,7 @@ export interface PublishedResultView {
   /** For several seats: that the order is the draw order, not a ranking. */
   orderNote: string | null;
   winnersHeading: string;
+  /** order: "Drawn 1st"… for several seats, empty for one. */
   winnerEntries: { order: string; label: string }[];
   options: ResultOption[];
   chart: ResultChart | null;
@@ -150,7 +151,7 @@ function resultChart(s: {
     title: `Lead needed against the chance that ${who} is drawn${s.seats === 1 ? '' : ', for each seat'}`,
     desc:
       `For ε = ${draw.epsilon.text}, ${s.optionLabels.length} options and ${s.seats} ${s.seats === 1 ? 'seat' : 'seats'}: ` +
-      `with a lead of ${m95} approvals over every other option the chance is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
+      `with a lead of ${m95} ${m95 === 1 ? 'approval' : 'approvals'} over every other option the chance is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
   });
   return {
     chart,
@@ -178,7 +179,7 @@ export function publishedResultView(stored: unknown): PublishedResultView {
         ? 'Listed in the order they were drawn. This order is not a ranking: the option drawn first did not necessarily have more approvals than the others.'
         : null,
     winnersHeading: seats === 1 ? 'The winner' : `The ${seats} options drawn, in draw order`,
-    winnerEntries: statement.winners.map((label, i) => ({ order: seats === 1 ? 'Drawn' : `Drawn ${ordinal(i + 1)}`, label })),
+    winnerEntries: statement.winners.map((label, i) => ({ order: seats === 1 ? '' : `Drawn ${ordinal(i + 1)}`, label })),
     options: statement.optionLabels.map((label) => ({ label, drawn: drawnAs(label) })),
     chart: noBallots ? null : resultChart(statement),
     paragraphs: text.paragraphs,

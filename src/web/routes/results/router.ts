@@ -1,7 +1,5 @@
 import { Router, type Response } from 'express';
-import { limiter } from '../../app.ts';
 import type { AppDeps } from '../../deps.ts';
-import { TooManyAttempts } from '../../errors.ts';
 import { noStore } from '../../middleware/security.ts';
 import { listEvents } from '../../../elections/audit.ts';
 import { checkReceipt } from '../../../elections/checkReceipt.ts';
@@ -27,7 +25,7 @@ export function resultsRouter(deps: AppDeps): Router {
   const { ctx } = deps;
   // 50-bit receipts make guessing pointless; this only bounds load, and a whole meeting on one
   // network address may check its receipts at once, so the allowance is generous.
-  const receiptChecks = limiter(1000, 10 * 60_000, () => new TooManyAttempts('receipt checks'));
+  const { receiptChecks } = deps.limits;
 
   async function publicElection(rawId: unknown): Promise<Election> {
     const param = idParam.safeParse({ id: rawId });

@@ -5,8 +5,6 @@ import { ElectionNotFound } from '../../../elections/errors.ts';
 import { findBallotByCode, listPublishedResults } from '../../../elections/findBallotByCode.ts';
 import { findElection } from '../../../elections/electionRepo.ts';
 import { CodeMalformed, CodeTypo } from '../../../custody/errors.ts';
-import { limiter } from '../../app.ts';
-import { TooManyAttempts } from '../../errors.ts';
 import { noStore } from '../../middleware/security.ts';
 import { votingElectionView } from '../../presenters/ballot.ts';
 import { shownTime } from '../../presenters/publicTime.ts';
@@ -25,8 +23,9 @@ export function siteRouter(deps: AppDeps): Router {
   });
 
   const { ctx } = deps;
-  // Like the ballot steps: only failed look-ups count, so a meeting on one address is never locked out.
-  const codeAttempts = limiter(300, 10 * 60_000, () => new TooManyAttempts('ballot code attempts'), { countFailuresOnly: true });
+  // The same shared allowance as the ballot steps: only failed look-ups count, so a meeting on one
+  // address is never locked out.
+  const { codeAttempts } = deps.limits;
 
   async function renderHome(res: Response, status: number, code: string, problem: string | null) {
     const results = (await listPublishedResults(ctx)).map((r) => ({ url: `/results/${r.id}`, title: r.title, publishedAt: shownTime(r.publishedAt, r.timeZone) }));
