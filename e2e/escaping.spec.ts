@@ -31,7 +31,7 @@ it('shows hostile labels as text through ballot, confirmation and result, with n
   await page.getByLabel(SCRIPT, { exact: true }).check();
   await page.getByLabel(BREAKOUT, { exact: true }).check();
   await screenshot(page, 'escaping-ballot');
-  await page.getByRole('button', { name: 'Check my choices' }).click();
+  await page.getByRole('button', { name: 'Read back my choices' }).click();
   expect(await page.locator('ul.ticked-list li').allInnerTexts()).toEqual([SCRIPT, BREAKOUT]);
   await page.getByRole('button', { name: 'Cast my ballot' }).click();
   await page.getByRole('heading', { name: 'Your ballot has been received' }).waitFor();

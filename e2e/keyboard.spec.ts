@@ -32,7 +32,7 @@ it('votes with Tab, Space and Enter only, with a visible focus ring, and seals e
   await tabTo(page, { id: 'option-3' });
   await page.keyboard.press('Space');
   await screenshot(page, 'keyboard-ballot-focus');
-  await tabTo(page, { text: 'Check my choices' });
+  await tabTo(page, { text: 'Read back my choices' });
   await Promise.all([page.waitForURL('**/confirm'), page.keyboard.press('Enter')]);
 
   expect(await page.locator('ul.ticked-list li').allInnerTexts()).toEqual(['Repaint the stairwell', 'Brighter lights in the car park']);

@@ -45,7 +45,7 @@ async function vote(code: string, electionId: string, ticks: number[]): Promise<
   await page.getByLabel('Ballot code', { exact: true }).fill(code);
   await page.getByRole('button', { name: 'Show my ballot' }).click();
   for (const i of ticks) await page.getByLabel(OPTIONS[i]!, { exact: true }).check();
-  await page.getByRole('button', { name: 'Check my choices' }).click();
+  await page.getByRole('button', { name: 'Read back my choices' }).click();
   await page.getByRole('button', { name: /^Cast my/ }).click();
   await page.getByRole('heading', { name: 'Your ballot has been received' }).waitFor();
   const receipt = await page.locator('p.receipt').innerText();

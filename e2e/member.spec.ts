@@ -43,7 +43,7 @@ async function voteThrough(page: Page, f: ElectionFixture, code: string, tick: s
   await expect(page.getByRole('group', { name: 'Tick every option you find acceptable' }).isVisible()).resolves.toBe(true);
   for (const label of tick) await page.getByLabel(label, { exact: true }).check();
   await checkPage(page, `vote-2-ballot-${size}`);
-  await page.getByRole('button', { name: 'Check my choices' }).click();
+  await page.getByRole('button', { name: 'Read back my choices' }).click();
   for (const label of tick) await expect(page.getByRole('listitem').filter({ hasText: label }).count()).resolves.toBe(1);
   await checkPage(page, `vote-3-confirm-${size}`);
   await page.getByRole('button', { name: /^Cast my/ }).click();
@@ -79,7 +79,7 @@ describe('member pages in Chromium', () => {
     const code = f.codes[2]!;
     await page.getByLabel('Ballot code', { exact: true }).fill(code.slice(0, -1) + (code.endsWith('0') ? '1' : '0'));
     await page.getByRole('button', { name: 'Show my ballot' }).click();
-    await expect(page.getByRole('alert').first().innerText()).resolves.toContain('There is a problem');
+    await expect(page.getByRole('alert').first().innerText()).resolves.toContain('needs another look');
     await checkPage(page, 'vote-error-typo-desktop');
     await page.getByLabel('Ballot code', { exact: true }).fill(f.codes[0]!);
     await page.getByRole('button', { name: 'Show my ballot' }).click();

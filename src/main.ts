@@ -2,6 +2,7 @@ import crypto from 'node:crypto';
 import type { Server } from 'node:http';
 import { ConfigError, loadConfig } from './config.ts';
 import { openConfiguredDatabase } from './db/configured.ts';
+import { DataDirectoryLocked } from './db/dirLock.ts';
 import { MigrationFailed, migrateLatest } from './db/migrate.ts';
 import { DEFAULT_KDF, type UseCaseContext } from './elections/context.ts';
 import { createLogger } from './log.ts';
@@ -24,7 +25,13 @@ async function start(): Promise<void> {
   }
   const logger = createLogger(config.logLevel);
   const secrets = loadSecrets(config);
-  const db = openConfiguredDatabase(config);
+  let db;
+  try {
+    db = openConfiguredDatabase(config);
+  } catch (e) {
+    if (e instanceof DataDirectoryLocked) fail(e.message);
+    throw e;
+  }
   try {
     await migrateLatest(db.knex);
   } catch (e) {

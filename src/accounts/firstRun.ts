@@ -5,15 +5,19 @@ import type { UseCaseContext } from '../elections/context.ts';
 import type { Db } from '../db/knex.ts';
 import { emailSchema } from './email.ts';
 import { FirstRunDone } from './errors.ts';
-import { countOrganisers, insertOrganiser } from './organiserRepo.ts';
+import { countRealOrganisers, insertOrganiser } from './organiserRepo.ts';
 import { hashPassword, OWASP_PASSWORD_KDF, passwordSchema } from './passwords.ts';
 
 /** The instance_settings row whose primary key makes the first run happen at most once. */
 export const FIRST_RUN_SETTING = 'first-organiser';
 
-/** The setup page is offered only while no organiser exists and the first run has not been claimed. */
+/**
+ * The setup page is offered only while no organiser exists and the first run has not been claimed.
+ * The demo's sample login does not count: after exploring the sample elections, the real first
+ * organiser can still be created here.
+ */
 export async function isFirstRunOpen(db: Db): Promise<boolean> {
-  if ((await countOrganisers(db)) > 0) return false;
+  if ((await countRealOrganisers(db)) > 0) return false;
   return !(await db('instance_settings').where({ name: FIRST_RUN_SETTING }).first('name'));
 }
 
@@ -49,7 +53,7 @@ export async function createFirstOrganiser(
       .onConflict('name')
       .ignore()
       .returning('name');
-    if (claimed.length !== 1 || (await countOrganisers(trx)) > 0) throw new FirstRunDone();
+    if (claimed.length !== 1 || (await countRealOrganisers(trx)) > 0) throw new FirstRunDone();
     await insertOrganiser(trx, { id, email, passwordHash, createdBy: null, at: now });
     await recordEvent(trx, { electionId: null, organiserId: id, action: 'first-organiser-created' }, now);
   });

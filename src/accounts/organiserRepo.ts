@@ -6,6 +6,8 @@ export interface Organiser {
   email: string;
   createdAt: Date;
   createdByEmail: string | null;
+  /** Created by the demo (`veiltally demo`): shown as a sample login everywhere it appears. */
+  demo: boolean;
 }
 
 export interface OrganiserCredentials {
@@ -21,6 +23,12 @@ export const normaliseEmail = (email: string): string => email.trim().toLowerCas
 
 export async function countOrganisers(db: Db): Promise<number> {
   const row = await db('organisers').count({ n: '*' }).first();
+  return toCount(row?.n ?? 0);
+}
+
+/** Organisers other than the demo's own sample login. */
+export async function countRealOrganisers(db: Db): Promise<number> {
+  const row = await db('organisers').where({ demo: false }).count({ n: '*' }).first();
   return toCount(row?.n ?? 0);
 }
 
@@ -43,7 +51,7 @@ export async function listOrganisers(db: Db): Promise<Organiser[]> {
 function listQuery(db: Db) {
   return db('organisers as o')
     .leftJoin('organisers as c', 'c.id', 'o.created_by')
-    .select('o.id', 'o.email', 'o.created_at', 'c.email as created_by_email');
+    .select('o.id', 'o.email', 'o.created_at', 'o.demo', 'c.email as created_by_email');
 }
 
 function fromRow(r: Record<string, unknown>): Organiser {
@@ -52,16 +60,24 @@ function fromRow(r: Record<string, unknown>): Organiser {
     email: r.email as string,
     createdAt: new Date(r.created_at as string),
     createdByEmail: (r.created_by_email as string | null) ?? null,
+    demo: r.demo === true,
   };
 }
 
 /** Inserts an organiser; false when the email is taken (unique index), so races cannot create twins. */
 export async function insertOrganiser(
   db: Db,
-  row: { id: string; email: string; passwordHash: string; createdBy: string | null; at: Date },
+  row: { id: string; email: string; passwordHash: string; createdBy: string | null; at: Date; demo?: boolean },
 ): Promise<boolean> {
   const inserted = await db('organisers')
-    .insert({ id: row.id, email: normaliseEmail(row.email), password_hash: row.passwordHash, created_by: row.createdBy, created_at: row.at })
+    .insert({
+      id: row.id,
+      email: normaliseEmail(row.email),
+      password_hash: row.passwordHash,
+      created_by: row.createdBy,
+      created_at: row.at,
+      demo: row.demo ?? false,
+    })
     .onConflict('email')
     .ignore()
     .returning('id');

@@ -32,4 +32,9 @@ export const commands: readonly CommandEntry[] = [
     summary: 'show accuracy guarantees and needed leads for a planned vote (no ballots needed)',
     load: async () => (await import('./commands/bounds.ts')).boundsCommand,
   },
+  {
+    name: 'demo',
+    summary: 'add two sample elections and a demo organiser login, and print their addresses',
+    load: async () => (await import('./commands/demo.ts')).demoCommand,
+  },
 ];

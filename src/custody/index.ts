@@ -38,7 +38,7 @@ export {
 } from './ballot.ts';
 export type { OpeningKey } from './ballot.ts';
 export { codeHash, receiptHash, hmacSha256 } from './keyedHash.ts';
-export { signStatement, verifyStatement, publicKeyFromSeed } from './signing.ts';
+export { signStatement, verifyStatement, publicKeyFromSeed, signingKeyId, keyFingerprint } from './signing.ts';
 export { uuidBytes, randomUuid } from './ids.ts';
 export { sodiumRandom, wipe } from './sodium.ts';
 export {

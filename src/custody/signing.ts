@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { sodium, wipe } from './sodium.ts';
 
 /**
@@ -34,4 +35,20 @@ export function verifyStatement(bytes: Uint8Array, signature: Uint8Array, public
   if (signature.byteLength !== sodium.crypto_sign_BYTES) return false;
   if (publicKey.byteLength !== sodium.crypto_sign_PUBLICKEYBYTES) return false;
   return sodium.crypto_sign_verify_detached(signature, bytes, publicKey);
+}
+
+/** SHA-256 of the 32-byte public key, in hex: what the fingerprint and the key id are cut from. */
+function keyDigest(publicKey: Uint8Array): string {
+  if (publicKey.byteLength !== sodium.crypto_sign_PUBLICKEYBYTES) throw new RangeError('an Ed25519 public key has 32 bytes');
+  return createHash('sha256').update(publicKey).digest('hex');
+}
+
+/** The key id statements name: the first 16 hex digits (64 bits) of SHA-256(public key). */
+export function signingKeyId(publicKey: Uint8Array): string {
+  return keyDigest(publicKey).slice(0, 16);
+}
+
+/** The full SHA-256 of the public key in groups of four hex digits, for people to compare by eye. */
+export function keyFingerprint(publicKey: Uint8Array): string {
+  return keyDigest(publicKey).match(/.{4}/g)!.join(' ');
 }

@@ -3,6 +3,7 @@ import ClientPgLite from 'knex-pglite';
 import pg from 'pg';
 import fs from 'node:fs';
 import path from 'node:path';
+import { lockDataDirectory, type DirectoryLock } from './dirLock.ts';
 
 export type Engine = 'pglite' | 'postgres';
 
@@ -39,7 +40,10 @@ export function openDatabase(options: DatabaseOptions): Database {
     return { knex, engine: 'postgres', close: () => knex.destroy() };
   }
   let connection: Knex.StaticConnectionConfig = {} as Knex.StaticConnectionConfig;
+  let lock: DirectoryLock | null = null;
   if (options.dataDir !== null) {
+    // Before any file is opened: a second process on this directory stops here (dirLock.ts).
+    lock = lockDataDirectory(path.resolve(options.dataDir));
     const dir = path.join(options.dataDir, 'pglite');
     fs.mkdirSync(dir, { recursive: true, mode: 0o700 });
     connection = { filename: dir } as Knex.StaticConnectionConfig;
@@ -49,7 +53,17 @@ export function openDatabase(options: DatabaseOptions): Database {
     dialect: 'postgres',
     connection,
   });
-  return { knex, engine: 'pglite', close: () => knex.destroy() };
+  return {
+    knex,
+    engine: 'pglite',
+    close: async () => {
+      try {
+        await knex.destroy();
+      } finally {
+        lock?.release();
+      }
+    },
+  };
 }
 
 /** count(*) is a string in pg (bigint) and a number in PGlite: normalise here. */

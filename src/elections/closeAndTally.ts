@@ -2,27 +2,26 @@ import {
   BallotUnreadable,
   WrappedKeyInvalid,
   parseWrappedKey,
-  publicKeyFromSeed,
   publicKeyOf,
-  signStatement,
   unwrapElectionKey,
   wipe,
 } from '../custody/index.ts';
-import { buildStatement, canonicalStatementBytes, makeExponentialDraw, type PrivacyStatement } from '../mechanism/index.ts';
+import { buildStatement, makeExponentialDraw, type PrivacyStatement } from '../mechanism/index.ts';
 import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import { AlreadyTallied, BallotsShredded, ElectionNotOpen, ElectionStillOpen, TallyKeyMissing } from './errors.ts';
 import { countApprovals } from './tallyCounter.ts';
 import { rewriteVotingRows, vacuumAfterTally } from './unlinkStorage.ts';
+import { chargeAndSign } from './signDraw.ts';
 
-/** What elections.result holds: the one draw, its statement and the instance signature over it. */
+/**
+ * What elections.result holds: the one draw and its statement for the pages. The signed,
+ * published statement (tied to this election and this draw) is in the statements table.
+ */
 export interface StoredResult {
   winners: string[];
   statement: PrivacyStatement;
-  /** Ed25519 over canonicalStatementBytes(statement), base64. */
-  signature: string;
-  signingPublicKey: string;
 }
 
 /**
@@ -92,12 +91,9 @@ export async function closeAndTally(
       electionTitle: e.title,
     });
     const labels = statement.winners;
-    const result: StoredResult = {
-      winners: labels,
-      statement,
-      signature: signStatement(canonicalStatementBytes(statement), ctx.secrets.signingSeed).toString('base64'),
-      signingPublicKey: publicKeyFromSeed(ctx.secrets.signingSeed).toString('base64'),
-    };
+    const result: StoredResult = { winners: labels, statement };
+    // The ledger is charged and the statement signed in this transaction, published or not.
+    await chargeAndSign(trx, ctx, { election: e, draw, winners, ballots, at: now });
     if (e.state === 'open') {
       await trx('elections').where({ id: e.id }).update({ state: 'closed', closed_at: now, updated_at: now });
       await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'closed' }, now);

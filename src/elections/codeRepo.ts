@@ -36,12 +36,24 @@ export async function findCode(
   return row ? { spent: row.spent as boolean, revoked: row.revoked as boolean } : null;
 }
 
-/** Throws the typed reason a code cannot be used, or returns when it is live. */
+/**
+ * Before a cast: only whether the code was ever issued here. Spent, live and withdrawn codes
+ * answer alike (one query, same columns), so whoever holds the codes cannot probe who voted.
+ */
+export async function assertCodeKnown(db: Db, electionId: string, codeHash: Buffer): Promise<void> {
+  const code = await findCode(db, electionId, codeHash);
+  if (!code) throw new CodeUnknown();
+}
+
+/**
+ * At the final cast, the typed reason a code could not be spent. Withdrawal is checked first,
+ * so a withdrawn code answers the same whether or not it had been used before withdrawal.
+ */
 export async function assertCodeUsable(db: Db, electionId: string, codeHash: Buffer): Promise<void> {
   const code = await findCode(db, electionId, codeHash);
   if (!code) throw new CodeUnknown();
-  if (code.spent) throw new CodeAlreadySpent();
   if (code.revoked) throw new CodeRevoked();
+  if (code.spent) throw new CodeAlreadySpent();
 }
 
 /** Marks a code withdrawn, used or not; true if this call changed it. */

@@ -3,14 +3,18 @@ import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import type { Election } from './electionRepo.ts';
 import { electionStatus, type ElectionStatus } from './status.ts';
-import { countTurnout } from './turnout.ts';
+import { countCodes } from './codeRepo.ts';
 
 export interface Dashboard {
   election: Election;
   status: ElectionStatus;
   now: Date;
-  /** Ballots cast and codes issued: never anything per option. */
-  turnout: { ballotsCast: number; codesIssued: number; codesRevoked: number };
+  /**
+   * Codes issued and withdrawn. Never how many ballots were cast: a live count would tell an
+   * organiser watching a member whether they voted. Exact turnout reaches the organiser only
+   * inside the drawn result, and only when it was chosen before opening to publish it.
+   */
+  codes: { codesIssued: number; codesRevoked: number };
   events: AuditRow[];
 }
 
@@ -23,7 +27,7 @@ export async function loadDashboard(ctx: UseCaseContext, input: { electionId: st
       election,
       status: electionStatus(election, now),
       now,
-      turnout: await countTurnout(trx, election.id),
+      codes: await countCodes(trx, election.id).then((c) => ({ codesIssued: c.issued, codesRevoked: c.revoked })),
       events: await listEvents(trx, election.id, { publicOnly: false }),
     };
   });

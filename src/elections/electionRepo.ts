@@ -37,6 +37,8 @@ export interface Election {
   shredAfter: Date | null;
   shreddedAt: Date | null;
   createdAt: Date;
+  /** The member group whose privacy ledger this election's draw is charged to. */
+  groupId: string | null;
   options: ElectionOption[];
 }
 
@@ -70,6 +72,7 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     shredAfter: date(r.shred_after),
     shreddedAt: date(r.shredded_at),
     createdAt: new Date(r.created_at as string),
+    groupId: (r.group_id as string | null | undefined) ?? null,
     options,
   };
 }

@@ -1,27 +1,34 @@
-import type { PrivacyStatement } from './statement.ts';
+import canonicalize from 'canonicalize';
 
 /**
- * Deterministic JSON for signing: object keys sorted by UTF-16 code units, no
- * whitespace, numbers in JavaScript's shortest round-trip form. This follows the
- * ideas of RFC 8785 (JSON Canonicalization Scheme) for the value types a
- * statement uses: strings, finite numbers, booleans, null, arrays and objects.
+ * RFC 8785 (JSON Canonicalization Scheme) through the `canonicalize` package: object keys
+ * sorted by UTF-16 code units, no whitespace, numbers serialised as ECMAScript does
+ * (RFC 8785 §3.2.2.3). A library rather than our own code, so the signed bytes match what
+ * any other RFC 8785 implementation produces from the same statement.
  */
 export function canonicalJson(value: unknown): string {
-  if (value === null || typeof value === 'boolean' || typeof value === 'string') return JSON.stringify(value);
+  assertJsonValue(value);
+  const text = canonicalize(value);
+  if (text === undefined) throw new TypeError('canonical JSON needs a JSON value');
+  return text;
+}
+
+/** Refuses what JSON cannot hold (non-finite numbers, undefined, functions, bigints) instead of dropping it. */
+function assertJsonValue(value: unknown): void {
+  if (value === null || typeof value === 'boolean' || typeof value === 'string') return;
   if (typeof value === 'number') {
     if (!Number.isFinite(value)) throw new TypeError('canonical JSON cannot hold a non-finite number');
-    return JSON.stringify(value);
+    return;
   }
-  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
-  if (typeof value === 'object') {
-    const entries = Object.entries(value as Record<string, unknown>)
-      .filter(([, v]) => v !== undefined)
-      .sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
-    return `{${entries.map(([k, v]) => `${JSON.stringify(k)}:${canonicalJson(v)}`).join(',')}}`;
-  }
+  if (Array.isArray(value)) return value.forEach(assertJsonValue);
+  if (typeof value === 'object') return Object.values(value as object).forEach((v) => v !== undefined && assertJsonValue(v));
   throw new TypeError(`canonical JSON cannot hold a ${typeof value}`);
 }
 
-export function canonicalStatementBytes(s: PrivacyStatement): Uint8Array {
-  return new TextEncoder().encode(canonicalJson(s));
+export function canonicalBytes(value: unknown): Uint8Array {
+  return new TextEncoder().encode(canonicalJson(value));
+}
+
+export function canonicalStatementBytes(s: object): Uint8Array {
+  return canonicalBytes(s);
 }

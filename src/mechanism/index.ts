@@ -35,3 +35,28 @@ export {
 export { type StatementText, describeStatement, RANDOM_WINNER_CAUTION } from './describe.ts';
 export { describeBounds } from './describeBounds.ts';
 export { canonicalJson, canonicalStatementBytes } from './canonical.ts';
+export { canonicalBytes } from './canonical.ts';
+export {
+  type LedgerEntry,
+  type LedgerTotals,
+  type UnprotectedRelease,
+  type BudgetCheck,
+  UNPROTECTED_RELEASES,
+  sumEpsilons,
+  epsilonExceeds,
+  ledgerTotals,
+  checkBudget,
+  toMinute,
+  yearBefore,
+} from './ledger.ts';
+export {
+  type PublicStatement,
+  type StatementEnvelope,
+  type DrawRule,
+  type ParameterCheck,
+  STATEMENT_FORMAT,
+  DRAW_RULES,
+  buildPublicStatement,
+  recheckStatement,
+  unprotectedReleases,
+} from './publicStatement.ts';

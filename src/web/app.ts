@@ -35,6 +35,7 @@ export function createApp(deps: AppDeps): Express {
   app.use((req, res, next) => {
     res.locals.path = req.path;
     res.locals.signedIn = Boolean(req.session?.organiserId);
+    res.locals.demoOrganiser = Boolean(req.session?.organiserId && req.session.demo);
     next();
   });
   app.use(sameOriginOnly);

@@ -9,6 +9,10 @@ declare module 'express-session' {
     organiserId?: string;
     /** When the session was created, for the absolute timeout. */
     startedAt?: number;
+    /** Signed in as the demo's sample login: the header marks it on every page. */
+    demo?: boolean;
+    /** The demo login's password, kept for exactly one page view after the first-run button. */
+    demoPassword?: string;
   }
 }
 

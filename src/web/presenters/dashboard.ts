@@ -45,6 +45,19 @@ export function eventText(ev: AuditRow, zone: string): string {
   }
 }
 
+/**
+ * Our decision (DESIGN §5): no count of any kind while voting runs, not even a noisy one, since
+ * every estimate would cost privacy and the organiser needs none to run the vote. After close, the
+ * exact turnout is shown to nobody unless the organiser chose before opening to publish it; then
+ * it is part of the result, seen by the organiser in the preview and by everyone on publication.
+ */
+function turnoutNote(e: Dashboard['election']): string {
+  const live = 'Nobody is shown how many members have voted, you included, while voting runs or before the result is drawn: a live count would tell you whether a member you are watching has voted.';
+  return e.publishTurnout
+    ? `${live} You chose to publish the turnout: the exact number of ballots is part of the drawn result, shown to you in the preview and to everyone once published, marked as exact and not protected.`
+    : `${live} You chose not to publish the turnout, so nobody will ever be shown it; the result says only whether anyone voted.`;
+}
+
 export interface DashboardView {
   id: string;
   title: string;
@@ -54,7 +67,10 @@ export interface DashboardView {
   statusLabel: string;
   timeNote: string;
   closesText: string;
-  turnoutText: string;
+  /** Codes issued and withdrawn: never how many ballots were cast. */
+  codesText: string;
+  /** Who sees the turnout, and when. */
+  turnoutNote: string;
   liveCodes: number;
   settings: { term: string; value: string }[];
   options: { label: string; description: string }[];
@@ -67,11 +83,12 @@ export interface DashboardView {
 
 export function dashboardView(d: Dashboard): DashboardView {
   const e = d.election;
-  const t = d.turnout;
+  const t = d.codes;
   const warning = electorateWarning(e);
+  // What the drawn result reveals; what the organiser sees besides is said in the turnout note.
   const protects = e.neighbour === 'replace-one'
-    ? `Whether and how each member voted, both at ε = ${e.epsilon}`
-    : `Whether a member voted at ε = ${e.epsilon}; how they voted at 2ε (expert choice)`;
+    ? `In the drawn result: whether and how each member voted, both at ε = ${e.epsilon}` + (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '')
+    : `In the drawn result: whether a member voted at ε = ${e.epsilon}` + (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '') + '; how they voted at 2ε (expert choice)';
   return {
     id: e.id,
     title: e.title,
@@ -81,7 +98,8 @@ export function dashboardView(d: Dashboard): DashboardView {
     statusLabel: STATUS_LABELS[d.status],
     timeNote: timeNote(d),
     closesText: describeInstant(e.closesAt, e.timeZone),
-    turnoutText: `${plural(t.ballotsCast, 'ballot')} cast out of ${plural(t.codesIssued, 'code')} issued` + (t.codesRevoked > 0 ? ` (${t.codesRevoked.toLocaleString('en')} withdrawn)` : ''),
+    codesText: `${plural(t.codesIssued, 'ballot code')} issued` + (t.codesRevoked > 0 ? ` (${t.codesRevoked.toLocaleString('en')} withdrawn)` : ''),
+    turnoutNote: turnoutNote(e),
     liveCodes: t.codesIssued - t.codesRevoked,
     settings: [
       { term: 'Seats', value: String(e.seats) },

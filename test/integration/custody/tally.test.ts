@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { WrongPassphrase, unwrapElectionKey, verifyStatement, parseWrappedKey } from '../../../src/custody/index.ts';
+import { WrongPassphrase, unwrapElectionKey, verifyStatement, parseWrappedKey, publicKeyFromSeed } from '../../../src/custody/index.ts';
+import { findStatement } from '../../../src/elections/signDraw.ts';
 import { canonicalStatementBytes } from '../../../src/mechanism/index.ts';
 import { closeAndTally, type StoredResult } from '../../../src/elections/closeAndTally.ts';
 import { AlreadyTallied, ElectionStillOpen } from '../../../src/elections/errors.ts';
@@ -55,13 +56,18 @@ describe.each(engines)('tally [%s]', (engine) => {
     expect(row.closed_at).not.toBeNull();
     const stored = (typeof row.result === 'string' ? JSON.parse(row.result) : row.result) as StoredResult;
     expect(stored.winners).toEqual(out.winners);
-    expect(Object.keys(stored).sort()).toEqual(['signature', 'signingPublicKey', 'statement', 'winners']);
-    // RFC 8032 Ed25519 over the canonical statement bytes, checkable with only the public key.
-    const bytes = canonicalStatementBytes(stored.statement);
-    const sig = Buffer.from(stored.signature, 'base64');
-    const pk = Buffer.from(stored.signingPublicKey, 'base64');
+    expect(Object.keys(stored).sort()).toEqual(['statement', 'winners']);
+    // RFC 8032 Ed25519 over the RFC 8785 bytes of the published statement, checkable with only the public key.
+    const signed = (await findStatement(db.knex, s.electionId))!;
+    const bytes = canonicalStatementBytes(signed.envelope.statement);
+    expect(Buffer.from(bytes).toString('utf8')).toBe(signed.canonical);
+    const sig = Buffer.from(signed.envelope.signature.value, 'base64url');
+    const pk = publicKeyFromSeed(s.ctx.secrets.signingSeed);
+    expect(signed.envelope.statement.electionId).toBe(s.electionId);
+    expect(signed.envelope.statement.released.winners).toEqual(out.winners);
     expect(verifyStatement(bytes, sig, pk)).toBe(true);
-    expect(verifyStatement(canonicalStatementBytes({ ...stored.statement, winners: ['Otter?'] }), sig, pk)).toBe(false);
+    const bent = { ...signed.envelope.statement, released: { ...signed.envelope.statement.released, winners: ['Otter?'] } };
+    expect(verifyStatement(canonicalStatementBytes(bent), sig, pk)).toBe(false);
 
     await expect(closeAndTally(s.ctx, input)).rejects.toBeInstanceOf(AlreadyTallied);
     const events = await db.knex('audit_events').where({ election_id: s.electionId }).orderBy('id');

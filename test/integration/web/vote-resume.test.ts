@@ -27,7 +27,7 @@ describe.each(engines)('member voting after the page expired [%s]', (engine) => 
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
 
     const confirm = await s.post(agent, `/vote/${f.id}/confirm`, { _csrf: csrfFrom(expired.text), code, approve: ['0', '2'] }).expect(200);
-    expect(confirm.text).toContain('Check your ballot');
+    expect(confirm.text).toContain('Read back your ballot');
     expect(confirm.text).toContain(f.options[0]!.label);
     expect(confirm.text).toContain(f.options[2]!.label);
     await s.post(agent, `/vote/${f.id}/cast`, { _csrf: csrfFrom(confirm.text), code, approve: ['0', '2'] }).expect(200);

@@ -2,8 +2,9 @@ import { Router, type Response } from 'express';
 import { addOrganiser } from '../../../accounts/addOrganiser.ts';
 import { EmailTaken, FirstRunDone, SignInFailed } from '../../../accounts/errors.ts';
 import { createFirstOrganiser, isFirstRunOpen } from '../../../accounts/firstRun.ts';
-import { listOrganisers } from '../../../accounts/organiserRepo.ts';
+import { countOrganisers, findOrganiser, listOrganisers } from '../../../accounts/organiserRepo.ts';
 import { signIn } from '../../../accounts/signIn.ts';
+import { findDemo } from '../../../demo/seedDemo.ts';
 import { recordEvent } from '../../../elections/audit.ts';
 import { limiter } from '../../app.ts';
 import type { AppDeps } from '../../deps.ts';
@@ -21,18 +22,24 @@ export function accountRoutes(deps: AppDeps): Router {
   const signInAttempts = limiter(10, 15 * 60_000, () => new TooManyAttempts('sign-in attempts'), { countFailuresOnly: true });
   const cookieName = isSecureSite(deps.config.publicUrl) ? '__Host-veiltally' : 'veiltally';
 
-  const renderFirstRun = (res: Response, status: number, email: string, errors: FieldErrors) =>
-    res.status(status).render('organise/first-run', { title: 'Set up this site', email, errors, summary: summaryOf(errors) });
+  const renderFirstRun = async (res: Response, status: number, email: string, errors: FieldErrors) =>
+    res.status(status).render('organise/first-run', {
+      title: 'Set up this site',
+      email,
+      errors,
+      summary: summaryOf(errors),
+      demoReady: (await findDemo(ctx)) !== null,
+    });
 
   router.get(FIRST_RUN_PATH, async (_req, res) => {
     if (!(await isFirstRunOpen(ctx.knex))) return res.redirect(303, SIGN_IN_PATH);
-    renderFirstRun(res, 200, '', {});
+    await renderFirstRun(res, 200, '', {});
   });
 
   router.post(FIRST_RUN_PATH, signInAttempts, async (req, res) => {
     if (!(await isFirstRunOpen(ctx.knex))) throw new FirstRunDone();
     const form = readNewOrganiser(req.body);
-    if (Object.keys(form.errors).length > 0) return renderFirstRun(res, 400, form.values.email, form.errors);
+    if (Object.keys(form.errors).length > 0) return await renderFirstRun(res, 400, form.values.email, form.errors);
     const { organiserId } = await createFirstOrganiser(ctx, { email: form.email, password: form.password });
     await startSession(req, organiserId, ctx.now());
     res.redirect(303, '/organise');
@@ -42,7 +49,8 @@ export function accountRoutes(deps: AppDeps): Router {
     res.status(status).render('organise/sign-in', { title: 'Sign in', email, next: next ?? '', problem: problem ?? null });
 
   router.get(SIGN_IN_PATH, async (req, res) => {
-    if (await isFirstRunOpen(ctx.knex)) return res.redirect(303, FIRST_RUN_PATH);
+    // Only when nobody at all can sign in: the demo's sample login can, while the first run stays open.
+    if ((await countOrganisers(ctx.knex)) === 0) return res.redirect(303, FIRST_RUN_PATH);
     const next = safeNext(req.query.next);
     if (req.session?.organiserId) return res.redirect(303, next ?? '/organise');
     renderSignIn(res, 200, '', next);
@@ -60,7 +68,8 @@ export function accountRoutes(deps: AppDeps): Router {
     try {
       if (!parsed) throw new SignInFailed();
       const { organiserId } = await signIn(ctx, { email: parsed.email, password: parsed.password });
-      await startSession(req, organiserId, ctx.now());
+      const demo = (await findOrganiser(ctx.knex, organiserId))?.demo ?? false;
+      await startSession(req, organiserId, ctx.now(), demo);
       res.redirect(303, next ?? '/organise');
     } catch (e) {
       if (!(e instanceof SignInFailed)) throw e;

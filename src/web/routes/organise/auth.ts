@@ -33,6 +33,7 @@ export function requireOrganiser(deps: AppDeps): RequestHandler {
       return res.redirect(303, signInUrl(wanted));
     }
     res.locals.organiser = organiser;
+    res.locals.demoOrganiser = organiser.demo;
     next();
   };
 }
@@ -41,12 +42,13 @@ export function requireOrganiser(deps: AppDeps): RequestHandler {
  * Starts a signed-in session on a fresh id (OWASP ASVS 5.0 §7.2: a new session token at
  * authentication, against session fixation) and records when, for the absolute timeout.
  */
-export function startSession(req: Request, organiserId: string, now: Date): Promise<void> {
+export function startSession(req: Request, organiserId: string, now: Date, demo = false): Promise<void> {
   return new Promise((resolve, reject) => {
     req.session.regenerate((err) => {
       if (err) return reject(err);
       req.session.organiserId = organiserId;
       req.session.startedAt = now.getTime();
+      if (demo) req.session.demo = true;
       req.session.save((e) => (e ? reject(e) : resolve()));
     });
   });

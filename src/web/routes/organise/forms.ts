@@ -27,7 +27,7 @@ export function errorsFrom(e: InvalidInput): FieldErrors {
   return errors;
 }
 
-/** The summary at the top of a form: each entry links to its field (GOV.UK-style error summary is common practice). */
+/** The note at the top of a form: each entry links to its field, whose own message sits beside it (views/organise/partials/error-summary.ejs). */
 export function summaryOf(errors: FieldErrors, anchor: (key: string) => string = (k) => k): { href: string; message: string }[] {
   return Object.entries(errors).map(([key, message]) => ({ href: `#${anchor(key)}`, message }));
 }

@@ -7,6 +7,7 @@ import { dashboardRoutes } from './dashboardRoutes.ts';
 import { electionRoutes } from './electionRoutes.ts';
 import { tallyRoutes } from './tallyRoutes.ts';
 import { resumeRoutes } from './resumeForm.ts';
+import { demoRoutes } from './demoRoutes.ts';
 
 /**
  * The organiser area, /organise/**. First run, sign-in and sign-out come first; every other
@@ -16,6 +17,7 @@ export function organiseRouter(deps: AppDeps): Router {
   const router = Router();
   router.use(accountRoutes(deps));
   router.use(resumeRoutes(deps));
+  router.use(demoRoutes(deps));
   router.use('/organise', requireOrganiser(deps));
   // "new" is matched before ":id", so the order of these matters.
   router.use(electionRoutes(deps));

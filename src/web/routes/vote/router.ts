@@ -93,7 +93,7 @@ export function voteRouter(deps: AppDeps): Router {
     (res.locals.member as MemberContext).approvals = approvals;
     await checkCode(ctx, { electionId: e.id, code: form.code }).catch(noteWindow(res));
     res.render('vote/confirm', {
-      title: `Check your ballot: ${election.title}`,
+      title: `Read back your ballot: ${election.title}`,
       election,
       code: form.code,
       approvals,

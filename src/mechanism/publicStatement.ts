@@ -1,0 +1,184 @@
+import { isDeepStrictEqual } from 'node:util';
+import type { Bounds } from './bounds.ts';
+import type { ExponentialDraw, Neighbour } from './draw.ts';
+import { makeExponentialDraw } from './draw.ts';
+import { InvalidMechanismConfig } from './errors.ts';
+import { epsilonExceeds, type LedgerTotals, type UnprotectedRelease } from './ledger.ts';
+import { rationalToText } from './rational.ts';
+import { factorAtMost, type Protection } from './statement.ts';
+
+/**
+ * The statement the instance signs and publishes for each draw (format 1). It names the one
+ * election and the one draw it covers (election id, instance-wide draw sequence, draw time to the
+ * minute, key id), the mechanism and every parameter a verifier needs to recompute the bounds,
+ * what was released, and the member group's ledger totals at the draw. It carries no field from
+ * which an approval count could be computed: the bounds depend only on ε, the number of options
+ * and the seats. schemas/statement-v1.schema.json describes it; bump FORMAT when a field changes meaning.
+ */
+export const STATEMENT_FORMAT = 'veiltally-statement/1';
+export type DrawRule = 'exponential' | 'permute-and-flip';
+export const DRAW_RULES: readonly DrawRule[] = ['exponential', 'permute-and-flip'];
+
+export interface PublicStatement {
+  format: typeof STATEMENT_FORMAT;
+  electionId: string;
+  electionTitle: string;
+  keyId: string;
+  drawSequence: number;
+  /** ISO 8601 UTC, to the minute: finer times would tell how long the draw took. */
+  drawnAt: string;
+  mechanism: {
+    rule: DrawRule;
+    scoreFunction: 'approval-count';
+    sensitivity: number;
+    epsilon: string;
+    neighbour: Neighbour;
+    seats: number;
+    composition: 'single-draw' | 'basic';
+    perRoundEpsilon: string;
+    /** a in P(i) ∝ exp(a·sᵢ) for each round, exact ("1/4", "0.25"). */
+    perRoundScale: string;
+  };
+  options: string[];
+  released: {
+    /** Unprotected: a result with no ballots says so. */
+    anyoneVoted: boolean;
+    winners: string[];
+    /** Present only when the organiser chose to publish it; exact and unprotected. */
+    turnout: { value: number; exact: true; protected: false } | null;
+  };
+  privacy: {
+    howVoted: Protection;
+    /** null when an exact turnout was published. */
+    whetherVoted: Protection | null;
+    unprotected: UnprotectedRelease[];
+  };
+  bounds: Bounds;
+  ledger: { groupId: string; groupName: string } & LedgerTotals;
+}
+
+/** A signed statement as served: the signature covers the RFC 8785 bytes of `statement`. */
+export interface StatementEnvelope {
+  statement: PublicStatement;
+  signature: { alg: 'Ed25519'; keyId: string; value: string };
+}
+
+export function unprotectedReleases(turnoutPublished: boolean): UnprotectedRelease[] {
+  return turnoutPublished ? ['anyone-voted', 'exact-turnout'] : ['anyone-voted'];
+}
+
+export function buildPublicStatement(input: {
+  draw: ExponentialDraw;
+  rule?: DrawRule;
+  electionId: string;
+  electionTitle: string;
+  keyId: string;
+  drawSequence: number;
+  drawnAt: string;
+  optionLabels: readonly string[];
+  /** Option positions in seat order; null when no ballots were cast. */
+  winners: readonly number[] | null;
+  /** The exact ballot count only when the organiser publishes it, else null. */
+  publishedTurnout: number | null;
+  ledger: { groupId: string; groupName: string } & LedgerTotals;
+}): PublicStatement {
+  const { draw } = input;
+  if (input.optionLabels.length !== draw.options) throw new InvalidMechanismConfig(`expected ${draw.options} option labels`);
+  const winners = input.winners ?? [];
+  if (input.winners !== null && winners.length !== draw.seats) throw new InvalidMechanismConfig(`expected ${draw.seats} winners`);
+  if (!Number.isSafeInteger(input.drawSequence) || input.drawSequence < 1) throw new InvalidMechanismConfig('the draw sequence must be a whole number ≥ 1');
+  const turnout = input.publishedTurnout;
+  if (turnout !== null && (!Number.isSafeInteger(turnout) || turnout < 0)) throw new InvalidMechanismConfig('turnout must be a whole number ≥ 0');
+  const published = turnout !== null;
+  return {
+    format: STATEMENT_FORMAT,
+    electionId: input.electionId,
+    electionTitle: input.electionTitle,
+    keyId: input.keyId,
+    drawSequence: input.drawSequence,
+    drawnAt: input.drawnAt,
+    mechanism: {
+      rule: input.rule ?? 'exponential',
+      scoreFunction: 'approval-count',
+      sensitivity: draw.sensitivity,
+      epsilon: draw.epsilon.text,
+      neighbour: draw.neighbour,
+      seats: draw.seats,
+      composition: draw.privacy.composition,
+      perRoundEpsilon: draw.privacy.perRoundEpsilon,
+      perRoundScale: rationalToText(draw.perRoundScale),
+    },
+    options: [...input.optionLabels],
+    released: {
+      anyoneVoted: input.winners !== null,
+      winners: winners.map((i) => {
+        const label = input.optionLabels[i];
+        if (label === undefined) throw new InvalidMechanismConfig('a winner is not one of the options');
+        return label;
+      }),
+      turnout: published ? { value: turnout, exact: true, protected: false } : null,
+    },
+    privacy: {
+      howVoted: { epsilon: draw.privacy.howVoted, factorAtMost: factorAtMost(draw.privacy.howVoted) },
+      whetherVoted: published ? null : { epsilon: draw.privacy.whetherVoted, factorAtMost: factorAtMost(draw.privacy.whetherVoted) },
+      unprotected: unprotectedReleases(published),
+    },
+    bounds: draw.bounds(0.05),
+    ledger: { ...input.ledger },
+  };
+}
+
+export interface ParameterCheck {
+  ok: boolean;
+  /** One plain sentence saying what was checked. */
+  what: string;
+}
+
+/**
+ * Recomputes, from the statement's own parameters and with this module's code, everything that
+ * follows from them: the per-round ε and scale, both protections and their e^ε factors, and every
+ * bound. A statement is consistent only when each of these matches what it says. Pure; the
+ * signature and the schema are checked elsewhere.
+ */
+export function recheckStatement(s: PublicStatement): ParameterCheck[] {
+  const checks: ParameterCheck[] = [];
+  let draw: ExponentialDraw;
+  try {
+    draw = makeExponentialDraw({ epsilon: s.mechanism.epsilon, options: s.options.length, seats: s.mechanism.seats, neighbour: s.mechanism.neighbour });
+  } catch (e) {
+    return [{ ok: false, what: `the mechanism's parameters are not valid (${e instanceof Error ? e.message : String(e)})` }];
+  }
+  const add = (ok: boolean, what: string) => checks.push({ ok, what });
+  const m = s.mechanism;
+  add(m.sensitivity === draw.sensitivity, `sensitivity is ${draw.sensitivity} (one ballot changes each approval count by at most 1)`);
+  add(m.composition === draw.privacy.composition && m.perRoundEpsilon === draw.privacy.perRoundEpsilon,
+    `ε = ${m.epsilon} over ${m.seats} seat(s) gives ε = ${draw.privacy.perRoundEpsilon} per seat (${draw.privacy.composition === 'basic' ? 'basic composition' : 'a single draw'})`);
+  add(m.perRoundScale === rationalToText(draw.perRoundScale),
+    `the draw's scale a = ${rationalToText(draw.perRoundScale)} in P(option) ∝ exp(a · approvals), for the "${m.neighbour}" neighbour relation`);
+  const published = s.released.turnout !== null;
+  const how = { epsilon: draw.privacy.howVoted, factorAtMost: factorAtMost(draw.privacy.howVoted) };
+  add(isDeepStrictEqual(s.privacy.howVoted, how), `how a member voted is protected at ε = ${how.epsilon} (odds change by at most ×${how.factorAtMost})`);
+  const whether = published ? null : { epsilon: draw.privacy.whetherVoted, factorAtMost: factorAtMost(draw.privacy.whetherVoted) };
+  add(isDeepStrictEqual(s.privacy.whetherVoted, whether),
+    whether ? `whether a member voted is protected at ε = ${whether.epsilon}` : 'whether a member voted is not protected, because an exact turnout was published');
+  add(isDeepStrictEqual([...s.privacy.unprotected].sort(), unprotectedReleases(published).sort()),
+    `the unprotected releases are listed: ${unprotectedReleases(published).join(', ')}`);
+  add(s.released.anyoneVoted === (s.released.winners.length > 0) && (s.released.winners.length === 0 || s.released.winners.length === m.seats),
+    s.released.anyoneVoted ? `${m.seats} winner(s) named, one per seat` : 'no ballots were cast, so no winner is named');
+  add(s.released.winners.every((w) => s.options.includes(w)) && new Set(s.released.winners).size === s.released.winners.length,
+    'every winner is a distinct option of this election');
+  let bounds: Bounds | null = null;
+  try {
+    bounds = draw.bounds(s.bounds?.beta);
+  } catch {
+    bounds = null;
+  }
+  add(bounds !== null && isDeepStrictEqual(s.bounds, bounds),
+    bounds
+      ? `the accuracy bound (within ${bounds.withinApprovals} approvals of the top option with probability ≥ ${1 - bounds.beta}, Dwork & Roth 2014 Cor. 3.12) and all ${bounds.marginTable.length} rows of the margin table`
+      : 'the bounds could not be recomputed');
+  const l = s.ledger;
+  add(!epsilonExceeds(draw.privacy.howVoted, l.howVotedEpsilon) && l.draws >= 1 && l.windowEnd === s.drawnAt,
+    `the group's ledger at this draw includes this draw (${l.draws} draw(s) in the 12 months to ${l.windowEnd})`);
+  return checks;
+}

@@ -1,0 +1,79 @@
+import { describe, expect, it } from 'vitest';
+import { revokeCode } from '../../../src/elections/revokeCode.ts';
+import { countTurnout } from '../../../src/elections/turnout.ts';
+import { engines } from '../../helpers/databases.ts';
+import { castAll, openElectionFixture, type ElectionFixture } from '../../helpers/fixtures.ts';
+import { useMemberSuite } from '../../helpers/memberSuite.ts';
+
+/**
+ * The organiser holds every code. Before a ballot is cast, the ballot step must not tell a spent,
+ * an unspent and a withdrawn code apart, or an organiser who noted who got which code learns who
+ * voted. Only the final cast may say "already used", and a cast with an unspent code spends it,
+ * so a probe is never silent.
+ */
+describe.each(engines)('ballot step is no code-status oracle [%s]', (engine) => {
+  const s = useMemberSuite(engine);
+  const { begin, post } = s;
+
+  /** Status and page with the per-visit CSRF token and the typed code taken out. */
+  async function answer(f: ElectionFixture, step: 'ballot' | 'confirm', code: string) {
+    const { agent, csrf } = await begin(f);
+    const res = await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code, approve: step === 'confirm' ? ['1'] : undefined });
+    const body = res.text
+      .split(csrf).join('CSRF')
+      .split(code).join('CODE')
+      .replace(/name="castToken" value="[^"]*"/g, 'name="castToken" value="TOKEN"');
+    return { status: res.status, body };
+  }
+
+  it('spent, unspent, withdrawn and used-then-withdrawn codes answer identically at the ballot and confirm steps', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId, { codes: 4 });
+    const [unspent, spent, revoked, spentRevoked] = f.codes as [string, string, string, string];
+    await castAll(s.ctx, f, [[0]], 1);
+    await castAll(s.ctx, f, [[2]], 3);
+    await revokeCode(s.ctx, { electionId: f.id, organiserId: s.organiserId, code: revoked });
+    await revokeCode(s.ctx, { electionId: f.id, organiserId: s.organiserId, code: spentRevoked });
+
+    for (const step of ['ballot', 'confirm'] as const) {
+      const reference = await answer(f, step, unspent);
+      expect(reference.status).toBe(200);
+      for (const code of [spent, revoked, spentRevoked]) {
+        const other = await answer(f, step, code);
+        expect(other.status).toBe(reference.status);
+        expect(other.body).toBe(reference.body);
+      }
+    }
+    // Probing spent nothing.
+    expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(2);
+  });
+
+  it('"already used" appears only at the final cast; a cast with an unspent code spends it', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId, { codes: 2 });
+    const [probed, spent] = f.codes as [string, string];
+    await castAll(s.ctx, f, [[1]], 1);
+    const { agent, csrf } = await begin(f);
+    const used = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code: spent, approve: '0' }).expect(409);
+    expect(used.text).toContain('already been used');
+    // The organiser's probe that goes as far as casting is not silent: the member later finds the code used.
+    await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code: probed }).expect(303);
+    const member = await begin(f);
+    await post(member.agent, `/vote/${f.id}/ballot`, { _csrf: member.csrf, code: probed }).expect(200);
+    await post(member.agent, `/vote/${f.id}/cast`, { _csrf: member.csrf, code: probed, approve: '2' }).expect(409);
+  });
+
+  it('at the final cast a withdrawn code answers the same whether or not it was used before', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId, { codes: 2 });
+    const [fresh, used] = f.codes as [string, string];
+    await castAll(s.ctx, f, [[0]], 1);
+    for (const code of [fresh, used]) await revokeCode(s.ctx, { electionId: f.id, organiserId: s.organiserId, code });
+    const answers = [];
+    for (const code of [fresh, used]) {
+      const { agent, csrf } = await begin(f);
+      const res = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code, approve: '1' });
+      answers.push({ status: res.status, body: res.text.split(csrf).join('CSRF').split(code).join('CODE') });
+    }
+    expect(answers[0]!.status).toBe(410);
+    expect(answers[1]).toEqual(answers[0]);
+    expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(1);
+  });
+});
