@@ -38,7 +38,12 @@ function benchContext(db: Database, pepper: Buffer): UseCaseContext {
 }
 
 async function openBoatElection(ctx: UseCaseContext, organiserId: string, codes: number) {
-  return openElectionFixture(ctx, organiserId, { title: 'Name the new eight', options: OPTIONS, codes, closesAt: new Date(Date.now() + 24 * 3600_000) });
+  return openElectionFixture(ctx, organiserId, {
+    title: 'Name the new eight',
+    options: OPTIONS,
+    codes,
+    closesAt: new Date(Date.now() + 24 * 3600_000),
+  });
 }
 
 /** The ceiling: spend a code, store a receipt and a ballot in one transaction, through pg alone. */
@@ -60,10 +65,20 @@ async function ceiling(db: Database, url: string, electionId: string, casts: num
         const c = await client.connect();
         try {
           await c.query('BEGIN');
-          const spent = await c.query('UPDATE ballot_codes SET spent = true WHERE election_id = $1 AND code_hash = $2 AND spent = false AND revoked = false RETURNING election_id', [electionId, hash]);
+          const spent = await c.query(
+            'UPDATE ballot_codes SET spent = true WHERE election_id = $1 AND code_hash = $2 AND spent = false AND revoked = false RETURNING election_id',
+            [electionId, hash],
+          );
           if (spent.rowCount !== 1) throw new Error('code not spent');
-          await c.query('INSERT INTO receipts (election_id, receipt_hash) VALUES ($1, $2) ON CONFLICT DO NOTHING RETURNING election_id', [electionId, crypto.randomBytes(32)]);
-          await c.query('INSERT INTO ballots (id, election_id, sealed) VALUES ($1, $2, $3)', [crypto.randomUUID(), electionId, crypto.randomBytes(sealedLength)]);
+          await c.query('INSERT INTO receipts (election_id, receipt_hash) VALUES ($1, $2) ON CONFLICT DO NOTHING RETURNING election_id', [
+            electionId,
+            crypto.randomBytes(32),
+          ]);
+          await c.query('INSERT INTO ballots (id, election_id, sealed) VALUES ($1, $2, $3)', [
+            crypto.randomUUID(),
+            electionId,
+            crypto.randomBytes(sealedLength),
+          ]);
           await c.query('COMMIT');
         } catch {
           errors++;
@@ -82,7 +97,12 @@ async function ceiling(db: Database, url: string, electionId: string, casts: num
 }
 
 async function postgresIntake(opts: BenchOptions): Promise<Figure[]> {
-  const levels = opts.quick ? [{ concurrency: 50, casts: 150 }] : [{ concurrency: 50, casts: 1500 }, { concurrency: 200, casts: 2000 }];
+  const levels = opts.quick
+    ? [{ concurrency: 50, casts: 150 }]
+    : [
+        { concurrency: 50, casts: 1500 },
+        { concurrency: 200, casts: 2000 },
+      ];
   const scratch = await scratchDatabase();
   const pepper = crypto.randomBytes(32);
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-bench-'));
@@ -92,7 +112,11 @@ async function postgresIntake(opts: BenchOptions): Promise<Figure[]> {
     await migrateLatest(db.knex);
     const ctx = benchContext(db, pepper);
     const organiserId = await createOrganiser(ctx);
-    const server = await startCompiledServer({ DATABASE_URL: scratch.url, VEILTALLY_DATA_DIR: dataDir, VEILTALLY_CODE_PEPPER: pepper.toString('hex') });
+    const server = await startCompiledServer({
+      DATABASE_URL: scratch.url,
+      VEILTALLY_DATA_DIR: dataDir,
+      VEILTALLY_CODE_PEPPER: pepper.toString('hex'),
+    });
     try {
       for (const { concurrency, casts } of levels) {
         const f = await openBoatElection(ctx, organiserId, casts);

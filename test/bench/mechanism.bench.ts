@@ -70,7 +70,9 @@ export function run(opts: BenchOptions): Figure[] {
       const scores = scoresFor(d, d * 31 + seats);
       const baseline = perSecond(gumbelMax(scores, seats), budget);
       for (const s of SAMPLERS) {
-        figures.push(figure(`draw, ${s.name}, ${seats} seat${seats > 1 ? 's' : ''}, d = ${d}`, perSecond(s.make(scores, seats), budget), 'draws/s', baseline));
+        figures.push(
+          figure(`draw, ${s.name}, ${seats} seat${seats > 1 ? 's' : ''}, d = ${d}`, perSecond(s.make(scores, seats), budget), 'draws/s', baseline),
+        );
       }
     }
   }

@@ -41,7 +41,10 @@ export async function run(opts: BenchOptions): Promise<Figure[]> {
 
     // The ballot page: the start page's form, then the code step, repeated with one session.
     const start = await fetch(`${base}/vote/${open.id}`);
-    const cookie = start.headers.getSetCookie().map((c) => c.split(';')[0]).join('; ');
+    const cookie = start.headers
+      .getSetCookie()
+      .map((c) => c.split(';')[0])
+      .join('; ');
     const form = formFields(await start.text(), '/ballot');
     const body = new URLSearchParams([...form.fields, ['code', open.codes[0]!]]).toString();
     const time = async (request: () => Promise<Response>): Promise<number> => {
@@ -54,7 +57,11 @@ export async function run(opts: BenchOptions): Promise<Figure[]> {
       return median(serverMs.slice(Math.min(10, rounds >> 2))); // after a warm-up
     };
     const ballotMs = await time(() =>
-      fetch(`${base}${form.action}`, { method: 'POST', headers: { cookie, 'content-type': 'application/x-www-form-urlencoded', origin: base }, body }),
+      fetch(`${base}${form.action}`, {
+        method: 'POST',
+        headers: { cookie, 'content-type': 'application/x-www-form-urlencoded', origin: base },
+        body,
+      }),
     );
     const resultMs = await time(() => fetch(`${base}/results/${finished.id}`));
     return [

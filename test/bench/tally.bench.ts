@@ -57,21 +57,40 @@ export async function run(opts: BenchOptions): Promise<Figure[]> {
       const { publicKey, wrapped } = await createElectionKeys({ passphrase: PASS, electionId, kdf: KDF });
       const secretKey = await unwrapElectionKey(wrapped, PASS, electionId);
       await db.knex('elections').insert({
-        id: electionId, owner_id: owner, title: 'Repairs to fund this year', state: 'closed', epsilon: '1',
-        opens_at: '2026-05-01T00:00:00Z', closes_at: '2026-05-08T00:00:00Z', public_key: publicKey,
+        id: electionId,
+        owner_id: owner,
+        title: 'Repairs to fund this year',
+        state: 'closed',
+        epsilon: '1',
+        opens_at: '2026-05-01T00:00:00Z',
+        closes_at: '2026-05-08T00:00:00Z',
+        public_key: publicKey,
       });
-      await db.knex('options').insert(Array.from({ length: D }, (_, position) => ({ election_id: electionId, position, label: `Repair ${position + 1}` })));
+      await db
+        .knex('options')
+        .insert(Array.from({ length: D }, (_, position) => ({ election_id: electionId, position, label: `Repair ${position + 1}` })));
       for (let i = 0; i < n; i += 1000) {
         const rows = [];
         for (let j = i; j < Math.min(n, i + 1000); j++) {
-          const sealed = encodeAndSeal(publicKey, electionId, D, [...Array(D).keys()].filter(() => crypto.randomInt(4) === 0));
+          const sealed = encodeAndSeal(
+            publicKey,
+            electionId,
+            D,
+            [...Array(D).keys()].filter(() => crypto.randomInt(4) === 0),
+          );
           if (n === large && sample.length < 20_000) sample.push(sealed);
           rows.push({ id: crypto.randomUUID(), election_id: electionId, sealed });
         }
         await db.knex('ballots').insert(rows);
       }
       await db.knex.raw('ANALYZE ballots');
-      const r = await countInChild({ url: scratch.url, electionId, publicKey: publicKey.toString('hex'), secretKey: Buffer.from(secretKey).toString('hex'), optionCount: D });
+      const r = await countInChild({
+        url: scratch.url,
+        electionId,
+        publicKey: publicKey.toString('hex'),
+        secretKey: Buffer.from(secretKey).toString('hex'),
+        optionCount: D,
+      });
       if (r.ballots !== n || r.unreadable !== 0) throw new Error('the benchmark tally miscounted');
       results.set(n, r);
       if (n === large) keys = { publicKey, secretKey };
@@ -85,7 +104,13 @@ export async function run(opts: BenchOptions): Promise<Figure[]> {
     const tiny = results.get(small)!;
     const fmt = (n: number) => n.toLocaleString('en');
     return [
-      figure(`tally, ${fmt(large)} ballots from PostgreSQL (${big.threads || 1} thread${big.threads > 1 ? 's' : ''}): ballots/s`, large / big.seconds, 'ballots/s', rawPerThread * Math.max(1, big.threads), { atLeastRatio: 0.6 }),
+      figure(
+        `tally, ${fmt(large)} ballots from PostgreSQL (${big.threads || 1} thread${big.threads > 1 ? 's' : ''}): ballots/s`,
+        large / big.seconds,
+        'ballots/s',
+        rawPerThread * Math.max(1, big.threads),
+        { atLeastRatio: 0.6 },
+      ),
       figure(`tally, ${fmt(small)} ballots from PostgreSQL: ballots/s`, small / tiny.seconds, 'ballots/s', rawPerThread * Math.max(1, tiny.threads)),
       figure(`tally peak RSS, ${fmt(small)} ballots`, tiny.maxRssMB, 'MB', null, { below: 300 }),
       // Flat: the ceiling here is the small tally's RSS, and the ratio should stay near 1.

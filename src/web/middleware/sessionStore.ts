@@ -1,11 +1,6 @@
 import session from 'express-session';
 import type { Knex } from 'knex';
-import {
-  deleteSession,
-  readSessionRow,
-  touchSession,
-  writeSession,
-} from '../../accounts/sessionRepo.ts';
+import { deleteSession, readSessionRow, touchSession, writeSession } from '../../accounts/sessionRepo.ts';
 
 type Callback = (err?: unknown, value?: unknown) => void;
 
@@ -37,13 +32,16 @@ export class DatabaseSessionStore extends session.Store {
   }
 
   override get(sid: string, cb: (err: unknown, sess?: session.SessionData | null) => void): void {
-    readSessionRow(this.knex, sid, this.now()).then((row) => {
-      if (row) {
-        if (this.seenExpiry.size >= REMEMBERED_MAX) this.seenExpiry.clear();
-        this.seenExpiry.set(sid, row.expiresAt.getTime());
-      }
-      cb(null, (row?.data as session.SessionData | undefined) ?? null);
-    }, (err) => cb(err));
+    readSessionRow(this.knex, sid, this.now()).then(
+      (row) => {
+        if (row) {
+          if (this.seenExpiry.size >= REMEMBERED_MAX) this.seenExpiry.clear();
+          this.seenExpiry.set(sid, row.expiresAt.getTime());
+        }
+        cb(null, (row?.data as session.SessionData | undefined) ?? null);
+      },
+      (err) => cb(err),
+    );
   }
 
   override set(sid: string, sess: session.SessionData, cb?: Callback): void {

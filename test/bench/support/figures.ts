@@ -40,12 +40,23 @@ export function figure(name: string, value: number, unit: string, ceiling: numbe
     target = `>= ${goal.atLeast} ${unit}`;
     met = value >= goal.atLeast;
   }
-  return { name, value: round(value, value >= 100 ? 1 : 3), unit, ceiling: ceiling === null ? null : round(ceiling, ceiling >= 100 ? 1 : 3), ratio, target, met };
+  return {
+    name,
+    value: round(value, value >= 100 ? 1 : 3),
+    unit,
+    ceiling: ceiling === null ? null : round(ceiling, ceiling >= 100 ? 1 : 3),
+    ratio,
+    target,
+    met,
+  };
 }
 
 export function machine(): string {
   const cpus = os.cpus();
-  const load = os.loadavg().map((x) => x.toFixed(1)).join(' ');
+  const load = os
+    .loadavg()
+    .map((x) => x.toFixed(1))
+    .join(' ');
   return `${cpus.length} × ${cpus[0]?.model.trim() ?? 'unknown CPU'}, ${(os.totalmem() / 2 ** 30).toFixed(1)} GiB, ${os.type()} ${os.release()}, node ${process.version}, load average at start ${load}`;
 }
 
@@ -55,5 +66,8 @@ export function percentile(sorted: readonly number[], p: number): number {
 }
 
 export function median(xs: readonly number[]): number {
-  return percentile([...xs].sort((a, b) => a - b), 50);
+  return percentile(
+    [...xs].sort((a, b) => a - b),
+    50,
+  );
 }

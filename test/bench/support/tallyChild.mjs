@@ -19,7 +19,9 @@ try {
   });
   const seconds = (performance.now() - t0) / 1000;
   const threads = chooseThreads('auto', tally.ballots);
-  process.stdout.write(`${JSON.stringify({ seconds, ballots: tally.ballots, unreadable: tally.unreadable, threads, maxRssMB: process.resourceUsage().maxRSS / 1024 })}\n`);
+  process.stdout.write(
+    `${JSON.stringify({ seconds, ballots: tally.ballots, unreadable: tally.unreadable, threads, maxRssMB: process.resourceUsage().maxRSS / 1024 })}\n`,
+  );
 } finally {
   await db.close();
 }

@@ -41,7 +41,13 @@ function request(agent: http.Agent, base: URL, method: string, path: string, coo
 }
 
 function decode(s: string): string {
-  return s.replace(/&#(\d+);/g, (_, n: string) => String.fromCharCode(Number(n))).replace(/&quot;/g, '"').replace(/&lt;/g, '<').replace(/&gt;/g, '>').replace(/&#39;/g, "'").replace(/&amp;/g, '&');
+  return s
+    .replace(/&#(\d+);/g, (_, n: string) => String.fromCharCode(Number(n)))
+    .replace(/&quot;/g, '"')
+    .replace(/&lt;/g, '<')
+    .replace(/&gt;/g, '>')
+    .replace(/&#39;/g, "'")
+    .replace(/&amp;/g, '&');
 }
 
 function attr(tag: string, name: string): string | undefined {
@@ -89,7 +95,12 @@ async function pool<T>(items: readonly T[], concurrency: number, work: (item: T)
 }
 
 /** Walks each member to the confirm page and keeps the cast form it offers. */
-export async function prepareCasts(baseUrl: string, electionId: string, codes: readonly string[], approvalsFor: (i: number) => number[]): Promise<PreparedCast[]> {
+export async function prepareCasts(
+  baseUrl: string,
+  electionId: string,
+  codes: readonly string[],
+  approvalsFor: (i: number) => number[],
+): Promise<PreparedCast[]> {
   const base = new URL(baseUrl);
   const agent = new http.Agent({ keepAlive: true, maxSockets: 8 });
   const prepared: PreparedCast[] = new Array(codes.length);
@@ -100,7 +111,11 @@ export async function prepareCasts(baseUrl: string, electionId: string, codes: r
       if (start.status !== 200) throw new Error(`start page answered ${start.status}`);
       jar.take(start.cookies);
       const startForm = formFields(start.body, '/ballot');
-      const body = new URLSearchParams([...startForm.fields, ['code', codes[i]!], ...approvalsFor(i).map((p): [string, string] => ['approve', String(p)])]);
+      const body = new URLSearchParams([
+        ...startForm.fields,
+        ['code', codes[i]!],
+        ...approvalsFor(i).map((p): [string, string] => ['approve', String(p)]),
+      ]);
       const confirm = await request(agent, base, 'POST', startForm.action.replace(/\/ballot$/, '/confirm'), jar.header(), body.toString());
       if (confirm.status !== 200) throw new Error(`confirm page answered ${confirm.status}`);
       jar.take(confirm.cookies);
@@ -144,5 +159,11 @@ export async function castAll(baseUrl: string, casts: readonly PreparedCast[], c
   }
   const seconds = (performance.now() - t0) / 1000;
   latencies.sort((a, b) => a - b);
-  return { ballotsPerSecond: (casts.length - errors) / seconds, p50Ms: percentile(latencies, 50), p99Ms: percentile(latencies, 99), errors, casts: casts.length };
+  return {
+    ballotsPerSecond: (casts.length - errors) / seconds,
+    p50Ms: percentile(latencies, 50),
+    p99Ms: percentile(latencies, 99),
+    errors,
+    casts: casts.length,
+  };
 }
