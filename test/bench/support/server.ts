@@ -22,7 +22,7 @@ export async function startCompiledServer(env: Record<string, string>, command?:
   let out = '';
   const child = spawn(cmd, args, {
     cwd: REPO_ROOT,
-    env: { ...process.env, PORT: String(port), HOST: '127.0.0.1', LOG_LEVEL: 'warn', ...env },
+    env: { ...process.env, PORT: String(port), HOST: '127.0.0.1', LOG_LEVEL: 'info', ...env }, // the request log on, as in production
     stdio: ['ignore', 'ignore', 'pipe'],
   });
   child.stderr!.on('data', (d) => (out += d));
