@@ -39,7 +39,7 @@ it('shows hostile labels as text through ballot, confirmation and result, with n
   env.server.clock.advance(8 * 24 * 3600_000);
   const winners = await tallyFixture(env.server.ctx, f, true);
   await page.goto(`${env.server.url}/results/${f.id}`);
-  expect(await page.locator('ol.winners li').allInnerTexts()).toEqual(winners);
+  expect(await page.locator('.announce-name').allInnerTexts()).toEqual(winners);
   await screenshot(page, 'escaping-result');
 
   // Nothing was parsed as markup: no image, and the only script-free page stays script-free.

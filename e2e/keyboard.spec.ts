@@ -38,7 +38,7 @@ it('votes with Tab, Space and Enter only, with a visible focus ring, and seals e
   expect(await page.locator('ul.ticked-list li').allInnerTexts()).toEqual(['Repaint the stairwell', 'Brighter lights in the car park']);
   await tabTo(page, { text: 'Cast my ballot' });
   expect(await focusRing(page)).toBe('solid 3px');
-  await Promise.all([page.waitForURL('**/cast'), page.keyboard.press('Enter')]);
+  await Promise.all([page.waitForURL('**/receipt'), page.keyboard.press('Enter')]);
 
   expect(await page.getByRole('heading', { name: 'Your ballot has been received' }).isVisible()).toBe(true);
   expect(await openStoredBallots(env.server.ctx, f.id)).toEqual([[1, 3]]);

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import type { BrowserContext, Page } from 'playwright-core';
 import { screenshot } from './browser.ts';
-import { DESKTOP, PHONE, seriousViolations } from './audit.ts';
+import { DESKTOP, PHONE, focusRing, seriousViolations, tabTo } from './audit.ts';
 import { useMemberBrowser } from './memberServer.ts';
 import {
   FIXTURE_PASSWORD,
@@ -86,8 +86,27 @@ describe('the look, in Chromium', () => {
     await audit(page, 'elections');
     await page.goto(`${env.server.url}/organise/elections/new`);
     await audit(page, 'form-new');
-    await page.locator('button[name=intent][value=save]:not(.default-submit)').click();
+    await page.getByRole('button', { name: 'Create the draft election' }).click();
+    await expect(page.getByRole('alert').first().innerText()).resolves.toMatch(/answers need another look/);
+    // Each field in trouble says so beside itself and is tied to its message.
+    await expect(page.locator('#title').getAttribute('aria-invalid')).resolves.toBe('true');
+    await expect(page.locator('#title').getAttribute('aria-describedby')).resolves.toContain('title-error');
     await audit(page, 'form-errors');
+    // The guidance in numbers, for 12 voters, 4 options and ε = 0.5; the page comes back at the guidance.
+    await page.getByLabel('Title', { exact: true }).fill('Name the new coxed four');
+    for (const [i, label] of ['Heron', 'Kingfisher', 'Otter', 'Swift'].entries()) await page.getByLabel(`Option ${i + 1} label`, { exact: true }).fill(label);
+    await page.getByLabel('Privacy level ε', { exact: true }).fill('0.5');
+    await page.getByLabel('Expected number of voters (optional)', { exact: true }).fill('12');
+    await page.getByLabel('Passphrase', { exact: true }).fill('rowing club boat naming');
+    await page.getByRole('button', { name: 'Update the guidance for these settings' }).click();
+    await page.waitForURL(/\/organise\/elections\/new\/guidance#guidance$/);
+    await expect(page.getByText('If all 12 voters approve one option and nobody approves any other').isVisible()).resolves.toBe(true);
+    await expect(page.locator('#passphrase-again-note').isVisible()).resolves.toBe(true);
+    await audit(page, 'form-guidance');
+    await page.getByLabel('Privacy level ε', { exact: true }).fill('4');
+    await page.getByRole('button', { name: 'Update the guidance for these settings' }).click();
+    await expect(page.getByRole('heading', { name: 'Weak privacy protection' }).isVisible()).resolves.toBe(true);
+    await audit(page, 'form-weak-protection');
     await page.goto(`${env.server.url}/organise/elections/${draft.id}`);
     await audit(page, 'dashboard-draft');
     await page.goto(`${env.server.url}/organise/elections/${draft.id}/open`);
@@ -96,6 +115,9 @@ describe('the look, in Chromium', () => {
     await audit(page, 'dashboard-open');
     await page.goto(`${env.server.url}/organise/elections/${boat.id}/close`);
     await audit(page, 'close');
+    // Keyboard users see where they are: the stylesheet's ring on a button (WCAG 2.2 SC 2.4.7).
+    await tabTo(page, { text: 'Close voting now' });
+    await expect(focusRing(page)).resolves.toBe('solid 3px');
     await context.close();
   });
 
@@ -107,12 +129,15 @@ describe('the look, in Chromium', () => {
     await page.locator('#code').fill(code.slice(0, -1) + (code.endsWith('0') ? '1' : '0'));
     await page.locator('#code').press('Enter');
     await audit(page, 'vote-code-problem');
+    await expect(page.locator('#code').getAttribute('aria-invalid')).resolves.toBe('true');
     await page.locator('#code').fill(code);
-    await page.locator('#code').press('Enter');
+    await page.getByRole('button', { name: 'Show my ballot' }).click();
     await page.getByLabel('Heron', { exact: true }).check();
     await page.getByLabel('Swift', { exact: true }).check();
+    await expect(page.locator('.track [aria-current=step]').innerText()).resolves.toBe('Choose');
     await audit(page, 'vote-ballot');
-    await page.locator('form.ballot button[type=submit]').click();
+    await page.getByRole('button', { name: 'Read back my choices' }).click();
+    await expect(page.getByRole('heading', { name: 'Read back your ballot' }).isVisible()).resolves.toBe(true);
     await audit(page, 'vote-confirm');
     await page.getByRole('button', { name: /^Cast my/ }).click();
     await audit(page, 'vote-receipt');
@@ -126,11 +151,19 @@ describe('the look, in Chromium', () => {
     await page.goto(`${env.server.url}/results/${boat.id}`);
     await audit(page, 'result-pending');
     env.server.clock.advance(8 * 24 * 3600_000);
+    await signIn(page);
+    await page.goto(`${env.server.url}/organise/elections/${boat.id}/tally`);
+    await expect(page.getByText('so these figures are for the 20 voters you expected').isVisible()).resolves.toBe(true);
+    await audit(page, 'tally');
     await tallyFixture(env.server.ctx, boat, true);
     await tallyFixture(env.server.ctx, repairs, true);
     await page.goto(`${env.server.url}/results/${boat.id}`);
     await audit(page, 'result-one-seat');
     await page.goto(`${env.server.url}/results/${repairs.id}`);
+    await expect(page.locator('.announce-name').count()).resolves.toBe(3);
+    await expect(page.getByText('This order is not a ranking').isVisible()).resolves.toBe(true);
+    await page.getByText('The mathematics behind the draw').click();
+    await expect(page.getByRole('img', { name: /Lead needed against the chance/ }).isVisible()).resolves.toBe(true);
     await audit(page, 'result-three-seats');
     await page.emulateMedia({ media: 'print' });
     await screenshot(page, 'look-result-three-seats-print');

@@ -97,7 +97,7 @@ describe('member pages in Chromium', () => {
     await checkPage(page, 'vote-error-closed-desktop');
     const winners = await tallyFixture(env.server.ctx, f, true);
     await page.goto(`${env.server.url}/results/${f.id}`);
-    await expect(page.locator('ol.winners li').allInnerTexts()).resolves.toEqual(winners);
+    await expect(page.locator('.announce-name').allInnerTexts()).resolves.toEqual(winners);
     await checkPage(page, 'result-published-desktop');
     await page.getByLabel('Receipt', { exact: true }).fill(receipts[0]!.toLowerCase());
     await page.getByRole('button', { name: 'Check receipt' }).click();

@@ -34,6 +34,11 @@ const schema = z.object({
     .regex(/^https?:\/\/[^\s/]+(\/[^\s]*)?$/, 'must be an http:// or https:// address, for example https://vote.example.org')
     .optional(),
   TRUST_PROXY: booleanish.default(false),
+  VEILTALLY_PREVIEW_HOURS: z.coerce
+    .number({ error: 'must be a number of hours from 0 to 48' })
+    .min(0, { error: 'must be a number of hours from 0 to 48' })
+    .max(48, { error: 'must be at most 48: every draw is published within 48 hours' })
+    .default(48),
   LOG_LEVEL: z.enum(LOG_LEVELS, { error: `must be one of ${LOG_LEVELS.join(', ')}` }).default('info'),
 });
 
@@ -48,6 +53,8 @@ export type Config = Readonly<{
   publicUrl: string;
   trustProxy: boolean;
   logLevel: (typeof LOG_LEVELS)[number];
+  /** How long an organiser may hold a drawn result as a private preview before it publishes itself (≤ 48 h). */
+  previewMs: number;
 }>;
 
 export class ConfigError extends Error {
@@ -75,5 +82,6 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     publicUrl: (e.PUBLIC_URL ?? `http://${e.HOST.includes(':') ? `[${e.HOST}]` : e.HOST}:${e.PORT}`).replace(/\/+$/, ''),
     trustProxy: e.TRUST_PROXY,
     logLevel: e.LOG_LEVEL,
+    previewMs: Math.round(e.VEILTALLY_PREVIEW_HOURS * 3600_000),
   });
 }

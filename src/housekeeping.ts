@@ -1,4 +1,5 @@
 import { deleteExpiredSessions } from './accounts/sessionRepo.ts';
+import { publishDue } from './elections/publishResult.ts';
 import { shredDue } from './elections/shred.ts';
 import type { UseCaseContext } from './elections/context.ts';
 import type { Logger } from './log.ts';
@@ -9,11 +10,13 @@ export interface Job {
 }
 
 /**
- * Periodic chores. Each is safe to run on several app servers at once: shredding locks the
- * election row, and deleting expired sessions is idempotent.
+ * Periodic chores. Each is safe to run on several app servers at once: publishing and shredding
+ * lock the election row (SKIP LOCKED) and check its state, and deleting expired sessions is idempotent.
  */
 export const jobs: readonly Job[] = [
   { name: 'expire sessions', run: (ctx) => deleteExpiredSessions(ctx.knex, ctx.now()) },
+  // Before shredding, so a result published now with "shred at once" is shredded in the same pass.
+  { name: 'publish results whose preview has ended', run: (ctx) => publishDue(ctx) },
   { name: 'shred ballots past their retention', run: (ctx) => shredDue(ctx) },
 ];
 

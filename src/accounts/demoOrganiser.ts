@@ -2,8 +2,17 @@ import { randomUuid } from '../custody/index.ts';
 import { recordEvent } from '../elections/audit.ts';
 import type { UseCaseContext } from '../elections/context.ts';
 import { EmailTaken } from './errors.ts';
-import { insertOrganiser } from './organiserRepo.ts';
+import type { Db } from '../db/knex.ts';
+import { countRealOrganisers, insertOrganiser } from './organiserRepo.ts';
 import { hashPassword, OWASP_PASSWORD_KDF } from './passwords.ts';
+
+/**
+ * The demo login works only while the site has no real organiser: its password was printed to a
+ * terminal or shown on a page, so once someone sets the site up for real it signs in no more.
+ */
+export async function demoLoginRetired(db: Db, organiser: { demo: boolean }): Promise<boolean> {
+  return organiser.demo && (await countRealOrganisers(db)) > 0;
+}
 
 /** The demo's sample login. `.invalid` is reserved by RFC 2606 §2, so it can never be a real mailbox. */
 export const DEMO_ORGANISER_EMAIL = 'demo-organiser@sample.invalid';

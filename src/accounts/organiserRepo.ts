@@ -14,6 +14,7 @@ export interface OrganiserCredentials {
   id: string;
   email: string;
   passwordHash: string;
+  demo: boolean;
 }
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
@@ -33,8 +34,8 @@ export async function countRealOrganisers(db: Db): Promise<number> {
 }
 
 export async function findCredentials(db: Db, email: string): Promise<OrganiserCredentials | null> {
-  const row = await db('organisers').where({ email: normaliseEmail(email) }).first('id', 'email', 'password_hash');
-  return row ? { id: row.id, email: row.email, passwordHash: row.password_hash } : null;
+  const row = await db('organisers').where({ email: normaliseEmail(email) }).first('id', 'email', 'password_hash', 'demo');
+  return row ? { id: row.id, email: row.email, passwordHash: row.password_hash, demo: row.demo === true } : null;
 }
 
 export async function findOrganiser(db: Db, id: string): Promise<Organiser | null> {

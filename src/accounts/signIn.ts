@@ -2,6 +2,7 @@ import { z } from 'zod';
 import { recordEvent } from '../elections/audit.ts';
 import type { UseCaseContext } from '../elections/context.ts';
 import { SignInFailed } from './errors.ts';
+import { demoLoginRetired } from './demoOrganiser.ts';
 import { findCredentials, updatePasswordHash } from './organiserRepo.ts';
 import { dummyHash, hashPassword, needsRehash, OWASP_PASSWORD_KDF, PASSWORD_MAX, verifyPassword } from './passwords.ts';
 
@@ -21,6 +22,7 @@ export async function signIn(ctx: UseCaseContext, raw: { email: string; password
   const hash = credentials?.passwordHash ?? (await dummyHash(cost, ctx.random));
   const ok = await verifyPassword(hash, password);
   if (!credentials || !ok) throw new SignInFailed();
+  if (await demoLoginRetired(ctx.knex, credentials)) throw new SignInFailed();
 
   const upgraded = needsRehash(credentials.passwordHash, cost) ? await hashPassword(password, cost, ctx.random) : null;
   await ctx.knex.transaction(async (trx) => {

@@ -49,3 +49,4 @@ export {
   ReceiptMalformed,
   WrappedKeyInvalid,
 } from './errors.ts';
+export { generateCastToken, parseCastToken, castTokenHash, sealReceiptForToken, openReceiptForToken, CAST_TOKEN_BYTES } from './castToken.ts';

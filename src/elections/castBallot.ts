@@ -1,13 +1,19 @@
 import { z } from 'zod';
 import {
   MAX_OPTIONS,
+  castTokenHash,
   codeHash,
   encodeAndSeal,
   generateReceipt,
   normaliseCode,
+  openReceiptForToken,
+  parseCastToken,
   randomUuid,
   receiptHash,
+  sealReceiptForToken,
 } from '../custody/index.ts';
+import type { Db } from '../db/knex.ts';
+import { toBuffer } from '../db/knex.ts';
 import { insertBallot, insertReceipt } from './ballotRepo.ts';
 import { assertCodeUsable, spendCode } from './codeRepo.ts';
 import type { UseCaseContext } from './context.ts';
@@ -26,23 +32,35 @@ const RECEIPT_ATTEMPTS = 8;
  *  3. a random receipt is stored only as a keyed hash, in receipts and never in the ballot
  *     row, so showing a receipt later points to no ballot.
  * An empty list of approvals is a valid abstention.
+ * With a one-time cast token (from the member's confirmation form) the cast is idempotent for
+ * that browser: the same submission again returns the same receipt and spends nothing, however
+ * the first answer was lost. Without the token, a second cast gets CodeAlreadySpent as before.
  * Errors: CodeMalformed, CodeTypo (before any lookup), ElectionNotFound, ElectionNotOpen,
  * TallyKeyMissing, InvalidBallot, CodeUnknown, CodeAlreadySpent, CodeRevoked.
  */
 export async function castBallot(
   ctx: UseCaseContext,
-  input: { electionId: string; code: string; approvals: number[] },
+  input: { electionId: string; code: string; approvals: number[]; castToken?: string },
 ): Promise<{ receipt: string }> {
+  const token = parseCastToken(input.castToken);
   const canonical = normaliseCode(input.code);
   const parsed = approvalsSchema.safeParse(input.approvals);
   if (!parsed.success || new Set(parsed.data).size !== parsed.data.length) throw new InvalidBallot();
   const approvals = parsed.data;
 
   return ctx.knex.transaction(async (trx) => {
+    const tHash = token ? castTokenHash(ctx.secrets.codePepper, input.electionId, token) : null;
+    if (token && tHash && UUID.test(input.electionId)) {
+      const earlier = await receiptForToken(trx, input.electionId, token, tHash);
+      if (earlier) return { receipt: earlier };
+    }
     const e = await votingElection(trx, input.electionId, ctx.now());
     if (approvals.some((p) => p >= e.optionCount)) throw new InvalidBallot();
     const hash = codeHash(ctx.secrets.codePepper, e.id, canonical);
     if (!(await spendCode(trx, e.id, hash))) {
+      // The same submission sent twice at once: the other one spent the code and has committed.
+      const earlier = token && tHash ? await receiptForToken(trx, e.id, token, tHash) : null;
+      if (earlier) return { receipt: earlier };
       await assertCodeUsable(trx, e.id, hash); // throws the precise reason
       throw new Error('code could not be spent'); // unreachable unless the row changed under us
     }
@@ -53,8 +71,22 @@ export async function castBallot(
       // 50-bit receipts can collide in a very large election; draw again instead of failing the cast.
       if (!(await insertReceipt(trx, e.id, rHash))) continue;
       await insertBallot(trx, { id: randomUuid(ctx.random), electionId: e.id, sealed });
+      if (token && tHash) {
+        await trx('cast_tokens').insert({
+          election_id: e.id,
+          token_hash: tHash,
+          sealed_receipt: sealReceiptForToken(token, e.id, receipt, ctx.random),
+        });
+      }
       return { receipt };
     }
     throw new Error('could not find a free receipt');
   });
+}
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+async function receiptForToken(db: Db, electionId: string, token: Buffer, tHash: Buffer): Promise<string | null> {
+  const row = await db('cast_tokens').where({ election_id: electionId, token_hash: tHash }).first('sealed_receipt');
+  return row ? openReceiptForToken(token, electionId, toBuffer(row.sealed_receipt)) : null;
 }

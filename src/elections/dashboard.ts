@@ -28,7 +28,8 @@ export async function loadDashboard(ctx: UseCaseContext, input: { electionId: st
       status: electionStatus(election, now),
       now,
       codes: await countCodes(trx, election.id).then((c) => ({ codesIssued: c.issued, codesRevoked: c.revoked })),
-      events: await listEvents(trx, election.id, { publicOnly: false }),
+      // The draw is stamped with the minute it becomes visible; until then it is not listed.
+      events: (await listEvents(trx, election.id, { publicOnly: false })).filter((ev) => ev.at <= now),
     };
   });
 }

@@ -18,7 +18,8 @@ export interface DraftInput {
   publishTurnout: boolean;
   /** null: shred the key and sealed ballots at publication (the default). */
   retentionDays: number | null;
-  expectedVoters: number;
+  /** null: the organiser gave no estimate (it only feeds the guidance). */
+  expectedVoters: number | null;
 }
 
 export const DRAFT_LIMITS = Object.freeze({
@@ -67,7 +68,8 @@ export const draftSchema = z
       .number()
       .int('Give a whole number of voters.')
       .min(1, 'Expect at least 1 voter.')
-      .max(L.votersMax, `We support up to ${L.votersMax.toLocaleString('en')} voters.`),
+      .max(L.votersMax, `We support up to ${L.votersMax.toLocaleString('en')} voters.`)
+      .nullable(),
   })
   .superRefine((d, issue) => {
     const seen = new Map<string, number>();

@@ -54,13 +54,15 @@ export interface ElectionSummary {
   closesAt: Date;
   timeZone: string;
   createdAt: Date;
+  tallyStartedAt: Date | null;
+  resultVisibleAt: Date | null;
 }
 
 export async function listOwnElections(db: Db, ownerId: string): Promise<ElectionSummary[]> {
   const rows = await db('elections')
     .where({ owner_id: ownerId })
     .orderBy([{ column: 'created_at', order: 'desc' }, { column: 'id' }])
-    .select('id', 'title', 'state', 'opens_at', 'closes_at', 'time_zone', 'created_at');
+    .select('id', 'title', 'state', 'opens_at', 'closes_at', 'time_zone', 'created_at', 'tally_started_at', 'result_visible_at');
   return rows.map((r) => ({
     id: r.id,
     title: r.title,
@@ -69,5 +71,7 @@ export async function listOwnElections(db: Db, ownerId: string): Promise<Electio
     closesAt: new Date(r.closes_at),
     timeZone: r.time_zone,
     createdAt: new Date(r.created_at),
+    tallyStartedAt: r.tally_started_at ? new Date(r.tally_started_at) : null,
+    resultVisibleAt: r.result_visible_at ? new Date(r.result_visible_at) : null,
   }));
 }

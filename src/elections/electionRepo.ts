@@ -36,6 +36,15 @@ export interface Election {
   publishedAt: Date | null;
   shredAfter: Date | null;
   shreddedAt: Date | null;
+  /** A queued tally (closeAndTally.ts): when it was claimed; abandoned once older than TALLY_STALE_MS. */
+  tallyStartedAt: Date | null;
+  tallyClaim: string | null;
+  /** Error code of the last queued tally that stopped without a draw. */
+  tallyFailure: string | null;
+  /** The whole minute from which the drawn result may be shown (to the organiser first). */
+  resultVisibleAt: Date | null;
+  /** The preview ends here: the housekeeping job publishes the result. */
+  publishDueAt: Date | null;
   createdAt: Date;
   /** The member group whose privacy ledger this election's draw is charged to. */
   groupId: string | null;
@@ -71,6 +80,11 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     publishedAt: date(r.published_at),
     shredAfter: date(r.shred_after),
     shreddedAt: date(r.shredded_at),
+    tallyStartedAt: date(r.tally_started_at),
+    tallyClaim: (r.tally_claim as string | null) ?? null,
+    tallyFailure: (r.tally_failure as string | null) ?? null,
+    resultVisibleAt: date(r.result_visible_at),
+    publishDueAt: date(r.publish_due_at),
     createdAt: new Date(r.created_at as string),
     groupId: (r.group_id as string | null | undefined) ?? null,
     options,

@@ -77,6 +77,24 @@ export class AlreadyTallied extends VeiltallyError {
   }
 }
 
+/** A tally is already queued or running for this election. */
+export class TallyInProgress extends VeiltallyError {
+  readonly code = 'TallyInProgress';
+  override readonly status = 409;
+  constructor() {
+    super('The result is already being drawn. It appears on the tally page within a few minutes.');
+  }
+}
+
+/** Shredding before publication would let a draw vanish and be made again in a new election. */
+export class ResultNotPublished extends VeiltallyError {
+  readonly code = 'ResultNotPublished';
+  override readonly status = 409;
+  constructor() {
+    super('This result has not been published yet. Every draw is published before its sealed ballots can be shredded.');
+  }
+}
+
 export class NotTallied extends VeiltallyError {
   readonly code = 'NotTallied';
   override readonly status = 409;

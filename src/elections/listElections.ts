@@ -10,5 +10,5 @@ export async function listElections(
 ): Promise<(ElectionSummary & { status: ElectionStatus })[]> {
   const now = ctx.now();
   const rows = await listOwnElections(ctx.knex, input.organiserId);
-  return rows.map((r) => ({ ...r, status: electionStatus({ state: r.state as Election['state'], opensAt: r.opensAt, closesAt: r.closesAt }, now) }));
+  return rows.map((r) => ({ ...r, status: electionStatus({ ...r, state: r.state as Election['state'] }, now) }));
 }

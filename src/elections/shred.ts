@@ -4,7 +4,7 @@ import { recordEvent } from './audit.ts';
 import { deleteBallots } from './ballotRepo.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
-import { ElectionStateConflict } from './errors.ts';
+import { ElectionStateConflict, ResultNotPublished } from './errors.ts';
 
 /** Retention choice: null = shred at publication (default); otherwise keep sealed 1–90 days, then shred. */
 export const RETENTION_DAYS_MAX = 90;
@@ -35,7 +35,9 @@ export async function shredInTransaction(
 
 /**
  * Shreds one election now: the organiser choosing to (organiserId) or the retention job
- * (null). Only after the draw, so a tally can never be lost. Already shredded: no change.
+ * (null). Only after publication: a draw that was never published could otherwise vanish and be
+ * made again in a new election with the same options (a re-roll costing every member ε more).
+ * Already shredded: no change.
  */
 export async function shredElection(
   ctx: UseCaseContext,
@@ -44,8 +46,9 @@ export async function shredElection(
   await ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
     if (e.shreddedAt) return;
-    if (e.state !== 'tallied' && e.state !== 'published') {
-      throw new ElectionStateConflict('Sealed ballots can only be shredded after the tally.');
+    if (e.state === 'tallied') throw new ResultNotPublished();
+    if (e.state !== 'published') {
+      throw new ElectionStateConflict('Sealed ballots can only be shredded after the result is drawn and published.');
     }
     await shredInTransaction(trx, e.id, input.organiserId, ctx.now());
   });

@@ -5,18 +5,39 @@ import type { Election } from './electionRepo.ts';
  * an 'open' election is "scheduled" before its opening time and "voting ended" after its closing time,
  * because casting follows acceptsBallotsAt, not a background job.
  */
-export type ElectionStatus = 'draft' | 'scheduled' | 'open' | 'voting-ended' | 'tallied' | 'published';
+export type ElectionStatus = 'draft' | 'scheduled' | 'open' | 'voting-ended' | 'drawing' | 'tallied' | 'published';
+
+/**
+ * A queued tally whose process died leaves its claim behind; after this long the claim is
+ * abandoned and the election is simply closed again (nothing was drawn: the draw commits with
+ * the result). Far above any real tally (a million ballots count in under a minute on two cores).
+ */
+export const TALLY_STALE_MS = 15 * 60_000;
+
+type StatusFields = Pick<Election, 'state' | 'opensAt' | 'closesAt'> & Partial<Pick<Election, 'tallyStartedAt' | 'resultVisibleAt'>>;
+
+/** A tally claimed and not yet abandoned. */
+export function tallyInProgress(e: Partial<Pick<Election, 'state' | 'tallyStartedAt'>>, now: Date): boolean {
+  return (e.state === 'closed' || e.state === 'open') && e.tallyStartedAt != null && now.getTime() - e.tallyStartedAt.getTime() < TALLY_STALE_MS;
+}
+
+/** Drawn, but shown to nobody before its whole minute, so the count's duration shows nowhere. */
+export function resultHidden(e: Partial<Pick<Election, 'state' | 'resultVisibleAt'>>, now: Date): boolean {
+  return e.state === 'tallied' && e.resultVisibleAt != null && now < e.resultVisibleAt;
+}
 
 export const STATUS_LABELS: Readonly<Record<ElectionStatus, string>> = Object.freeze({
   draft: 'Draft',
   scheduled: 'Scheduled',
   open: 'Open for voting',
   'voting-ended': 'Voting ended',
+  drawing: 'Drawing the result',
   tallied: 'Tallied, not yet published',
   published: 'Published',
 });
 
-export function electionStatus(e: Pick<Election, 'state' | 'opensAt' | 'closesAt'>, now: Date): ElectionStatus {
+export function electionStatus(e: StatusFields, now: Date): ElectionStatus {
+  if (tallyInProgress(e, now) || resultHidden(e, now)) return 'drawing';
   switch (e.state) {
     case 'draft':
       return 'draft';
@@ -38,12 +59,12 @@ export function isEditable(e: Pick<Election, 'state'>): boolean {
 }
 
 /** The tally may start once no more ballots can arrive. */
-export function canTally(e: Pick<Election, 'state' | 'opensAt' | 'closesAt'>, now: Date): boolean {
+export function canTally(e: StatusFields, now: Date): boolean {
   return electionStatus(e, now) === 'voting-ended';
 }
 
 /** "Close now" makes sense while ballots could still be accepted, now or later. */
-export function canCloseEarly(e: Pick<Election, 'state' | 'opensAt' | 'closesAt'>, now: Date): boolean {
+export function canCloseEarly(e: StatusFields, now: Date): boolean {
   const s = electionStatus(e, now);
   return s === 'open' || s === 'scheduled';
 }

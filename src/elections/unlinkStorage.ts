@@ -14,6 +14,8 @@ import type { Db } from '../db/knex.ts';
  * voting keep them longer. DEVELOPERS.md ("What the database can reveal") says so.
  */
 export async function rewriteVotingRows(trx: Db, electionId: string): Promise<void> {
+  // Cast tokens only served retries during voting; kept, they would share each cast's xmin.
+  await trx('cast_tokens').where({ election_id: electionId }).delete();
   await trx.raw(
     `WITH moved AS (DELETE FROM ballots WHERE election_id = ? RETURNING election_id, sealed)
      INSERT INTO ballots (id, election_id, sealed)

@@ -74,7 +74,7 @@ function boundsSentenceOf(s: PrivacyStatement): string {
 /** The caution every result and planning screen carries (see RULES: cautions). */
 export const RANDOM_WINNER_CAUTION =
   'The winner is drawn at random, weighted toward the most approved options; it is not always the option with the most approvals. ' +
-  'With few voters or a small ε, the result is close to a lottery. ' +
+  'With few voters or a small ε, chance plays a larger part, so a less approved option may well be drawn. ' +
   'A randomly drawn winner is a rule your organisation must adopt before voting, in line with its bylaws and local election law. ' +
   'This method is not for public or government elections.';
 

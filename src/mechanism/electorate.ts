@@ -1,12 +1,41 @@
+import { decimalWithPrecision, type Dec } from './decimal.ts';
 import type { ExponentialDraw } from './draw.ts';
 import { InvalidMechanismConfig } from './errors.ts';
 
-export type ElectorateLevel = 'clear' | 'noisy' | 'lottery';
+/**
+ * - uncertain: even a favourite every voter approves, with no approval for anything else (a lead of n),
+ *   would be drawn with less than 95% certainty;
+ * - noisy: 95% certainty needs a lead larger than one voter in ten;
+ * - clear: a lead of one voter in ten is enough for 95% certainty.
+ */
+export type ElectorateLevel = 'clear' | 'noisy' | 'uncertain';
+
+/** The chance that an option leading every other option by `lead` approvals is drawn. */
+export interface LeadChance {
+  lead: number;
+  /**
+   * For the first seat: 1/(1 + (d−1)·e^(−a·lead)). Exact when every other option trails by exactly
+   * `lead` (then all d−1 others carry weight e^(−a·lead) against the leader's 1), and a lower bound when
+   * any of them trails by more, since each weight can only shrink.
+   */
+  firstSeat: number;
+  /**
+   * For any of the k seats: 1 − Π_{r=1..k} (d−r)·e^(−a·lead) / (1 + (d−r)·e^(−a·lead)). Round r draws from
+   * the leader and d−r others; if the leader is still in play it is drawn with at least 1/(1 + (d−r)·e^(−a·lead)),
+   * whatever happened before, because every remaining option still trails it by ≥ lead. Equal to the first
+   * seat when k = 1.
+   */
+  anySeat: number;
+}
 
 export interface ElectorateAssessment {
   level: ElectorateLevel;
   margin95: number;
-  message: string;
+  expectedVoters: number;
+  /** A favourite every voter approves while nobody approves any other option: a lead of n. */
+  unanimous: LeadChance;
+  /** A lead of one voter in ten (at least one approval): the planning rule below. */
+  typical: LeadChance;
 }
 
 /**
@@ -17,46 +46,53 @@ export interface ElectorateAssessment {
  */
 export const PLAUSIBLE_LEAD_FRACTION = 0.1;
 
+/** Above this ε for how a member voted, we tell organisers the protection is weak (our own line, stated on the form). */
+export const WEAK_PROTECTION_EPSILON = 3;
+
+// 60 significant digits, as in bounds.ts; results are rounded down to 4 decimals so a shown chance never overstates.
+const Decimal = decimalWithPrecision(60);
+
+function scaleOf(draw: ExponentialDraw): Dec {
+  return new Decimal(draw.perRoundScale.num.toString()).div(draw.perRoundScale.den.toString());
+}
+
+const floor4 = (x: Dec): number => x.toDecimalPlaces(4, Decimal.ROUND_FLOOR).toNumber();
+
 /**
- * Warns the organiser before opening, from data-free bounds only:
- * - lottery: even if every voter approved only the leader (a lead of n), the
- *   leader would still not be announced with 95% certainty;
- * - noisy: 95% certainty needs a lead larger than one voter in ten;
- * - clear: a lead of one voter in ten is enough for 95% certainty.
+ * The exponential mechanism's probability (Dwork & Roth 2014, Def. 3.4: P(i) ∝ exp(a·sᵢ)) that an option
+ * leading every other by `lead` approvals is drawn, for this draw's ε, options and seats. Data-free: it
+ * depends on the settings and the lead only.
  */
+export function leadChance(draw: ExponentialDraw, lead: number): LeadChance {
+  if (!Number.isSafeInteger(lead) || lead < 0) throw new InvalidMechanismConfig('a lead must be a whole number of approvals, at least 0');
+  const w = Decimal.exp(scaleOf(draw).times(lead).neg());
+  const d = draw.options;
+  const first = new Decimal(1).div(new Decimal(d - 1).times(w).plus(1));
+  let missed = new Decimal(1);
+  for (let r = 1; r <= draw.seats; r++) {
+    const others = new Decimal(d - r).times(w);
+    missed = missed.times(others.div(others.plus(1)));
+  }
+  return { lead, firstSeat: floor4(first), anySeat: floor4(new Decimal(1).minus(missed)) };
+}
+
+/** Whether how a member voted is protected at an ε above WEAK_PROTECTION_EPSILON, and the factor e^ε it allows. */
+export function protectionStrength(draw: ExponentialDraw): { weak: boolean; howVotedEpsilon: string; factor: number } {
+  const eps = new Decimal(draw.privacy.howVoted);
+  return {
+    weak: eps.gt(WEAK_PROTECTION_EPSILON),
+    howVotedEpsilon: draw.privacy.howVoted,
+    factor: Decimal.exp(eps).toDecimalPlaces(eps.gt(3) ? 0 : 2, Decimal.ROUND_HALF_UP).toNumber(),
+  };
+}
+
+/** Numbers for the organiser before opening, from data-free bounds only (they never read a ballot). */
 export function assessElectorate(draw: ExponentialDraw, expectedVoters: number): ElectorateAssessment {
   if (!Number.isSafeInteger(expectedVoters) || expectedVoters < 1) {
     throw new InvalidMechanismConfig('the expected number of voters must be a whole number of at least 1');
   }
   const margin95 = draw.bounds(0.05).marginFor['0.95'];
-  const lead = Math.floor(expectedVoters * PLAUSIBLE_LEAD_FRACTION);
-  const need =
-    draw.seats === 1
-      ? `For a 95% chance that the most approved option is announced as the winner, it must lead every other option by at least ${margin95} approvals.`
-      : `For a 95% chance that each seat goes to the most approved option still in the running, that option must lead every other remaining option by at least ${margin95} approvals.`;
-  if (margin95 > expectedVoters) {
-    return {
-      level: 'lottery',
-      margin95,
-      message:
-        `${need} With about ${expectedVoters} voters that cannot happen even if everyone agrees, so the result will be close to a lottery. ` +
-        'Consider a larger epsilon, fewer seats or fewer options.',
-    };
-  }
-  if (margin95 > lead) {
-    return {
-      level: 'noisy',
-      margin95,
-      message:
-        `${need} That is more than one in ten of about ${expectedVoters} voters, so in a close vote chance may decide. ` +
-        'The winner is drawn at random, weighted toward the most approved options.',
-    };
-  }
-  return {
-    level: 'clear',
-    margin95,
-    message:
-      `${need} That is no more than one in ten of about ${expectedVoters} voters. ` +
-      'The winner is still drawn at random, weighted toward the most approved options.',
-  };
+  const lead = Math.max(1, Math.round(expectedVoters * PLAUSIBLE_LEAD_FRACTION));
+  const level: ElectorateLevel = margin95 > expectedVoters ? 'uncertain' : margin95 > lead ? 'noisy' : 'clear';
+  return { level, margin95, expectedVoters, unanimous: leadChance(draw, expectedVoters), typical: leadChance(draw, lead) };
 }

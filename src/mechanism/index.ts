@@ -24,7 +24,16 @@ export {
   makeExponentialDraw,
 } from './draw.ts';
 export { type Bounds } from './bounds.ts';
-export { type ElectorateAssessment, type ElectorateLevel, PLAUSIBLE_LEAD_FRACTION, assessElectorate } from './electorate.ts';
+export {
+  type ElectorateAssessment,
+  type ElectorateLevel,
+  type LeadChance,
+  PLAUSIBLE_LEAD_FRACTION,
+  WEAK_PROTECTION_EPSILON,
+  assessElectorate,
+  leadChance,
+  protectionStrength,
+} from './electorate.ts';
 export {
   type PrivacyStatement,
   type Protection,

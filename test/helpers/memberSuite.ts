@@ -7,6 +7,7 @@ import { testApp } from './app.ts';
 import { testClock, testContext, type TestClock } from './context.ts';
 import { freshDatabase, type TestDatabase } from './databases.ts';
 import { findElection } from '../../src/elections/electionRepo.ts';
+import { publishResult } from '../../src/elections/publishResult.ts';
 import type { PrivacyStatement } from '../../src/mechanism/index.ts';
 import {
   castAll,
@@ -81,7 +82,10 @@ export function useMemberSuite(engine: Engine): MemberSuite {
       const f = await openElectionFixture(state.ctx, state.organiserId, { codes: Math.max(ballots.length, 1), ...o });
       const receipts = await castAll(state.ctx, f, ballots);
       clock.advance(8 * DAY);
-      const winners = await tallyFixture(state.ctx, f, publish);
+      const winners = await tallyFixture(state.ctx, f, false);
+      // The draw is shown from the whole minute at least a minute after queueing.
+      clock.advance(2 * 60_000);
+      if (publish) await publishResult(state.ctx, { electionId: f.id, organiserId: f.organiserId });
       const e = await findElection(state.ctx.knex, f.id);
       return { f, receipts, winners, statement: (e!.result as { statement: PrivacyStatement }).statement };
     },

@@ -49,7 +49,7 @@ function howDrawn(e: Election): string[] {
 // The rule every caution carries (see the project's wording rules); not statement text, which comes from the mechanism.
 export const DRAW_CAUTION =
   'The winner is drawn at random, weighted toward the most approved options, so it is not always the option with the most approvals. ' +
-  'With few voters or a small ε the draw is close to a lottery. ' +
+  'With few voters or a small ε, chance plays a larger part, so a less approved option may well be drawn. ' +
   'Your organisation adopted this way of choosing before the vote, in line with its bylaws and local election law.';
 
 export function votingElectionView(e: Election, now: Date): VotingElectionView {

@@ -2,7 +2,8 @@ import type { Dashboard } from '../../elections/dashboard.ts';
 import type { AuditRow } from '../../elections/audit.ts';
 import { STATUS_LABELS, canCloseEarly, canTally, isEditable } from '../../elections/status.ts';
 import { describeDuration, describeInstant, shortInstant } from '../../elections/timeText.ts';
-import { electorateWarning, noticeClass, type ElectorateWarning } from './electorate.ts';
+import { drawWarning, electorateWarning, noticeClass, protectionWarning, type DrawWarning, type ElectorateWarning, type ProtectionWarning } from './electorate.ts';
+import { makeExponentialDraw } from '../../mechanism/index.ts';
 
 const plural = (n: number, word: string) => `${n.toLocaleString('en')} ${word}${n === 1 ? '' : 's'}`;
 
@@ -18,8 +19,12 @@ function timeNote(d: Dashboard): string {
       return `Voting closes in ${describeDuration(e.closesAt.getTime() - now)}, on ${describeInstant(e.closesAt, e.timeZone)}.`;
     case 'voting-ended':
       return `Voting ended${e.closedAt && e.closedAt < e.closesAt ? ' early' : ''}. Unlock the tally with your passphrase to draw the result.`;
+    case 'drawing':
+      return 'The result is being drawn. It appears on the tally page at the next whole minute or soon after.';
     case 'tallied':
-      return 'The result has been drawn. Check the preview, then publish it.';
+      return e.publishDueAt
+        ? `The result has been drawn. Check the preview, then publish it. It will be published automatically on ${describeInstant(e.publishDueAt, e.timeZone)}: every draw is made public.`
+        : 'The result has been drawn. Check the preview, then publish it.';
     case 'published':
       return `The result was published${e.publishedAt ? ` on ${describeInstant(e.publishedAt, e.timeZone)}` : ''}.`;
   }
@@ -75,10 +80,21 @@ export interface DashboardView {
   settings: { term: string; value: string }[];
   options: { label: string; description: string }[];
   electorate: (ElectorateWarning & { className: string }) | null;
-  can: { edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean };
+  /** Before the draw (close and tally pages): the chances for the turnout the organiser may see, else the expected electorate. */
+  beforeDraw: DrawWarning | null;
+  protection: ProtectionWarning | null;
+  can: { edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean; drawing: boolean };
   events: { iso: string; when: string; who: string; what: string }[];
   resultsPath: string;
   timeZone: string;
+}
+
+function protectionOf(e: Dashboard['election']): ProtectionWarning | null {
+  try {
+    return protectionWarning(makeExponentialDraw({ epsilon: e.epsilon, options: e.options.length, seats: e.seats, neighbour: e.neighbour }));
+  } catch {
+    return null;
+  }
 }
 
 export function dashboardView(d: Dashboard): DashboardView {
@@ -113,14 +129,18 @@ export function dashboardView(d: Dashboard): DashboardView {
     ],
     options: e.options.map((o) => ({ label: o.label, description: o.description })),
     electorate: warning ? { ...warning, className: noticeClass(warning.level) } : null,
+    // The organiser is shown no count before the draw (see Dashboard.codes), so the expected electorate stands in, and the page says so.
+    beforeDraw: drawWarning(e, null),
+    protection: protectionOf(e),
     can: {
       edit: isEditable(e),
       issueCodes: e.state === 'draft' || (e.state === 'open' && d.now < e.closesAt),
       open: e.state === 'draft',
       close: canCloseEarly(e, d.now),
       tally: canTally(e, d.now),
-      publish: e.state === 'tallied',
-      seeResult: e.state === 'tallied' || e.state === 'published',
+      publish: d.status === 'tallied',
+      seeResult: d.status === 'tallied' || d.status === 'published',
+      drawing: d.status === 'drawing',
     },
     events: [...d.events].reverse().map((ev) => ({
       iso: ev.at.toISOString(),

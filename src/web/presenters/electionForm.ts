@@ -74,6 +74,8 @@ export interface ElectionFormView {
   guidance: GuidanceView;
   ambiguous: string[];
   canAddRows: boolean;
+  /** A passphrase had been typed but the form came back: it is never echoed, so say it must be typed again. */
+  passphraseCleared: boolean;
 }
 
 export function electionFormView(input: {
@@ -83,6 +85,7 @@ export function electionFormView(input: {
   ambiguous?: string[];
   addRows?: number;
   maxRows: number;
+  passphraseCleared?: boolean;
 }): ElectionFormView {
   const errors = input.errors ?? {};
   const values = { ...input.values, options: [...input.values.options] };
@@ -104,5 +107,6 @@ export function electionFormView(input: {
     guidance: guidanceFor({ epsilon: values.epsilon, options: filled, seats, neighbour: values.neighbour === 'add-remove' ? 'add-remove' : 'replace-one', expectedVoters: voters }),
     ambiguous: input.ambiguous ?? [],
     canAddRows: values.options.length < input.maxRows,
+    passphraseCleared: input.electionId === null && (input.passphraseCleared ?? false),
   };
 }

@@ -1,4 +1,5 @@
-import { assessElectorate, makeExponentialDraw, type ElectorateLevel } from '../../mechanism/index.ts';
+import { makeExponentialDraw } from '../../mechanism/index.ts';
+import { electorateFacts, noticeClass, plural, protectionWarning, type ElectorateWarning, type ProtectionWarning } from './electorate.ts';
 import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
 
 export interface GuidanceInput {
@@ -25,11 +26,12 @@ export type GuidanceView =
       whetherVotedEpsilon: string;
       chart: MarginChart;
       rows: { margin: number; percent: string; marked: boolean }[];
-      electorate: { level: ElectorateLevel; message: string; expectedVoters: number } | null;
+      electorate: (ElectorateWarning & { className: string }) | null;
+      protection: ProtectionWarning | null;
     };
 
-const optionWords = (n: number) => `${n} option${n === 1 ? '' : 's'}`;
-const seatWords = (n: number) => `${n} seat${n === 1 ? '' : 's'}`;
+const optionWords = (n: number) => plural(n, 'option');
+const seatWords = (n: number) => plural(n, 'seat');
 
 /**
  * What the organiser sees while choosing ε: data-free bounds only (they depend on ε, options
@@ -55,11 +57,11 @@ export function guidanceFor(input: GuidanceInput): GuidanceView {
     title: 'Lead needed against the chance that the most approved option is drawn',
     desc:
       `For ${setting}: with no lead the chance is at least ${pct(first?.minProbability ?? 0)}; ` +
-      `with a lead of ${m95} approvals it is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
+      `with a lead of ${plural(m95, 'approval')} it is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
   });
   const electorate =
     input.expectedVoters !== null && Number.isSafeInteger(input.expectedVoters) && input.expectedVoters >= 1
-      ? { ...pick(assessElectorate(draw, input.expectedVoters)), expectedVoters: input.expectedVoters }
+      ? electorateFacts(draw, input.expectedVoters)
       : null;
   return {
     ready: true,
@@ -75,9 +77,9 @@ export function guidanceFor(input: GuidanceInput): GuidanceView {
     whetherVotedEpsilon: draw.privacy.whetherVoted,
     chart,
     rows: marginRows(b.marginTable, [b.marginFor['0.9'], m95, b.marginFor['0.99']]),
-    electorate,
+    electorate: electorate ? { ...electorate, className: noticeClass(electorate.level) } : null,
+    protection: protectionWarning(draw),
   };
 }
 
-const pick = (a: { level: ElectorateLevel; message: string }) => ({ level: a.level, message: a.message });
 const pct = (p: number) => `${Math.floor(p * 1000) / 10}%`;

@@ -29,7 +29,12 @@ function formatter(timeZone: string): { format: Intl.DateTimeFormat; zone: strin
   return f;
 }
 
+/**
+ * Public times go to the minute, never finer: seconds of a step such as the draw would hint at
+ * how long it took, and its duration depends on turnout.
+ */
 export function shownTime(at: Date, timeZone: string): ShownTime {
   const f = formatter(timeZone);
-  return { iso: at.toISOString(), text: `${f.format.format(at)} (${f.zone})` };
+  const minute = new Date(Math.floor(at.getTime() / 60_000) * 60_000);
+  return { iso: minute.toISOString(), text: `${f.format.format(minute)} (${f.zone})` };
 }

@@ -1,8 +1,10 @@
 import { z } from 'zod';
 import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
-import { describeStatement, type PrivacyStatement } from '../../mechanism/index.ts';
+import { resultHidden } from '../../elections/status.ts';
+import { describeStatement, makeExponentialDraw, type PrivacyStatement } from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
+import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
 
 /**
@@ -40,7 +42,7 @@ const TIMELINE: Record<string, string> = {
   created: 'Election set up',
   opened: 'Voting opened',
   closed: 'Voting closed',
-  tallied: 'Sealed ballots counted and the winners drawn',
+  tallied: 'Result drawn: sealed ballots counted and the winners drawn',
   published: 'Result published',
   shredded: 'Sealed ballots and the tally key destroyed',
 };
@@ -50,8 +52,30 @@ export interface TimelineEntry {
   at: ShownTime;
 }
 
+/** One option as the result page lists it: ballot order, and whether (and in which draw) it was drawn. */
+export interface ResultOption {
+  label: string;
+  /** "Drawn 1st"…, "Drawn" for a single seat, or null when not drawn. */
+  drawn: string | null;
+}
+
+/** The data-free chart of the lead needed against the chance the leader is drawn, for this election's settings. */
+export interface ResultChart {
+  chart: MarginChart;
+  rows: { margin: number; percent: string; marked: boolean }[];
+  caption: string;
+}
+
 export interface PublishedResultView {
   headline: string;
+  /** One short paragraph, in plain words, on what the announcement means. */
+  meaning: string;
+  /** For several seats: that the order is the draw order, not a ranking. */
+  orderNote: string | null;
+  winnersHeading: string;
+  winnerEntries: { order: string; label: string }[];
+  options: ResultOption[];
+  chart: ResultChart | null;
   paragraphs: string[];
   boundsSentence: string;
   caution: string;
@@ -80,6 +104,8 @@ export interface ResultPageView {
   closedAt: ShownTime | null;
   publishedAt: ShownTime | null;
   tallied: boolean;
+  /** When a drawn result becomes public at the latest (every draw is published). */
+  publishDueAt: ShownTime | null;
   /** Before publication there is no statement yet, so the page carries the general caution. */
   caution: string;
   timeline: TimelineEntry[];
@@ -87,21 +113,84 @@ export interface ResultPageView {
   result: PublishedResultView | null;
 }
 
-export function timelineView(events: readonly AuditRow[], timeZone: string): TimelineEntry[] {
-  // Only the action and time are shown; details are for the organiser's record.
-  return events.filter((ev) => ev.action in TIMELINE).map((ev) => ({ label: TIMELINE[ev.action]!, at: shownTime(ev.at, timeZone) }));
+export function timelineView(events: readonly AuditRow[], timeZone: string, now?: Date): TimelineEntry[] {
+  // Only the action and time are shown; details are for the organiser's record. The draw is
+  // stamped with the whole minute it becomes visible, so it is listed from that minute on.
+  return events.filter((ev) => ev.action in TIMELINE && (now === undefined || ev.at <= now)).map((ev) => ({ label: TIMELINE[ev.action]!, at: shownTime(ev.at, timeZone) }));
+}
+
+const ORDINALS = ['1st', '2nd', '3rd'];
+export const ordinal = (n: number): string => (n <= 3 ? ORDINALS[n - 1]! : `${n}th`);
+
+function meaningOf(winners: string[], seats: number, noBallots: boolean): string {
+  if (noBallots) return 'No ballots were cast, so nothing was counted and no winner was drawn. The page shows that nobody voted, and nothing more.';
+  const nobody = 'Nobody, the organiser included, was shown how many approvals any option received.';
+  if (seats === 1) {
+    return (
+      `${winners[0]} was drawn by a lottery weighted toward the options more members approved. ` +
+      `That makes it likely, though not certain, that ${winners[0]} was among the most approved. ${nobody}`
+    );
+  }
+  return (
+    `These ${seats} options were drawn one at a time, each by a lottery weighted toward the options more members approved, ` +
+    `among those not drawn yet. That makes it likely, though not certain, that they were among the most approved; ` +
+    `the order they were drawn in says nothing about which had more approvals. ${nobody}`
+  );
+}
+
+/**
+ * The chart on the result page, from the mechanism's data-free bounds for this election's ε, options,
+ * seats and neighbour relation (Dwork & Roth 2014, §3.4): it depends on no count, so showing it costs no privacy.
+ */
+function resultChart(s: { epsilon: string; optionLabels: string[]; seats: number; neighbour: 'replace-one' | 'add-remove' }): ResultChart | null {
+  let draw;
+  try {
+    draw = makeExponentialDraw({ epsilon: s.epsilon, options: s.optionLabels.length, seats: s.seats, neighbour: s.neighbour });
+  } catch {
+    return null; // a stored statement always passed these checks; without them there is nothing honest to draw
+  }
+  const b = draw.bounds(0.05);
+  const m95 = b.marginFor['0.95'];
+  const who = s.seats === 1 ? 'the most approved option' : 'the most approved option still in play';
+  const chart = marginChart(b.marginTable, m95, {
+    title: `Lead needed against the chance that ${who} is drawn${s.seats === 1 ? '' : ', for each seat'}`,
+    desc:
+      `For ε = ${draw.epsilon.text}, ${s.optionLabels.length} options and ${s.seats} ${s.seats === 1 ? 'seat' : 'seats'}: ` +
+      `with a lead of ${m95} approvals over every other option the chance is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
+  });
+  return {
+    chart,
+    rows: marginRows(b.marginTable, [b.marginFor['0.9'], m95, b.marginFor['0.99']]),
+    caption: `Minimum chance that ${who} is drawn${s.seats === 1 ? '' : ' for a seat'}, by how far it leads every other option. The dashed lines mark 95%. These figures follow from the settings alone, not from any count.`,
+  };
 }
 
 export function publishedResultView(stored: unknown): PublishedResultView {
   const { statement } = storedResult.parse(stored);
   const text = describeStatement(statement as unknown as PrivacyStatement);
   const neighbour = NEIGHBOURS[statement.neighbour];
+  const noBallots = statement.outcome === 'no-ballots';
+  const seats = statement.seats;
+  const drawnAs = (label: string): string | null => {
+    const at = statement.winners.indexOf(label);
+    if (at < 0) return null;
+    return seats === 1 ? 'Drawn' : `Drawn ${ordinal(at + 1)}`;
+  };
   return {
     headline: text.headline,
+    meaning: meaningOf(statement.winners, seats, noBallots),
+    orderNote:
+      seats > 1 && !noBallots
+        ? 'Listed in the order they were drawn. This order is not a ranking: the option drawn first did not necessarily have more approvals than the others.'
+        : null,
+    winnersHeading: seats === 1 ? 'The winner' : `The ${seats} options drawn, in draw order`,
+    winnerEntries: statement.winners.map((label, i) => ({ order: seats === 1 ? 'Drawn' : `Drawn ${ordinal(i + 1)}`, label })),
+    options: statement.optionLabels.map((label) => ({ label, drawn: drawnAs(label) })),
+    chart: noBallots ? null : resultChart(statement),
     paragraphs: text.paragraphs,
     boundsSentence: text.boundsSentence,
     caution: text.caution,
-    noBallots: statement.outcome === 'no-ballots',
+    noBallots,
     winners: statement.winners,
     turnout: statement.turnout,
     parameters: {
@@ -129,9 +218,10 @@ export function resultPageView(e: Election, events: readonly AuditRow[], now: Da
     closesAt: shownTime(e.closesAt, e.timeZone),
     closedAt: closedAt ? shownTime(closedAt, e.timeZone) : null,
     publishedAt: published && e.publishedAt ? shownTime(e.publishedAt, e.timeZone) : null,
-    tallied: e.state === 'tallied',
+    tallied: e.state === 'tallied' && !resultHidden(e, now),
+    publishDueAt: e.state === 'tallied' && !resultHidden(e, now) && e.publishDueAt ? shownTime(e.publishDueAt, e.timeZone) : null,
     caution: DRAW_CAUTION,
-    timeline: timelineView(events, e.timeZone),
+    timeline: timelineView(events, e.timeZone, now),
     result: published ? publishedResultView(e.result) : null,
   };
 }

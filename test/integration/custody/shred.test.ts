@@ -4,7 +4,7 @@ import { toBuffer, toCount } from '../../../src/db/knex.ts';
 import { castBallot } from '../../../src/elections/castBallot.ts';
 import { checkReceipt } from '../../../src/elections/checkReceipt.ts';
 import { closeAndTally } from '../../../src/elections/closeAndTally.ts';
-import { AlreadyPublished, AlreadyTallied, ElectionStateConflict, NotTallied } from '../../../src/elections/errors.ts';
+import { AlreadyPublished, AlreadyTallied, ElectionStateConflict, NotTallied, ResultNotPublished } from '../../../src/elections/errors.ts';
 import { issueCodes } from '../../../src/elections/issueCodes.ts';
 import { publishResult } from '../../../src/elections/publishResult.ts';
 import { shredDue, shredElection } from '../../../src/elections/shred.ts';
@@ -91,7 +91,7 @@ describe.each(engines)('shredding [%s]', (engine) => {
     expect(shredEvents[0].organiser_id).toBeNull(); // the job, not a person
   });
 
-  it('lets the organiser shred early after the tally, never before it', async () => {
+  it('lets the organiser shred early after publication, never before it', async () => {
     const open = await scene(db);
     await expect(shredElection(open.ctx, { electionId: open.electionId, organiserId: open.organiserId })).rejects.toBeInstanceOf(
       ElectionStateConflict,
@@ -100,6 +100,9 @@ describe.each(engines)('shredding [%s]', (engine) => {
       NotTallied,
     );
     const s = await tallied({ retentionDays: 30 });
+    // A drawn result that was never published cannot be shredded (every draw is published).
+    await expect(shredElection(s.ctx, { electionId: s.electionId, organiserId: s.organiserId })).rejects.toBeInstanceOf(ResultNotPublished);
+    await publishResult(s.ctx, { electionId: s.electionId, organiserId: s.organiserId });
     await shredElection(s.ctx, { electionId: s.electionId, organiserId: s.organiserId });
     await shredElection(s.ctx, { electionId: s.electionId, organiserId: s.organiserId }); // already done: no change
     expect((await electionRow(db, s.electionId)).wrapped_key).toBeNull();

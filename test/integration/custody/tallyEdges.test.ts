@@ -35,7 +35,8 @@ describe.each(engines)('tally edge cases [%s]', (engine) => {
     expect(err).toBeInstanceOf(BallotUnreadable);
     expect([(err as BallotUnreadable).unreadable, (err as BallotUnreadable).examined]).toEqual([1, 2]);
     const after = await electionRow(db, other.electionId);
-    expect([after.state, after.result, after.tallied_at]).toEqual(['open', null, null]); // rolled back, nothing drawn
+    // Voting was closed when the tally was queued (its time had passed); the draw rolled back, nothing drawn.
+    expect([after.state, after.result, after.tallied_at, after.tally_failure, after.tally_claim]).toEqual(['closed', null, null, 'BallotUnreadable', null]);
   });
 
   it('with no ballots draws nothing, and publishes turnout 0 only when asked', async () => {

@@ -6,6 +6,9 @@ import { testApp } from '../../helpers/app.ts';
 import { testClock } from '../../helpers/context.ts';
 import type { UseCaseContext } from '../../../src/elections/context.ts';
 import { createFirstOrganiser } from '../../../src/accounts/firstRun.ts';
+import { DEMO_ORGANISER_EMAIL } from '../../../src/accounts/demoOrganiser.ts';
+import { SignInFailed } from '../../../src/accounts/errors.ts';
+import { signIn } from '../../../src/accounts/signIn.ts';
 import { csrfFrom, organiseContext, PASSWORD } from './organiseSupport.ts';
 
 async function count(db: TestDatabase, table: string): Promise<number> {
@@ -22,6 +25,7 @@ describe.each(engines)('first-run "explore with sample elections" [%s]', (engine
     app = testApp(ctx);
   });
   afterAll(async () => db.dispose());
+  let demoPassword = '';
 
   it('offers the button on the first-run page, in a form with a CSRF token', async () => {
     const res = await request(app).get('/organise/first-run');
@@ -50,6 +54,13 @@ describe.each(engines)('first-run "explore with sample elections" [%s]', (engine
     expect(await count(db, 'elections')).toBe(2);
     expect(await count(db, 'organisers')).toBe(1);
 
+    // Each submission has its own signed-in session; exactly one of them is shown the password, once.
+    const pages = await Promise.all([a, b].map((r) => request(app).get('/organise/demo').set('Cookie', r.headers['set-cookie'] as unknown as string[])));
+    const shown = pages.map((p) => /Password: <code>([^<]+)<\/code>/.exec(p.text)?.[1]).filter(Boolean);
+    expect(shown).toHaveLength(1);
+    demoPassword = shown[0]!;
+    expect((await signIn(ctx, { email: DEMO_ORGANISER_EMAIL, password: demoPassword })).organiserId).toBeTruthy();
+
     const page = await agent.get('/organise/demo');
     expect(page.status).toBe(200);
     expect(page.headers['cache-control']).toContain('no-store');
@@ -58,7 +69,7 @@ describe.each(engines)('first-run "explore with sample elections" [%s]', (engine
     expect(page.text).toContain('Which three repairs first? (sample election)');
     expect(page.text).toMatch(/href="\/vote\/[0-9a-f-]{36}"/);
     expect(page.text).toMatch(/href="\/results\/[0-9a-f-]{36}"/);
-    expect(page.text.match(/<li><code>[0-9A-Z-]+<\/code><\/li>/g)).toHaveLength(5);
+    expect(page.text.match(/<li><code>[^<]+<\/code><\/li>/g)).toHaveLength(5);
 
     const list = await agent.get('/organise');
     expect(list.text).toContain('Demo organiser');
@@ -77,8 +88,19 @@ describe.each(engines)('first-run "explore with sample elections" [%s]', (engine
     expect((await request(app).get('/organise/sign-in')).status).toBe(200);
   });
 
-  it('is refused once the site has a real organiser', async () => {
+  it('is refused once the site has a real organiser, and the demo login then signs in no more', async () => {
+    const demoAgent = request.agent(app);
+    const first = await csrfFrom(demoAgent, '/organise/first-run');
+    expect((await demoAgent.post('/organise/first-run/demo').type('form').send({ _csrf: first })).status).toBe(303);
+    expect((await demoAgent.get('/organise')).status).toBe(200);
+
     await createFirstOrganiser(ctx, { email: 'secretary@tenants.example', password: PASSWORD });
+    // The demo's session is over, and its password no longer works.
+    const after = await demoAgent.get('/organise');
+    expect(after.status).toBe(303);
+    expect(after.headers.location).toMatch(/^\/organise\/sign-in/);
+    await expect(signIn(ctx, { email: DEMO_ORGANISER_EMAIL, password: demoPassword })).rejects.toBeInstanceOf(SignInFailed);
+
     const agent = request.agent(app);
     const token = await csrfFrom(agent, '/organise/sign-in');
     const res = await agent.post('/organise/first-run/demo').type('form').send({ _csrf: token });

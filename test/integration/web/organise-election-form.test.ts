@@ -93,7 +93,7 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     [{ epsilon: '0.001' }, 'epsilon', 'from 0.01 to 10'],
     [{ epsilon: '11' }, 'epsilon', 'from 0.01 to 10'],
     [{ epsilon: '1e0' }, 'epsilon', 'from 0.01 to 10'],
-    [{ expectedVoters: '' }, 'expectedVoters', 'number of voters'],
+    [{ expectedVoters: 'about forty' }, 'expectedVoters', 'number of voters'],
     [{ closesAt: '2026-06-10T08:00' }, 'closesAt', 'after the opening time'],
     [{ opensAt: 'next tuesday' }, 'opensAt', 'Enter a date and time'],
     // 01:30 on 29 March 2026 does not exist in London (tzdata `europe`: Rule EU 1981 max Mar lastSun 1:00u).
@@ -162,10 +162,46 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
       expect(res.text).toContain('Chance may decide a close vote');
     });
 
-    it('warns that a tiny electorate with a small ε is close to a lottery', async () => {
+    it('says in numbers how a tiny electorate with a small ε plays out, instead of calling it a lottery', async () => {
       const token = await csrfFrom(agent, '/organise/elections/new');
       const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', epsilon: '0.1', expectedVoters: '10' }), _csrf: token }));
-      expect(res.text).toContain('Close to a lottery');
+      expect(res.text).not.toMatch(/lottery\./i);
+      expect(res.text).toContain('Even a unanimous favourite may not be drawn');
+      // 3 options, ε = 0.1, replace-one: a = 0.05. Exponential mechanism (Dwork & Roth 2014, Def. 3.4) with scores
+      // (10, 0, 0): 1/(1 + 2e^(−0.5)) = 0.45186…, shown rounded down.
+      expect(res.text).toContain('If all 10 voters approve one option and nobody approves any other, that option is drawn 45.1% of the time.');
+      // A lead of 1 approval (one voter in ten): 1/(1 + 2e^(−0.05)) = 0.34453…
+      expect(res.text).toContain('If an option leads every other by 1 approval (about one voter in ten), it is drawn at least 34.4% of the time.');
+    });
+
+    it('warns in plain words when ε is above 3, and says which number', async () => {
+      const token = await csrfFrom(agent, '/organise/elections/new');
+      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', epsilon: '4' }), _csrf: token }));
+      expect(res.text).toContain('Weak privacy protection');
+      // e^4 = 54.598…, shown as about 55.
+      expect(res.text).toContain('up to about 55 times more or less likely');
+      const fine = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', epsilon: '3' }), _csrf: token }));
+      expect(fine.text).not.toContain('Weak privacy protection');
+    });
+
+    it('returns to the guidance section, and says the passphrase must be typed again', async () => {
+      const page = await agent.get('/organise/elections/new');
+      expect(page.text).toMatch(/formaction="\/organise\/elections\/new\/guidance#guidance"/);
+      expect(page.text).toContain('id="guidance"');
+      expect(page.text).not.toContain('id="passphrase-again-note"');
+      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance' }), _csrf: await csrfFrom(agent, '/organise/elections/new') }));
+      expect(res.text).toContain('id="passphrase-again-note"');
+      expect(res.text).toContain('Type the passphrase again');
+      expect(res.text).not.toContain(PASSPHRASE);
+      const empty = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', passphrase: '', passphraseAgain: '' }), _csrf: await csrfFrom(agent, '/organise/elections/new') }));
+      expect(empty.text).not.toContain('id="passphrase-again-note"');
+    });
+
+    it('takes an empty expected number of voters as "not given"', async () => {
+      const res = await create({ expectedVoters: '' });
+      expect(res.status).toBe(303);
+      const id = /elections\/([0-9a-f-]{36})$/.exec(res.headers.location!)![1]!;
+      expect((await findElection(db.knex, id))!.expectedVoters).toBeNull();
     });
 
     it('adds option rows without saving anything', async () => {

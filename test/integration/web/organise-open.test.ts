@@ -43,10 +43,10 @@ describe.each(engines)('organiser opening [%s]', (engine) => {
       const id = await draftElection(ctx, me.id, { epsilon: '0.1', expectedVoters: 10 });
       const page = await agent.get(path(id, 'open'));
       expect(page.status).toBe(200);
-      expect(page.text).toContain('Close to a lottery');
+      expect(page.text).toContain('Even a unanimous favourite may not be drawn');
       expect(page.text).toContain('Opening needs at least one code');
       const dash = await agent.get(path(id));
-      expect(dash.text).toContain('Close to a lottery'); // shown on the dashboard before opening too
+      expect(dash.text).toContain('Even a unanimous favourite may not be drawn'); // shown on the dashboard before opening too
       const res = await post(id, 'open', { mode: 'now' });
       expect(res.status).toBe(409);
       expect(res.text).toContain('Issue at least one ballot code before opening');

@@ -104,21 +104,35 @@ describe.each(engines)('organiser close, tally and publish [%s]', (engine) => {
       expect((await findElection(db.knex, id))!.state).toBe('closed');
     });
 
-    it('the right passphrase draws once and shows winners and the statement, without counts', async () => {
+    it('the right passphrase queues the draw: "drawing…" refreshes itself until the whole minute, then the preview, without counts', async () => {
       const res = await post(id, 'tally', { passphrase: PASSPHRASE });
-      expect(res.status).toBe(200);
-      expect(res.text).not.toContain(PASSPHRASE);
+      expect(res.status).toBe(303);
+      expect(res.headers.location).toBe(path(id, 'tally'));
+      const drawn = await drawnRow(id);
+      expect(drawn.state).toBe('tallied');
+      // Drawn, but not shown before its whole minute, at least a minute after queueing.
+      const visible = new Date(drawn.result_visible_at as string);
+      expect(visible.getTime() % 60_000).toBe(0);
+      expect(visible.getTime() - clock.now().getTime()).toBeGreaterThanOrEqual(60_000);
+      const waiting = await agent.get(path(id, 'tally'));
+      expect(waiting.status).toBe(200);
+      expect(waiting.text).toContain('Drawing the result…');
+      expect(waiting.text).toMatch(/<meta http-equiv="refresh" content="10">/);
+      expect(waiting.text).not.toContain('<script');
+      expect((await agent.get(path(id))).text).not.toContain('Unlocked the tally and drew the result');
+      expect((await agent.get(path(id, 'publish'))).status).toBe(409);
+      clock.set(visible);
+      const shown = await agent.get(path(id, 'tally'));
+      expect(shown.text).not.toContain(PASSPHRASE);
       const e = (await findElection(db.knex, id))!;
-      expect(e.state).toBe('tallied');
       const winners = (e.result as { winners: string[] }).winners;
       expect(winners).toHaveLength(2);
-      for (const w of winners) expect(res.text).toContain(`<li>${w}</li>`);
-      expect(res.text).toContain('drawn at random, weighted toward the most approved options');
-      expect(res.text).toContain('ε/2 = 0.5');
-      expect(res.text).not.toMatch(/\b(approval )?counts?:\s*\d/i);
-      // The same stored draw is shown again, and a second tally cannot re-roll it.
-      const again = await agent.get(path(id, 'tally'));
-      for (const w of winners) expect(again.text).toContain(`<li>${w}</li>`);
+      for (const w of winners) expect(shown.text).toContain(`<li>${w}</li>`);
+      expect(shown.text).toContain('drawn at random, weighted toward the most approved options');
+      expect(shown.text).toContain('ε/2 = 0.5');
+      expect(shown.text).not.toMatch(/\b(approval )?counts?:\s*\d/i);
+      expect((await agent.get(path(id))).text).toContain('published automatically');
+      // A second tally cannot re-roll it.
       const retry = await post(id, 'tally', { passphrase: PASSPHRASE });
       expect(retry.status).toBe(303);
       expect((await findElection(db.knex, id))!.result).toEqual(e.result);
@@ -159,6 +173,16 @@ describe.each(engines)('organiser close, tally and publish [%s]', (engine) => {
     });
   });
 
+  /** The draw runs off the request: wait (in real time) until its transaction has committed. */
+  async function drawnRow(id: string) {
+    for (let i = 0; i < 200; i++) {
+      const row = await db.knex('elections').where({ id }).first();
+      if (row.state === 'tallied' || row.tally_failure) return row;
+      await new Promise((r) => setTimeout(r, 50));
+    }
+    throw new Error('the queued tally did not finish');
+  }
+
   it('with zero ballots the result is "no ballots cast; no winner drawn"', async () => {
     await at('2026-06-01T09:00:00Z');
     const id = await draftElection(ctx, me.id, { publishTurnout: true });
@@ -168,8 +192,9 @@ describe.each(engines)('organiser close, tally and publish [%s]', (engine) => {
     const dash = await agent.get(path(id));
     expect(dash.text).toContain('Voting ended');
     expect(dash.text).toContain('Unlock the tally');
-    const res = await post(id, 'tally', { passphrase: PASSPHRASE });
-    expect(res.status).toBe(200);
+    expect((await post(id, 'tally', { passphrase: PASSPHRASE })).status).toBe(303);
+    clock.set(new Date((await drawnRow(id)).result_visible_at));
+    const res = await agent.get(path(id, 'tally'));
     expect(res.text).toContain('No ballots cast; no winner drawn.');
     expect(res.text).not.toContain('<ol class="winners">');
   });

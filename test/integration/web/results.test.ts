@@ -32,7 +32,7 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     await tallyFixture(s.ctx, f, false);
     const preview = await request(s.app).get(`/results/${f.id}`).expect(200);
     expect(preview.text).toContain('The result has not been published yet');
-    expect(preview.text).not.toContain('<ol class="winners');
+    expect(preview.text).not.toContain('announce-winners');
     expect(preview.text).not.toContain('was drawn as the winner');
     expect(preview.text).not.toContain('Check your receipt');
   });
@@ -43,22 +43,30 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     const html = res.text;
     const text = describeStatement(statement);
     expect(winners).toHaveLength(1);
-    expect(html).toMatch(new RegExp(`<ol class="winners winners-single">\\s*<li>${winners[0]}</li>\\s*</ol>`));
-    expect(html).toContain(escapeHtml(text.headline));
-    for (const p of text.paragraphs) expect(html).toContain(escapeHtml(p));
-    expect(html).toContain(escapeHtml(text.boundsSentence));
-    expect(html).toContain(escapeHtml(text.caution));
+    // The announcement comes first: the one winner, large, before anything else is said.
+    expect(html).toMatch(new RegExp(`<h2 id="winners-heading">The winner</h2>\\s*<ol class="announce-winners">\\s*<li><span class="announce-order">Drawn</span> <span class="announce-name">${winners[0]}</span></li>\\s*</ol>`));
+    expect(html.indexOf('announce-winners')).toBeLessThan(html.indexOf('id="options-heading"'));
+    // Every option on the ballot, in ballot order, the winner marked.
+    const listed = [...html.matchAll(/<li( class="is-drawn")?><span>([^<]+)<\/span> <span class="option-mark">([^<]+)<\/span><\/li>/g)].map((m) => [m[2], m[3]]);
+    expect(listed).toEqual(f.options.map((o) => [o.label, o.label === winners[0] ? 'Drawn' : 'Not drawn']));
+    // The caution once, the statement's paragraphs folded away under <details>.
+    expect(html.split(escapeHtml(text.caution)).length - 1).toBe(1);
+    const folded = html.slice(html.indexOf('<details class="maths'), html.indexOf('</details>'));
+    for (const p of text.paragraphs) expect(folded).toContain(escapeHtml(p));
+    expect(folded).toContain(escapeHtml(text.boundsSentence));
+    expect(folded).toMatch(/<svg[^>]*role="img" aria-labelledby="chart-title chart-desc"/);
+    expect(folded).toContain('<caption>Lead needed and the minimum chance that the most approved option is drawn</caption>');
     expect(html).toMatch(/<dt>Privacy level<\/dt>\s*<dd>ε = 1.5<\/dd>/);
     expect(html).toMatch(/<dt>Seats<\/dt>\s*<dd>1<\/dd>/);
     expect(html).toMatch(/<dt>Options on the ballot<\/dt>\s*<dd>4<\/dd>/);
     expect(html).toContain('Replace one ballot.');
-    expect(html).not.toContain('id="turnout-heading"');
+    expect(html).not.toContain('id="turnout"');
     const timeline = [...html.matchAll(/<span class="timeline-label">([^<]+)<\/span>/g)].map((m) => m[1]);
     expect(timeline).toEqual([
       'Election set up',
       'Voting opened',
       'Voting closed',
-      'Sealed ballots counted and the winners drawn',
+      'Result drawn: sealed ballots counted and the winners drawn',
       'Result published',
       'Sealed ballots and the tally key destroyed',
     ]);
@@ -67,9 +75,11 @@ describe.each(engines)('public result pages [%s]', (engine) => {
   it('several seats are listed in the order drawn', async () => {
     const { f, winners } = await s.decided([[0, 1, 2], [1, 2], [2, 3]], { seats: 3, neighbour: 'add-remove' });
     const html = (await request(s.app).get(`/results/${f.id}`).expect(200)).text;
-    expect(html).toContain('Winners, in the order drawn');
-    const listed = [...html.matchAll(/<li>([^<]+)<\/li>/g)].map((m) => m[1]).filter((l) => winners.includes(l!));
-    expect(listed).toEqual(winners);
+    expect(html).toContain('The 3 options drawn, in draw order');
+    expect(html).toContain('This order is not a ranking');
+    const listed = [...html.matchAll(/<span class="announce-order">Drawn (\w+)<\/span> <span class="announce-name">([^<]+)<\/span>/g)].map((m) => [m[1], m[2]]);
+    expect(listed).toEqual(winners.map((w, i) => [['1st', '2nd', '3rd'][i], w]));
+    expect(html).toContain('These 3 options were drawn one at a time');
     expect(html).toContain('Add or remove one ballot.');
   });
 
@@ -85,6 +95,20 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     const { f } = await s.decided([]);
     const html = (await request(s.app).get(`/results/${f.id}`).expect(200)).text;
     expect(html).toContain('No ballots were cast; no winner was drawn.');
-    expect(html).not.toContain('<ol class="winners');
+    expect(html).not.toContain('announce-winners');
+    expect(html).not.toContain('<figure class="chart">');
+  });
+
+  it('the chart follows from the settings alone: other ballots, same settings, the same chart', async () => {
+    const one = await s.decided([[0], [0], [0], [1]], { epsilon: '0.5', seats: 2 });
+    const two = await s.decided([[3], [2, 3], [1]], { epsilon: '0.5', seats: 2 });
+    const chartOf = async (id: string) => {
+      const html = (await request(s.app).get(`/results/${id}`).expect(200)).text;
+      return html.slice(html.indexOf('<figure class="chart">'), html.indexOf('</details>'));
+    };
+    const first = await chartOf(one.f.id);
+    expect(first).toContain('for each seat');
+    expect(first).toContain('<polyline class="chart-line"');
+    expect(await chartOf(two.f.id)).toBe(first);
   });
 });

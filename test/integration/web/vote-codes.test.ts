@@ -63,7 +63,7 @@ describe.each(engines)('member voting, code problems [%s]', (engine) => {
     const { agent, csrf } = await begin(f);
     const code = f.codes[0]!;
     const fields = { _csrf: csrf, code, approve: ['0'] };
-    await post(agent, `/vote/${f.id}/cast`, fields).expect(200);
+    await post(agent, `/vote/${f.id}/cast`, fields).expect(303);
     const again = await post(agent, `/vote/${f.id}/cast`, fields).expect(409);
     expect(again.text).toContain('Your code has already been used');
     expect(again.text).toContain('If you pressed Back or Refresh after casting your ballot, this is expected');

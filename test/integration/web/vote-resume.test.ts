@@ -30,7 +30,7 @@ describe.each(engines)('member voting after the page expired [%s]', (engine) => 
     expect(confirm.text).toContain('Read back your ballot');
     expect(confirm.text).toContain(f.options[0]!.label);
     expect(confirm.text).toContain(f.options[2]!.label);
-    await s.post(agent, `/vote/${f.id}/cast`, { _csrf: csrfFrom(confirm.text), code, approve: ['0', '2'] }).expect(200);
+    await s.post(agent, `/vote/${f.id}/cast`, { _csrf: csrfFrom(confirm.text), code, approve: ['0', '2'] }).expect(303);
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(1);
   });
 

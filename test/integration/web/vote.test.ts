@@ -47,7 +47,9 @@ describe.each(engines)('member voting pages [%s]', (engine) => {
     expect(confirm.text.match(/name="approve" value="0"/g)).toHaveLength(2); // cast form and change form
     expect(confirm.text.match(/name="approve" value="2"/g)).toHaveLength(2);
 
-    const cast = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code: typed, approve: ['0', '2'] }).expect(200);
+    const posted = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code: typed, approve: ['0', '2'] }).expect(303);
+    expect(posted.headers.location).toBe(`/vote/${f.id}/receipt`);
+    const cast = await agent.get(posted.headers.location!).expect(200);
     expect(cast.headers['cache-control']).toBe('no-store');
     expect(cast.text).toContain('Your ballot has been received');
     expect(cast.text).toContain('Keep this receipt');
@@ -68,7 +70,7 @@ describe.each(engines)('member voting pages [%s]', (engine) => {
     expect(confirm.text).toContain('You have not ticked any option');
     expect(confirm.text).toContain('abstention');
     expect(confirm.text).toContain('Cast my empty ballot');
-    await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code }).expect(200);
+    await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code }).expect(303);
     expect(await openStoredBallots(s.ctx, f.id)).toEqual([[]]);
   });
 
@@ -93,7 +95,7 @@ describe.each(engines)('member voting pages [%s]', (engine) => {
       for (const m of page.text.matchAll(/(?:href|action)="([^"]*)"/g)) expect(m[1]).not.toContain(code);
       expect(page.headers.location).toBeUndefined();
     }
-    await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code, approve: '1' }).expect(200);
+    await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code, approve: '1' }).expect(303);
     const sessions = await s.ctx.knex('sessions').select('data');
     const stored = JSON.stringify(sessions);
     expect(sessions.length).toBeGreaterThan(0);

@@ -129,7 +129,7 @@ describe('describeStatement', () => {
 
   it('carries the caution: random, weighted, adopted before voting, bylaws and law, not for public elections', () => {
     expect(text.caution).toContain('drawn at random, weighted toward the most approved options');
-    expect(text.caution).toContain('close to a lottery');
+    expect(text.caution).toContain('chance plays a larger part');
     expect(text.caution).toContain('must adopt before voting');
     expect(text.caution).toContain('bylaws and local election law');
     expect(text.caution).toContain('not for public or government elections');

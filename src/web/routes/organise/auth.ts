@@ -1,4 +1,5 @@
 import type { Request, RequestHandler } from 'express';
+import { demoLoginRetired } from '../../../accounts/demoOrganiser.ts';
 import { findOrganiser } from '../../../accounts/organiserRepo.ts';
 import type { AppDeps } from '../../deps.ts';
 
@@ -26,7 +27,8 @@ export function signInUrl(wanted: string | null): string {
 export function requireOrganiser(deps: AppDeps): RequestHandler {
   return async (req, res, next) => {
     const id = req.session?.organiserId;
-    const organiser = id ? await findOrganiser(deps.ctx.knex, id) : null;
+    const found = id ? await findOrganiser(deps.ctx.knex, id) : null;
+    const organiser = found && !(await demoLoginRetired(deps.ctx.knex, found)) ? found : null;
     if (!organiser) {
       // 303 See Other (RFC 9110 §15.4.4) so any method continues as a GET of the sign-in page.
       const wanted = req.method === 'GET' ? safeNext(req.originalUrl.split('?')[0]) : null;

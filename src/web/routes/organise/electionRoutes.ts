@@ -13,12 +13,18 @@ import { organiserOf } from './auth.ts';
 import { draftFromValues, intentSchema, MAX_ROWS, readElectionForm, readPassphrase, type ElectionFormValues } from './electionSchema.ts';
 import { errorsFrom, type FieldErrors } from './forms.ts';
 
+/** Whether either passphrase field held something when the form was sent (the form never echoes it back). */
+function typedPassphrase(body: unknown): boolean {
+  const b = (body ?? {}) as Record<string, unknown>;
+  return [b.passphrase, b.passphraseAgain].some((v) => typeof v === 'string' && v !== '');
+}
+
 /** The elections list, the new-election form, the draft editor and the guidance refresh. */
 export function electionRoutes(deps: AppDeps): Router {
   const router = Router();
   const { ctx } = deps;
 
-  function renderForm(res: Response, status: number, electionId: string | null, values: ElectionFormValues, extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number } = {}) {
+  function renderForm(res: Response, status: number, electionId: string | null, values: ElectionFormValues, extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphraseCleared?: boolean } = {}) {
     const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, ...extra });
     res.status(status).render('organise/election-form', {
       title: electionId === null ? 'New election' : 'Edit the draft',
@@ -52,13 +58,14 @@ export function electionRoutes(deps: AppDeps): Router {
     const { draft, errors, ambiguous } = draftFromValues(values);
     const pass = readPassphrase(req.body);
     const all = { ...errors, ...pass.errors };
-    if (!draft || Object.keys(all).length > 0) return renderForm(res, 400, null, values, { errors: all, ambiguous });
+    const passphraseCleared = typedPassphrase(req.body);
+    if (!draft || Object.keys(all).length > 0) return renderForm(res, 400, null, values, { errors: all, ambiguous, passphraseCleared });
     try {
       const { electionId } = await createElection(ctx, { organiserId: organiserOf(res).id, draft, passphrase: pass.passphrase });
       res.redirect(303, `/organise/elections/${electionId}`);
     } catch (e) {
       if (!(e instanceof InvalidInput)) throw e;
-      renderForm(res, 400, null, values, { errors: errorsFrom(e), ambiguous });
+      renderForm(res, 400, null, values, { errors: errorsFrom(e), ambiguous, passphraseCleared });
     }
   });
 
@@ -88,7 +95,7 @@ export function electionRoutes(deps: AppDeps): Router {
     const intent = intentSchema.parse(req.body?.intent);
     const addRows = intent === 'more-rows-5' ? 5 : intent === 'more-rows-25' ? 25 : 0;
     const { ambiguous } = draftFromValues(values);
-    renderForm(res, 200, electionId, values, { addRows, ambiguous });
+    renderForm(res, 200, electionId, values, { addRows, ambiguous, passphraseCleared: typedPassphrase(req.body) });
   });
 
   return router;

@@ -66,8 +66,10 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
   });
   const seats = wholeNumber(v.seats);
   if (seats === null) errors.seats = 'Give the number of seats as a whole number, such as 1.';
-  const expectedVoters = wholeNumber(v.expectedVoters);
-  if (expectedVoters === null) errors.expectedVoters = 'Give the number of voters you expect, as a whole number, such as 40.';
+  // Optional, as the form says: left empty, the guidance simply shows no electorate figures.
+  const votersGiven = v.expectedVoters.trim() !== '';
+  const expectedVoters = votersGiven ? wholeNumber(v.expectedVoters) : null;
+  if (votersGiven && expectedVoters === null) errors.expectedVoters = 'Give the number of voters you expect as a whole number, such as 40, or leave it empty.';
   const retentionDays = v.retention === 'keep' ? wholeNumber(v.retentionDays) : null;
   if (v.retention === 'keep' && retentionDays === null) errors.retentionDays = 'Give the number of days as a whole number from 1 to 90.';
   const ambiguous: ('opensAt' | 'closesAt')[] = [];
@@ -93,7 +95,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     timeZone: v.timeZone,
     publishTurnout: v.publishTurnout === 'yes',
     retentionDays,
-    expectedVoters: expectedVoters ?? 1,
+    expectedVoters: votersGiven ? (expectedVoters ?? 1) : null,
   };
   try {
     const draft = checkDraft(candidate);

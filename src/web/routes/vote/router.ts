@@ -15,6 +15,9 @@ import {
   type VoteStep,
   type VotingElectionView,
 } from '../../presenters/ballot.ts';
+import { generateCastToken } from '../../../custody/index.ts';
+import { isSecureSite } from '../../middleware/sessions.ts';
+import { receiptCookie } from './receiptCookie.ts';
 import { ballotForm, idParam } from './schema.ts';
 
 /** What the member-facing error pages (views/errors/Code*.ejs, ElectionNotOpen.ejs) may use. */
@@ -37,6 +40,8 @@ export function voteRouter(deps: AppDeps): Router {
   // Codes carry 128 bits, so this bounds load rather than guessing. A whole meeting may share one
   // address, so only failed steps use up the allowance: members who type their code right never do.
   const codeAttempts = limiter(300, 10 * 60_000, () => new TooManyAttempts('ballot code attempts'), { countFailuresOnly: true });
+
+  const receipts = receiptCookie(deps.sessionSecret, isSecureSite(deps.config.publicUrl), ctx.random);
 
   router.use('/vote', noStore);
 
@@ -98,6 +103,8 @@ export function voteRouter(deps: AppDeps): Router {
       code: form.code,
       approvals,
       ticked: tickedOptions(election, approvals),
+      // One-time token: sending this same confirmation again returns the same receipt.
+      castToken: generateCastToken(ctx.random),
     });
   });
 
@@ -107,9 +114,19 @@ export function voteRouter(deps: AppDeps): Router {
     const election = remember(res, e, 'cast', form.code);
     const approvals = parseApprovals(form.approve, e.options.length);
     (res.locals.member as MemberContext).approvals = approvals;
-    const { receipt } = await castBallot(ctx, { electionId: e.id, code: form.code, approvals }).catch(noteWindow(res));
-    // The code is done with: the receipt page must not carry it anywhere.
-    (res.locals.member as MemberContext).code = '';
+    const { receipt } = await castBallot(ctx, { electionId: e.id, code: form.code, approvals, castToken: form.castToken }).catch(
+      noteWindow(res),
+    );
+    // Post/redirect/get: Reload and Back never resend the cast; the receipt reaches this browser only.
+    receipts.set(res, e.id, receipt, ctx.now());
+    res.redirect(303, receipts.path(e.id));
+  });
+
+  router.get('/vote/:id/receipt', async (req, res) => {
+    const e = await memberElection(req.params.id);
+    const election = votingElectionView(e, ctx.now());
+    const receipt = receipts.read(req, e.id, ctx.now());
+    if (!receipt) return res.status(404).render('vote/receipt-gone', { title: `No receipt to show: ${election.title}`, election });
     res.render('vote/receipt', { title: `Ballot received: ${election.title}`, election, receipt: formatReceipt(receipt) });
   });
 

@@ -15,4 +15,6 @@ export const ballotForm = z.object({
   approve: z.unknown().optional(),
   /** "yes" when the member comes back from the confirmation step to change their ticks. */
   changing: z.string().max(10).optional().catch(undefined),
+  /** One-time cast token from the confirmation form (src/custody/castToken.ts); anything else is ignored. */
+  castToken: z.string().max(100).optional().catch(undefined),
 });

@@ -1,0 +1,59 @@
+import { describeBounds, makeExponentialDraw, MAX_OPTIONS } from '../../mechanism/index.ts';
+
+/** The ε values the comparison table walks through: from strong protection to weak. */
+export const EPSILON_STEPS = ['0.25', '0.5', '1', '1.5', '2', '3', '5'] as const;
+
+export interface EpsilonRow {
+  epsilon: string;
+  perSeatEpsilon: string;
+  withinApprovals: string;
+  lead90: number;
+  lead95: number;
+  lead99: number;
+}
+
+export interface EpsilonHelpView {
+  options: number;
+  seats: number;
+  epsilon: string;
+  rows: EpsilonRow[];
+  /** The same figures `veiltally bounds --options D --epsilon E --seats K` prints, for the chosen ε. */
+  bounds: { sentence: string; table: { margin: number; probability: string }[]; lead90: number; lead95: number; lead99: number };
+  maxOptions: number;
+}
+
+/**
+ * Builds the "Choosing ε" tables from the mechanism module at render time, so the page can never
+ * drift from what the draw and `veiltally bounds` guarantee. No ballots are involved: these bounds
+ * depend only on ε, the number of options and the seats.
+ */
+export function epsilonHelpView(input: { options: number; seats: number; epsilon: string }): EpsilonHelpView {
+  const { options, seats } = input;
+  const rows = EPSILON_STEPS.map((epsilon) => {
+    const b = makeExponentialDraw({ epsilon, options, seats, neighbour: 'replace-one' }).bounds(0.05);
+    return {
+      epsilon,
+      perSeatEpsilon: b.perRoundEpsilon,
+      // Rounded up, like every margin the mechanism publishes, so the table never promises more.
+      withinApprovals: (Math.ceil(b.withinApprovals * 10) / 10).toFixed(1),
+      lead90: b.marginFor['0.9'],
+      lead95: b.marginFor['0.95'],
+      lead99: b.marginFor['0.99'],
+    };
+  });
+  const chosen = makeExponentialDraw({ epsilon: input.epsilon, options, seats, neighbour: 'replace-one' }).bounds(0.05);
+  return {
+    options,
+    seats,
+    epsilon: input.epsilon,
+    rows,
+    bounds: {
+      sentence: describeBounds(chosen, seats, 'future'),
+      table: chosen.marginTable.map((r) => ({ margin: r.margin, probability: `${(Math.floor(r.minProbability * 1000) / 10).toFixed(1)}%` })),
+      lead90: chosen.marginFor['0.9'],
+      lead95: chosen.marginFor['0.95'],
+      lead99: chosen.marginFor['0.99'],
+    },
+    maxOptions: MAX_OPTIONS,
+  };
+}
