@@ -16,6 +16,7 @@ export interface PreparedCast {
 
 interface Reply {
   status: number;
+  location: string;
   body: string;
   cookies: string[];
 }
@@ -31,7 +32,12 @@ function request(agent: http.Agent, base: URL, method: string, path: string, coo
       const chunks: Buffer[] = [];
       res.on('data', (c: Buffer) => chunks.push(c));
       res.on('end', () =>
-        resolve({ status: res.statusCode ?? 0, body: Buffer.concat(chunks).toString('utf8'), cookies: [res.headers['set-cookie'] ?? []].flat() }),
+        resolve({
+          status: res.statusCode ?? 0,
+          location: res.headers.location ?? '',
+          body: Buffer.concat(chunks).toString('utf8'),
+          cookies: [res.headers['set-cookie'] ?? []].flat(),
+        }),
       );
       res.on('error', reject);
     });
@@ -136,7 +142,10 @@ export interface IntakeResult {
   casts: number;
 }
 
-/** Sends every prepared cast, `concurrency` at a time; a cast counts when the receipt page (200) comes back. */
+/**
+ * Sends every prepared cast, `concurrency` at a time. A cast counts when the server stored it: it
+ * answers with the receipt page (200) or, post/redirect/get, a 303 to it (the GET is not timed).
+ */
 export async function castAll(baseUrl: string, casts: readonly PreparedCast[], concurrency: number): Promise<IntakeResult> {
   const base = new URL(baseUrl);
   const agent = new http.Agent({ keepAlive: true, maxSockets: concurrency });
@@ -148,7 +157,7 @@ export async function castAll(baseUrl: string, casts: readonly PreparedCast[], c
       const t = performance.now();
       try {
         const reply = await request(agent, base, 'POST', c.path, c.cookie, c.body);
-        if (reply.status !== 200) errors++;
+        if (!(reply.status === 200 || (reply.status === 303 && /\/receipt\b/.test(reply.location)))) errors++;
       } catch {
         errors++;
       }

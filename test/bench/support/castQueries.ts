@@ -1,0 +1,25 @@
+import http from 'node:http';
+import { freshDatabase } from '../../helpers/databases.ts';
+import { testContext } from '../../helpers/context.ts';
+import { testApp } from '../../helpers/app.ts';
+import { createOrganiser, openElectionFixture } from '../../helpers/fixtures.ts';
+import { prepareCasts, castAll } from './voters.ts';
+
+const db = await freshDatabase((process.env.ENGINE as 'postgres') ?? 'postgres');
+const ctx = testContext(db);
+const f = await openElectionFixture(ctx, await createOrganiser(ctx), { codes: 3 });
+const server = http.createServer(testApp(ctx)).listen(0, '127.0.0.1');
+await new Promise((r) => server.once('listening', r));
+const a = server.address();
+const url = `http://127.0.0.1:${typeof a === 'object' && a ? a.port : 0}`;
+const queries: string[] = [];
+db.knex.on('query', (q: { sql: string }) => queries.push(q.sql));
+const prepared = await prepareCasts(url, f.id, f.codes.slice(0, 1), () => [1]);
+console.log('PREP queries', queries.length);
+queries.forEach((q) => console.log('  ', q.slice(0, 140)));
+queries.length = 0;
+console.log(await castAll(url, prepared, 1));
+console.log('CAST queries', queries.length);
+queries.forEach((q) => console.log('  ', q.slice(0, 140)));
+server.close();
+await db.dispose();
