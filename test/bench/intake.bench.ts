@@ -21,6 +21,7 @@ import { createOrganiser, openElectionFixture } from '../helpers/fixtures.ts';
 import { figure, percentile, type BenchOptions, type Figure } from './support/figures.ts';
 import { postgresAnswers, scratchDatabase } from './support/postgres.ts';
 import { startCompiledServer } from './support/server.ts';
+import { castStatements } from './support/castQueries.ts';
 import { castAll, prepareCasts, type IntakeResult } from './support/voters.ts';
 
 const OPTIONS = Array.from({ length: 20 }, (_, i) => ({ label: `Boat name ${i + 1}`, description: '' }));
@@ -181,8 +182,18 @@ async function embeddedIntake(opts: BenchOptions): Promise<Figure[]> {
 
 export async function run(opts: BenchOptions): Promise<Figure[]> {
   const figures: Figure[] = [];
-  if (await postgresAnswers()) figures.push(...(await postgresIntake(opts)));
-  else console.log('  PostgreSQL does not answer (set BENCH_DATABASE_URL): skipping intake on PostgreSQL');
+  if (await postgresAnswers()) {
+    // Round trips are what a cast waits on: BEGIN, spend, receipt, ballot, COMMIT is the floor.
+    figures.push(
+      figure(
+        'intake: database statements per cast',
+        (await castStatements(process.env.TEST_DATABASE_URL ? 'postgres' : 'pglite')).length,
+        'statements',
+        5,
+      ),
+    );
+    figures.push(...(await postgresIntake(opts)));
+  } else console.log('  PostgreSQL does not answer (set BENCH_DATABASE_URL): skipping intake on PostgreSQL');
   figures.push(...(await embeddedIntake(opts)));
   return figures;
 }
