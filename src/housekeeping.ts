@@ -10,30 +10,80 @@ export interface Job {
 }
 
 /**
- * Periodic chores. Each is safe to run on several app servers at once: publishing and shredding
- * lock the election row (SKIP LOCKED) and check its state, and deleting expired sessions is idempotent.
+/**
+ * Periodic chores. Each would be safe on several app servers at once (publishing and shredding lock
+ * the election row with SKIP LOCKED and check its state, deletions are idempotent), but only one
+ * runs them at a time: see withHousekeepingLock.
  */
 export const jobs: readonly Job[] = [
   { name: 'expire sessions', run: (ctx) => deleteExpiredSessions(ctx.knex, ctx.now()) },
+  // Attempt-limit rows whose window has ended (src/web/middleware/limits.ts); `expire` is in ms.
+  { name: 'forget ended attempt limits', run: (ctx) => ctx.knex('rate_limits').where('expire', '<', ctx.now().getTime()).delete() },
   // Before shredding, so a result published now with "shred at once" is shredded in the same pass.
   { name: 'publish results whose preview has ended', run: (ctx) => publishDue(ctx) },
   { name: 'shred ballots past their retention', run: (ctx) => shredDue(ctx) },
 ];
+
+interface RawConnection {
+  query(text: string, values?: unknown[]): Promise<{ rows: Array<Record<string, unknown>> }>;
+}
+
+/**
+ * On PostgreSQL, one app server at a time runs the chores: a session-level advisory lock on a
+ * connection held for the round (released by PostgreSQL if the process dies). The key is per
+ * schema, so instances sharing a schema share the lock. PGlite needs none: one process per data
+ * directory is enforced by its lock (db/dirLock.ts). If the lock cannot even be asked for (database
+ * unreachable) the jobs run anyway, so each reports its own failure.
+ */
+export async function withHousekeepingLock(ctx: UseCaseContext, round: () => Promise<void>): Promise<boolean> {
+  if (ctx.engine !== 'postgres') {
+    await round();
+    return true;
+  }
+  const client = ctx.knex.client as { acquireConnection(): Promise<RawConnection>; releaseConnection(c: RawConnection): Promise<unknown> };
+  let conn: RawConnection;
+  try {
+    conn = await client.acquireConnection();
+  } catch {
+    await round();
+    return true;
+  }
+  const key = "hashtext(current_schema() || ' veiltally housekeeping')";
+  try {
+    const got = await conn.query(`SELECT pg_try_advisory_lock(${key}) AS ok`);
+    if (got.rows[0]?.ok !== true) return false;
+    try {
+      await round();
+    } finally {
+      await conn.query(`SELECT pg_advisory_unlock(${key})`);
+    }
+    return true;
+  } finally {
+    await client.releaseConnection(conn);
+  }
+}
 
 export function startHousekeeping(ctx: UseCaseContext, logger: Logger, everyMs = 60_000): { stop(): void } {
   let running = false;
   const tick = async () => {
     if (running) return;
     running = true;
-    for (const job of jobs) {
-      try {
-        await job.run(ctx);
-      } catch (e) {
-        // A chore that fails is retried next tick; the failure is reported, not hidden.
-        logger.error({ job: job.name, err: { name: (e as Error)?.name, message: (e as Error)?.message } }, 'housekeeping job failed');
-      }
+    try {
+      await withHousekeepingLock(ctx, async () => {
+        for (const job of jobs) {
+          try {
+            await job.run(ctx);
+          } catch (e) {
+            // A chore that fails is retried next tick; the failure is reported, not hidden.
+            logger.error({ job: job.name, err: { name: (e as Error)?.name, message: (e as Error)?.message } }, 'housekeeping job failed');
+          }
+        }
+      });
+    } catch (e) {
+      logger.error({ err: { name: (e as Error)?.name, message: (e as Error)?.message } }, 'housekeeping lock failed');
+    } finally {
+      running = false;
     }
-    running = false;
   };
   const timer = setInterval(() => void tick(), everyMs);
   timer.unref();

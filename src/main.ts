@@ -7,8 +7,11 @@ import { MigrationFailed, migrateLatest } from './db/migrate.ts';
 import { DEFAULT_KDF, type UseCaseContext } from './elections/context.ts';
 import { createLogger } from './log.ts';
 import { loadSecrets } from './secrets.ts';
+import { checkSecretsAgree, SecretsDisagree } from './instanceCheck.ts';
 import { createApp } from './web/app.ts';
+import { answerClientError } from './web/middleware/security.ts';
 import { startHousekeeping } from './housekeeping.ts';
+import { registerSigningKey } from './elections/signingKeyRepo.ts';
 
 function fail(line: string): never {
   process.stderr.write(`veiltally: ${line}\n`);
@@ -39,6 +42,13 @@ async function start(): Promise<void> {
     if (e instanceof MigrationFailed) fail(`could not prepare the database, ${e.message}`);
     fail(`could not reach the database (${e instanceof Error ? e.message : String(e)})`);
   }
+  try {
+    await checkSecretsAgree(db.knex, secrets);
+  } catch (e) {
+    await db.close().catch(() => undefined);
+    if (e instanceof SecretsDisagree) fail(e.message);
+    throw e;
+  }
 
   const ctx: UseCaseContext = {
     knex: db.knex,
@@ -47,9 +57,13 @@ async function start(): Promise<void> {
     random: (n) => crypto.randomBytes(n),
     secrets,
     kdf: DEFAULT_KDF,
+    ledgerPolicy: config.ledger,
   };
+  // The active signing key's public half is listed on /keys from the start, before its first statement.
+  await registerSigningKey(db.knex, secrets.signingSeed, new Date());
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });
   const server: Server = app.listen(config.port, config.host);
+  server.on('clientError', answerClientError);
   await new Promise<void>((resolve, reject) => {
     server.once('listening', resolve);
     server.once('error', reject);

@@ -31,6 +31,9 @@ function readOrCreate(dir: string, name: string, bytes: number): Buffer {
   }
 }
 
+/** The file `veiltally key add` replaces to rotate the statement-signing key. */
+export const SIGNING_SEED_FILE = 'signing-seed';
+
 export interface AllSecrets extends InstanceSecrets {
   readonly sessionSecret: string;
 }
@@ -42,6 +45,8 @@ export function loadSecrets(config: Config): AllSecrets {
     codePepper: config.codePepperHex
       ? Buffer.from(config.codePepperHex, 'hex')
       : readOrCreate(dir, 'code-pepper', 32),
-    signingSeed: readOrCreate(dir, 'signing-seed', 32),
+    signingSeed: config.signingSeedHex
+      ? Buffer.from(config.signingSeedHex, 'hex')
+      : readOrCreate(dir, SIGNING_SEED_FILE, 32),
   });
 }

@@ -33,3 +33,13 @@ export async function deleteSession(db: Db, sid: string): Promise<void> {
 export async function deleteExpiredSessions(db: Db, now: Date): Promise<number> {
   return db('sessions').where('expires_at', '<=', now).delete();
 }
+
+/**
+ * Ends every session of one organiser (after a password change or reset, or removal), except
+ * the one given by its session id. Sessions store the organiser id in their data.
+ */
+export async function deleteSessionsOf(db: Db, organiserId: string, exceptSid?: string): Promise<number> {
+  const q = db('sessions').whereRaw("data->>'organiserId' = ?", [organiserId]);
+  if (exceptSid) q.andWhereNot({ sid_hash: key(exceptSid) });
+  return q.delete();
+}

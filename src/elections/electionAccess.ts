@@ -4,8 +4,8 @@ import { acceptsBallotsAt, findElection, lockElection, type Election, type Elect
 import { ElectionNotFound, ElectionNotOpen, TallyKeyMissing, type NotOpenReason } from './errors.ts';
 
 /**
- * The organiser's own election, optionally locked for the transaction. Someone else's
- * election answers exactly like a missing one, so ids cannot be probed.
+ * An election this organiser runs (their own, or one shared with them), optionally locked for
+ * the transaction. Anyone else's election answers exactly like a missing one, so ids cannot be probed.
  */
 export async function ownedElection(
   db: Db,
@@ -14,8 +14,15 @@ export async function ownedElection(
   options: { lock: boolean },
 ): Promise<Election> {
   const e = options.lock ? await lockElection(db, electionId) : await findElection(db, electionId);
-  if (!e || (organiserId !== null && e.ownerId !== organiserId)) throw new ElectionNotFound();
+  if (!e) throw new ElectionNotFound();
+  if (organiserId !== null && e.ownerId !== organiserId && !(await isSharedWith(db, e.id, organiserId))) throw new ElectionNotFound();
   return e;
+}
+
+/** Has the election been shared with this organiser (election_organisers)? */
+export async function isSharedWith(db: Db, electionId: string, organiserId: string): Promise<boolean> {
+  if (!UUID.test(organiserId)) return false;
+  return Boolean(await db('election_organisers').where({ election_id: electionId, organiser_id: organiserId }).first('organiser_id'));
 }
 
 export interface VotingElection {

@@ -16,6 +16,8 @@ export interface Election {
   ownerId: string;
   title: string;
   description: string;
+  /** How members reach the organiser (free text, may be empty). */
+  contact: string;
   state: ElectionState;
   seats: number;
   epsilon: string;
@@ -60,6 +62,7 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     ownerId: r.owner_id as string,
     title: r.title as string,
     description: r.description as string,
+    contact: (r.contact as string | undefined) ?? '',
     state: r.state as ElectionState,
     seats: r.seats as number,
     epsilon: r.epsilon as string,

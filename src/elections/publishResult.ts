@@ -4,7 +4,7 @@ import { findElection, type Election } from './electionRepo.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import { AlreadyPublished, NotTallied } from './errors.ts';
-import { retentionDaysSchema, shredInTransaction } from './shred.ts';
+import { retentionDaysSchema, rewriteShreddedTables, shredInTransaction } from './shred.ts';
 
 const DAY_MS = 24 * 60 * 60 * 1000;
 
@@ -21,6 +21,9 @@ export async function publishResult(ctx: UseCaseContext, input: { electionId: st
     });
     await publishLocked(trx, e, input.organiserId, ctx.now());
   });
+  // After commit: rewrite the tables so no dead row version keeps the key (shred.ts). If this fails,
+  // the housekeeping round retries it; the publication itself stands.
+  await rewriteShreddedTables(ctx.knex).catch(() => undefined);
 }
 
 async function publishLocked(trx: Db, e: Election, organiserId: string | null, clock: Date): Promise<void> {
@@ -46,7 +49,7 @@ async function publishLocked(trx: Db, e: Election, organiserId: string | null, c
  * servers running the job at once share the work, and the state check publishes each result once.
  */
 export async function publishDue(ctx: UseCaseContext): Promise<number> {
-  return ctx.knex.transaction(async (trx) => {
+  const published = await ctx.knex.transaction(async (trx) => {
     const now = ctx.now();
     const due: Array<{ id: string }> = await trx('elections')
       .where('state', 'tallied')
@@ -61,4 +64,6 @@ export async function publishDue(ctx: UseCaseContext): Promise<number> {
     }
     return due.length;
   });
+  await rewriteShreddedTables(ctx.knex).catch(() => undefined);
+  return published;
 }

@@ -19,8 +19,9 @@ export const retentionDaysSchema = z
  * Shredding (DESIGN §5): deletes the wrapped election key and every ciphertext, in the
  * caller's transaction, and records when. Afterwards no ballot can ever be opened: the
  * secret key existed only wrapped, and the wrapped copy is gone. Receipts, code hashes,
- * the public key and the signed result stay. Deleted rows can linger in PostgreSQL pages
- * and backups until vacuumed or rotated; the threat model says so.
+ * the public key and the signed result stay. Deleted and updated rows linger as dead row
+ * versions in the table pages until the table is rewritten, so every caller runs
+ * rewriteShreddedTables after committing (and housekeeping retries it if that failed).
  */
 export async function shredInTransaction(
   trx: Db,
@@ -31,6 +32,30 @@ export async function shredInTransaction(
   await deleteBallots(trx, electionId);
   await trx('elections').where({ id: electionId }).update({ wrapped_key: null, shredded_at: now, updated_at: now });
   await recordEvent(trx, { electionId, organiserId, action: 'shredded' }, now);
+  await trx('instance_settings').insert({ name: REWRITE_DUE, value: JSON.stringify(true) }).onConflict('name').ignore();
+}
+
+const REWRITE_DUE = 'shred-rewrite-due';
+
+/**
+ * Every UPDATE of an election row leaves the old version, wrapped key included, in the page until
+ * the table is rewritten; a plain VACUUM only marks the space free. VACUUM FULL writes live rows to
+ * new files and drops the old ones (PostgreSQL documentation, VACUUM: "FULL ... rewrites the entire
+ * contents of the table into a new disk file"), so afterwards no page of elections or ballots holds
+ * the shredded key or ciphertexts. It holds an exclusive lock for the rewrite: elections is one row
+ * per election and ballots only what is still sealed, so the pause is short. Runs outside any
+ * transaction. The write-ahead log and older backups still hold them: see DEVELOPERS.md.
+ */
+export async function rewriteShreddedTables(db: Db): Promise<boolean> {
+  const due = await db('instance_settings').where({ name: REWRITE_DUE }).delete();
+  if (!due) return false;
+  try {
+    await db.raw('VACUUM (FULL) elections, ballots');
+  } catch (e) {
+    await db('instance_settings').insert({ name: REWRITE_DUE, value: JSON.stringify(true) }).onConflict('name').ignore();
+    throw e;
+  }
+  return true;
 }
 
 /**
@@ -52,11 +77,12 @@ export async function shredElection(
     }
     await shredInTransaction(trx, e.id, input.organiserId, ctx.now());
   });
+  await rewriteShreddedTables(ctx.knex);
 }
 
 /** The retention job: shreds every published election whose keep-sealed period has ended. Returns how many. */
 export async function shredDue(ctx: UseCaseContext): Promise<number> {
-  return ctx.knex.transaction(async (trx) => {
+  const shredded = await ctx.knex.transaction(async (trx) => {
     const now = ctx.now();
     // SKIP LOCKED: two app servers running the job at once share the work instead of waiting.
     const due: Array<{ id: string }> = await trx('elections')
@@ -70,4 +96,7 @@ export async function shredDue(ctx: UseCaseContext): Promise<number> {
     for (const { id } of due) await shredInTransaction(trx, id, null, now);
     return due.length;
   });
+  // Also a retry for a rewrite that failed after an earlier shred.
+  await rewriteShreddedTables(ctx.knex);
+  return shredded;
 }

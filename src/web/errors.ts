@@ -17,8 +17,11 @@ export class CsrfRejected extends VeiltallyError {
 export class TooManyAttempts extends VeiltallyError {
   readonly code = 'TooManyAttempts';
   override readonly status = 429;
-  constructor(what: string) {
-    super(`Too many ${what} in a short time. Wait a few minutes, then try again.`);
+  constructor(
+    what: string,
+    readonly retryAfterMs?: number,
+  ) {
+    super(`Too many ${what} in a short time. ${waitText(retryAfterMs)}`);
   }
 }
 
@@ -38,4 +41,24 @@ export class UnreadableForm extends VeiltallyError {
     super('We could not read that form. Go back, reload the page and send it again.');
     this.status = status;
   }
+}
+
+/** A path with broken percent-encoding, or a field holding a character no database column can store (NUL). */
+export class UnreadableRequest extends VeiltallyError {
+  readonly code = 'UnreadableRequest';
+  override readonly status = 400;
+  constructor(what: 'address' | 'form') {
+    super(
+      what === 'address'
+        ? 'That address is not one we can read. Check the link and try again.'
+        : 'That form held a character we cannot store (a NUL byte). Remove it and send the form again.',
+    );
+  }
+}
+
+function waitText(ms: number | undefined): string {
+  if (ms === undefined || !Number.isFinite(ms) || ms <= 0) return 'Wait a few minutes, then try again.';
+  const minutes = Math.ceil(ms / 60_000);
+  if (ms < 60_000) return `Wait ${Math.ceil(ms / 1000)} seconds, then try again.`;
+  return `Wait ${minutes} minute${minutes === 1 ? '' : 's'}, then try again.`;
 }

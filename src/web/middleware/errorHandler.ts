@@ -1,9 +1,11 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import type { ErrorRequestHandler, Request, RequestHandler, Response } from 'express';
-import { isVeiltallyError, NotFound } from '../../errors.ts';
+import { ZodError } from 'zod';
+import { InvalidInput, isVeiltallyError, NotFound } from '../../errors.ts';
 import type { Logger } from '../../log.ts';
-import { CsrfRejected, PayloadTooLarge, UnreadableForm } from '../errors.ts';
+import { CsrfRejected, PayloadTooLarge, TooManyAttempts, UnreadableForm, UnreadableRequest } from '../errors.ts';
+import type { LockedOut } from './limits.ts';
 import { VIEWS_DIR } from '../paths.ts';
 
 /** A friendly page per typed error when one exists (views/errors/<Code>.ejs), else the general one. */
@@ -39,9 +41,20 @@ export function errorHandler(logger: Logger, recoveries: readonly Recovery[] = [
     let error = err;
     const e = err as { code?: string; type?: string; status?: number; expose?: boolean };
     if (e?.code === 'EBADCSRFTOKEN') error = new CsrfRejected();
+    // The router's decoding of a path parameter (bad percent-encoding such as %E0%A4%A).
+    else if (err instanceof URIError) error = new UnreadableRequest('address');
+    // A route's zod schema refusing a request's fields (a repeated or missing field): the client's input, not our fault.
+    else if (err instanceof ZodError) error = new InvalidInput('Some of what was sent could not be read. Go back, reload the page and try again.');
     else if (e?.type === 'entity.too.large' || e?.type === 'parameters.too.many') error = new PayloadTooLarge();
     // body-parser's other client errors (unsupported charset 415, unreadable body 400) carry their own status.
     else if (typeof e?.type === 'string' && e.expose === true && typeof e.status === 'number' && e.status >= 400 && e.status < 500) error = new UnreadableForm(e.status);
+
+    // A client past a failures-only limit (ballot codes): a correct attempt went through, a failed one waits.
+    const locked = res.locals.lockedOut as LockedOut | undefined;
+    if (locked && isVeiltallyError(error) && error.status >= 400 && error.status < 500 && !(error instanceof TooManyAttempts)) {
+      res.set('Retry-After', String(Math.max(1, Math.ceil(locked.retryAfterMs / 1000))));
+      error = new TooManyAttempts(locked.what, locked.retryAfterMs);
+    }
 
     for (const recover of recoveries) {
       const page = recover(error, req);

@@ -1,7 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { generateCode } from '../../../src/custody/index.ts';
 import { engines } from '../../helpers/databases.ts';
-import { openElectionFixture } from '../../helpers/fixtures.ts';
+import request from 'supertest';
+import { testApp } from '../../helpers/app.ts';
+import { csrfFrom, formBody, openElectionFixture } from '../../helpers/fixtures.ts';
 import { useMemberSuite } from '../../helpers/memberSuite.ts';
 
 /**
@@ -32,6 +34,22 @@ describe.each(engines)('member voting, attempt limits [%s]', (engine) => {
     const statuses: number[] = [];
     for (let i = 0; i < ALLOWANCE; i++) statuses.push((await post(agent, `/vote/${f.id}/${steps[i % 3]}`, { _csrf: csrf, code: unknown })).status);
     expect(new Set(statuses)).toEqual(new Set([404]));
-    for (const step of steps) expect((await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code: f.codes[0]! })).status).toBe(429);
+    const locked = await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code: unknown });
+    expect(locked.status).toBe(429);
+    expect(locked.text).toMatch(/Wait \d+ minutes?, then try again/);
+    expect(Number(locked.headers['retry-after'])).toBeGreaterThan(0);
+    // A valid code is always accepted, however many failures came from the same address.
+    for (const step of ['ballot', 'confirm']) expect((await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code: f.codes[1]! })).status).toBe(200);
+  });
+
+  it('the count lives in the database: a second app server on it (or a restart) sees the same failures', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const { agent, csrf } = await begin(f);
+    const unknown = generateCode(s.ctx.random).display;
+    for (let i = 0; i < ALLOWANCE; i++) await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code: unknown });
+    const other = request.agent(testApp(s.ctx));
+    const start = await other.get(`/vote/${f.id}`).expect(200);
+    const res = await other.post(`/vote/${f.id}/ballot`).type('form').send(formBody({ _csrf: csrfFrom(start.text), code: unknown }));
+    expect(res.status).toBe(429);
   });
 });

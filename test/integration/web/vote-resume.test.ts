@@ -1,3 +1,4 @@
+import request from 'supertest';
 import { describe, expect, it } from 'vitest';
 import { countTurnout } from '../../../src/elections/turnout.ts';
 import { engines } from '../../helpers/databases.ts';
@@ -13,9 +14,10 @@ describe.each(engines)('member voting after the page expired [%s]', (engine) => 
 
   it('keeps the code and ticks, resumes at the confirmation step, and casts only when confirmed', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId);
-    const { agent, csrf } = await s.begin(f);
+    const { csrf } = await s.begin(f);
     const code = f.codes[0]!;
-    await s.ctx.knex('sessions').delete(); // the session ran out while the page stayed open
+    // The browser lost its token cookie (closed and reopened) while the page stayed open.
+    const agent = request.agent(s.app);
 
     const expired = await s.post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code, approve: ['0', '2'] }).expect(403);
     expect(expired.headers['cache-control']).toContain('no-store');

@@ -3,10 +3,10 @@ import type { Request } from 'express';
 import { sameOriginOnly } from '../../../src/web/middleware/security.ts';
 import { Forbidden } from '../../../src/web/errors.ts';
 
-function run(method: string, headers: Record<string, string>): unknown {
+function run(method: string, headers: Record<string, string>, publicUrl = 'https://vote.example.org'): unknown {
   const req = { method, get: (h: string) => headers[h.toLowerCase()] } as unknown as Request;
   let result: unknown = 'not called';
-  sameOriginOnly(req, {} as never, (err?: unknown) => {
+  sameOriginOnly(publicUrl)(req, {} as never, (err?: unknown) => {
     result = err ?? null;
   });
   return result;
@@ -30,5 +30,11 @@ describe('sameOriginOnly', () => {
     ['POST with an unreadable Origin', { origin: '::not a url::', host: 'vote.example.org' }],
   ])('refuses a %s', (_name, headers) => {
     expect(run('POST', headers)).toBeInstanceOf(Forbidden);
+  });
+
+  it('accepts the configured public origin when a proxy rewrote Host (X-Forwarded-Host set)', () => {
+    const headers = { 'sec-fetch-site': 'same-origin', origin: 'https://vote.example.org', host: '127.0.0.1:3000', 'x-forwarded-host': 'vote.example.org' };
+    expect(run('POST', headers)).toBe(null);
+    expect(run('POST', { ...headers, origin: 'https://evil.example' })).toBeInstanceOf(Forbidden);
   });
 });

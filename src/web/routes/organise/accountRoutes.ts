@@ -6,9 +6,7 @@ import { countOrganisers, findOrganiser, listOrganisers } from '../../../account
 import { signIn } from '../../../accounts/signIn.ts';
 import { findDemo } from '../../../demo/seedDemo.ts';
 import { recordEvent } from '../../../elections/audit.ts';
-import { limiter } from '../../app.ts';
 import type { AppDeps } from '../../deps.ts';
-import { TooManyAttempts } from '../../errors.ts';
 import { isSecureSite } from '../../middleware/sessions.ts';
 import { readNewOrganiser, readSignIn } from './accountSchema.ts';
 import { endSession, FIRST_RUN_PATH, organiserOf, requireOrganiser, safeNext, SIGN_IN_PATH, startSession } from './auth.ts';
@@ -19,7 +17,7 @@ export function accountRoutes(deps: AppDeps): Router {
   const router = Router();
   const { ctx } = deps;
   // OWASP Authentication Cheat Sheet: throttle failed sign-ins; 10 per quarter hour per address (our choice).
-  const signInAttempts = limiter(10, 15 * 60_000, () => new TooManyAttempts('sign-in attempts'), { countFailuresOnly: true });
+  const { signInAttempts } = deps.limits;
   const cookieName = isSecureSite(deps.config.publicUrl) ? '__Host-veiltally' : 'veiltally';
 
   const renderFirstRun = async (res: Response, status: number, email: string, errors: FieldErrors) =>
@@ -97,6 +95,7 @@ export function accountRoutes(deps: AppDeps): Router {
     });
 
   router.get('/organise/organisers', requireOrganiser(deps), async (req, res) => {
+    res.locals.notice = req.query.removed === '1' ? 'Organiser removed. They can no longer sign in.' : req.query.reset === '1' ? 'New password set, and they have been signed out. Pass it on privately.' : null;
     await renderOrganisers(res, 200, '', {}, req.query.added === '1');
   });
 

@@ -2,9 +2,8 @@ import { Router, type Request } from 'express';
 import { z } from 'zod';
 import { SignInFailed } from '../../../accounts/errors.ts';
 import { signIn } from '../../../accounts/signIn.ts';
-import { limiter } from '../../app.ts';
 import type { AppDeps } from '../../deps.ts';
-import { CsrfRejected, TooManyAttempts } from '../../errors.ts';
+import { CsrfRejected } from '../../errors.ts';
 import type { Recovery } from '../../middleware/errorHandler.ts';
 import { startSession } from './auth.ts';
 
@@ -61,12 +60,13 @@ export const resumeOrganiserForm: Recovery = (err: unknown, req: Request) => {
 const resumeSchema = z.object({
   email: z.string().max(254).catch(''),
   password: z.string().max(1024).catch(''),
-  resumeTo: z.string().max(200),
+  // Missing or repeated (an array): no known form to go back to, so plain sign-in.
+  resumeTo: z.string().max(200).catch(''),
 });
 
 export function resumeRoutes(deps: AppDeps): Router {
   const router = Router();
-  const attempts = limiter(10, 15 * 60_000, () => new TooManyAttempts('sign-in attempts'), { countFailuresOnly: true });
+  const attempts = deps.limits.signInAttempts;
 
   router.post('/organise/sign-in/resume', attempts, async (req, res) => {
     const form = resumeSchema.parse(req.body ?? {});

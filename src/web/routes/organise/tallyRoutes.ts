@@ -7,9 +7,7 @@ import { isVeiltallyError } from '../../../errors.ts';
 import { publishResult } from '../../../elections/publishResult.ts';
 import { canTally } from '../../../elections/status.ts';
 import type { PrivacyStatement } from '../../../mechanism/index.ts';
-import { limiter } from '../../app.ts';
 import type { AppDeps } from '../../deps.ts';
-import { TooManyAttempts } from '../../errors.ts';
 import { dashboardView, type DashboardView } from '../../presenters/dashboard.ts';
 import { storedStatement, tallyPreview } from '../../presenters/tallyResult.ts';
 import { organiserOf } from './auth.ts';
@@ -38,7 +36,7 @@ export function tallyRoutes(deps: AppDeps): Router {
   const router = Router();
   const { ctx } = deps;
   // Each try runs Argon2id over the wrapped key; wrong passphrases are limited per address (our choice: 10 per quarter hour).
-  const passphraseAttempts = limiter(10, 15 * 60_000, () => new TooManyAttempts('tally passphrase attempts'), { countFailuresOnly: true });
+  const { passphraseAttempts } = deps.limits;
   const load = (res: Response, id: string) => loadDashboard(ctx, { electionId: id, organiserId: organiserOf(res).id });
 
   const renderPreview = (res: Response, d: DashboardView, statement: PrivacyStatement, justDrawn: boolean) =>

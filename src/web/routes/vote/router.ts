@@ -1,7 +1,5 @@
 import { Router, type Response } from 'express';
-import { limiter } from '../../app.ts';
 import type { AppDeps } from '../../deps.ts';
-import { TooManyAttempts } from '../../errors.ts';
 import { noStore } from '../../middleware/security.ts';
 import { castBallot } from '../../../elections/castBallot.ts';
 import { checkCode } from '../../../elections/checkCode.ts';
@@ -39,18 +37,22 @@ export function voteRouter(deps: AppDeps): Router {
   const { ctx } = deps;
   // Codes carry 128 bits, so this bounds load rather than guessing. A whole meeting may share one
   // address, so only failed steps use up the allowance: members who type their code right never do.
-  const codeAttempts = limiter(300, 10 * 60_000, () => new TooManyAttempts('ballot code attempts'), { countFailuresOnly: true });
+  const { codeAttempts } = deps.limits;
 
   const receipts = receiptCookie(deps.sessionSecret, isSecureSite(deps.config.publicUrl), ctx.random);
 
   router.use('/vote', noStore);
 
-  /** Drafts are not shown to members: they answer exactly like an unknown election. */
+  /**
+   * A draft's ballot link says only that voting has not opened: nothing of the draft (not even
+   * its title) is shown, and the member context is not set, so no page can show it.
+   */
   async function memberElection(rawId: unknown): Promise<Election> {
     const param = idParam.safeParse({ id: rawId });
     if (!param.success) throw new ElectionNotFound();
     const e = await findElection(ctx.knex, param.data.id);
-    if (!e || e.state === 'draft') throw new ElectionNotFound();
+    if (!e) throw new ElectionNotFound();
+    if (e.state === 'draft') throw new ElectionNotOpen('draft');
     return e;
   }
 

@@ -1,0 +1,88 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { execFileSync } from 'node:child_process';
+import crypto from 'node:crypto';
+import { generateCode } from '../../src/custody/index.ts';
+import { Writable } from 'node:stream';
+import request from 'supertest';
+import type { Express } from 'express';
+import { loadConfig } from '../../src/config.ts';
+import { createApp } from '../../src/web/app.ts';
+import { createLogger } from '../../src/log.ts';
+import { freshDatabase, type TestDatabase } from '../helpers/databases.ts';
+import { testContext, TEST_KDF } from '../helpers/context.ts';
+import { PASSPHRASE, PASSWORD, createElectionViaForm, encode, makeOrganiser, postForm, tokenIn as csrfFrom } from '../integration/web/organiseSupport.ts';
+import { record } from './_harness.ts';
+
+/**
+ * A whole election through the pages with the log at debug level: no passphrase, password, ballot
+ * code, receipt, session id or ballot content may appear in the log, nor in a pg_dump of the data.
+ */
+describe.runIf(process.env.TEST_DATABASE_URL)('secrets stay out of logs and dumps [postgres]', () => {
+  let db: TestDatabase;
+  let app: Express;
+  let schema: string;
+  const log: string[] = [];
+
+  beforeAll(async () => {
+    db = await freshDatabase('postgres');
+    schema = (await db.knex.raw('select current_schema() as s')).rows[0].s;
+    const ctx = testContext(db, { passwordKdf: TEST_KDF });
+    const sink = new Writable({
+      write(chunk, _e, cb) {
+        log.push(String(chunk));
+        cb();
+      },
+    });
+    app = createApp({ config: loadConfig({ VEILTALLY_DATA_DIR: '/nonexistent-test-dir', LOG_LEVEL: 'debug' }), ctx, logger: createLogger('debug', sink), sessionSecret: 'secrets-suite-session-secret-0123456789' });
+    await makeOrganiser(ctx, 'chair@tenants.example');
+  });
+  afterAll(() => db?.dispose());
+
+  it('runs a full election and finds none of its secrets in the log or in pg_dump', async () => {
+    const agent = request.agent(app);
+    const signInPage = await agent.get('/organise/sign-in').expect(200);
+    const signIn = await agent.post('/organise/sign-in').type('form').send({ _csrf: csrfFrom(signInPage.text), email: 'chair@tenants.example', password: PASSWORD }).expect(303);
+    const sid = decodeURIComponent(/veiltally=([^;]+)/.exec(([] as string[]).concat(signIn.headers['set-cookie'] ?? []).join(';'))![1]!).replace(/^s:/, '').split('.')[0]!;
+    expect(sid.length).toBeGreaterThan(10);
+
+    const day = 24 * 3600_000;
+    const local = (d: Date) => d.toISOString().slice(0, 16);
+    const id = await createElectionViaForm(agent, { opensAt: local(new Date(Date.now() + day)), closesAt: local(new Date(Date.now() + 3 * day)), timeZone: 'UTC' });
+    const csv = await postForm(agent, `/organise/elections/${id}/codes`, `/organise/elections/${id}/codes`, { count: '6', format: 'csv' });
+    expect(csv.status).toBe(200);
+    // The shape of a code, taken from one the custody module makes (groups of Crockford base32).
+    const shape = generateCode((n) => crypto.randomBytes(n)).display.replace(/[0-9A-Z]/g, '[0-9A-Z]');
+    const codes = [...csv.text.matchAll(new RegExp(`\\b${shape}\\b`, 'g'))].map((m) => m[0]);
+    expect(codes).toHaveLength(6);
+    expect((await postForm(agent, `/organise/elections/${id}/open`, `/organise/elections/${id}/open`, { mode: 'now' })).status).toBe(303);
+
+    const receipts: string[] = [];
+    for (const [i, code] of codes.entries()) {
+      const member = request.agent(app);
+      const start = await member.get(`/vote/${id}`).expect(200);
+      const token = csrfFrom(start.text);
+      await member.post(`/vote/${id}/ballot`).type('form').send(encode({ _csrf: token, code })).expect(200);
+      await member.post(`/vote/${id}/confirm`).type('form').send(encode({ _csrf: token, code, approve: [String(i % 3)] })).expect(200);
+      const posted = await member.post(`/vote/${id}/cast`).type('form').send(encode({ _csrf: token, code, approve: [String(i % 3)] })).expect(303);
+      const cast = await member.get(posted.headers.location!).expect(200);
+      receipts.push(/<p class="receipt">([^<]+)<\/p>/.exec(cast.text)![1]!);
+    }
+    expect((await postForm(agent, `/organise/elections/${id}/close`, `/organise/elections/${id}/close`, {})).status).toBeLessThan(400);
+    expect((await postForm(agent, `/organise/elections/${id}/tally`, `/organise/elections/${id}/tally`, { passphrase: PASSPHRASE })).status).toBeLessThan(400);
+    expect((await postForm(agent, `/organise/elections/${id}/publish`, `/organise/elections/${id}/publish`, { confirm: 'yes' })).status).toBeLessThan(400);
+    expect((await db.knex('elections').where({ id }).first()).state).toBe('published');
+
+    const logText = log.join('');
+    expect(logText.length).toBeGreaterThan(1000); // control: debug logging did record the requests
+    const dump = execFileSync('pg_dump', ['--data-only', '-n', schema, process.env.TEST_DATABASE_URL!], { encoding: 'utf8', maxBuffer: 64 * 1024 * 1024 });
+    expect(dump).toContain(id); // control: the dump holds this election
+    const secrets = [PASSPHRASE, PASSWORD, sid, ...codes, ...codes.map((c) => c.replace(/-/g, '')), ...receipts, ...receipts.map((r) => r.replace(/-/g, ''))];
+    for (const s of secrets) {
+      expect(logText.includes(s), `log holds a secret`).toBe(false);
+      expect(dump.includes(s), `dump holds a secret`).toBe(false);
+    }
+    // Ballot content: no request body is logged at any level.
+    expect(logText).not.toMatch(/"approve"|"body"|_csrf/);
+    record('secrets in logs and dump', { requests: 0, lost: 0, duplicated: 0, serverErrors: 0 });
+  });
+});
