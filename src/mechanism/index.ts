@@ -60,6 +60,7 @@ export {
   epsilonExceeds,
   ledgerTotals,
   checkBudget,
+  howVotedCost,
   toMinute,
   yearBefore,
 } from './ledger.ts';
@@ -72,3 +73,5 @@ export {
   recheckStatement,
   unprotectedReleases,
 } from './publicStatement.ts';
+export { describeParties } from './describeParties.ts';
+export type { PartySettings, PartyText } from './describeParties.ts';
