@@ -16,11 +16,16 @@ export async function addOrganiser(
 ): Promise<{ organiserId: string }> {
   const { email, password } = parseCredentials(input);
   const passwordHash = await hashPassword(password, ctx.passwordKdf ?? OWASP_PASSWORD_KDF, ctx.random);
-  const id = randomUuid(ctx.random);
+  let id = randomUuid(ctx.random);
   const now = ctx.now();
   await ctx.knex.transaction(async (trx) => {
     if (!(await findOrganiser(trx, input.organiserId))) throw new SignInFailed();
-    if (!(await insertOrganiser(trx, { id, email, passwordHash, createdBy: input.organiserId, at: now }))) throw new EmailTaken();
+    if (!(await insertOrganiser(trx, { id, email, passwordHash, createdBy: input.organiserId, at: now }))) {
+      // A removed organiser's email comes back to life with the new password; a current one is taken.
+      const revived = await trx('organisers').where({ email }).whereNotNull('removed_at').update({ removed_at: null, password_hash: passwordHash });
+      if (revived !== 1) throw new EmailTaken();
+      id = (await trx('organisers').where({ email }).first('id')).id as string;
+    }
     await recordEvent(trx, { electionId: null, organiserId: input.organiserId, action: 'organiser-added', detail: { email } }, now);
   });
   return { organiserId: id };

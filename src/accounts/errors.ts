@@ -30,3 +30,29 @@ export class EmailTaken extends VeiltallyError {
     super('There is already an organiser with that email.');
   }
 }
+
+/** Changing one's password needs the current one. */
+export class WrongCurrentPassword extends VeiltallyError {
+  readonly code = 'WrongCurrentPassword';
+  override readonly status = 400;
+  constructor() {
+    super('That is not your current password. Type the password you signed in with.');
+  }
+}
+
+export class OrganiserNotFound extends VeiltallyError {
+  readonly code = 'OrganiserNotFound';
+  override readonly status = 404;
+  constructor() {
+    super('We could not find that organiser. They may have been removed already.');
+  }
+}
+
+/** An organiser cannot remove their own account, so a site is never left with nobody by accident. */
+export class CannotRemoveYourself extends VeiltallyError {
+  readonly code = 'CannotRemoveYourself';
+  override readonly status = 409;
+  constructor() {
+    super('You cannot remove your own account. Ask another organiser to remove it.');
+  }
+}

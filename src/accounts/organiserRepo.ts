@@ -34,7 +34,7 @@ export async function countRealOrganisers(db: Db): Promise<number> {
 }
 
 export async function findCredentials(db: Db, email: string): Promise<OrganiserCredentials | null> {
-  const row = await db('organisers').where({ email: normaliseEmail(email) }).first('id', 'email', 'password_hash', 'demo');
+  const row = await db('organisers').where({ email: normaliseEmail(email) }).whereNull('removed_at').first('id', 'email', 'password_hash', 'demo');
   return row ? { id: row.id, email: row.email, passwordHash: row.password_hash, demo: row.demo === true } : null;
 }
 
@@ -49,8 +49,10 @@ export async function listOrganisers(db: Db): Promise<Organiser[]> {
   return rows.map(fromRow);
 }
 
+/** Removed organisers (removed_at set) are kept for the record but are nobody here. */
 function listQuery(db: Db) {
   return db('organisers as o')
+    .whereNull('o.removed_at')
     .leftJoin('organisers as c', 'c.id', 'o.created_by')
     .select('o.id', 'o.email', 'o.created_at', 'o.demo', 'c.email as created_by_email');
 }

@@ -18,6 +18,11 @@ export const commands: readonly CommandEntry[] = [
     load: async () => (await import('./migrateCommand.ts')).migrateCommand,
   },
   {
+    name: 'organiser',
+    summary: 'list organisers, or reset an organiser’s password (for the operator)',
+    load: async () => (await import('./organiserCommand.ts')).organiserCommand,
+  },
+  {
     name: 'draw',
     summary: 'draw winners from a ballot file (CSV or PrefLib .cat) and print the privacy statement',
     load: async () => (await import('./commands/draw.ts')).drawCommand,
@@ -31,6 +36,16 @@ export const commands: readonly CommandEntry[] = [
     name: 'bounds',
     summary: 'show accuracy guarantees and needed leads for a planned vote (no ballots needed)',
     load: async () => (await import('./commands/bounds.ts')).boundsCommand,
+  },
+  {
+    name: 'verify',
+    summary: 'check a signed result statement offline: signature, format, election and every bound',
+    load: async () => (await import('./commands/verify.ts')).verifyCommand,
+  },
+  {
+    name: 'key',
+    summary: 'add a new statement-signing key (old statements keep verifying) or list the keys',
+    load: async () => (await import('./commands/key.ts')).keyCommand,
   },
   {
     name: 'demo',

@@ -2,18 +2,21 @@ import { z } from 'zod';
 import { InvalidInput } from '../errors.ts';
 import { EPSILON_RULE, MAX_OPTIONS, makeExponentialDraw, type ExponentialDraw, type Neighbour } from '../mechanism/index.ts';
 
+/** Probabilities as the web shows them: a percentage with two decimals, e.g. 45.31%. */
+export const percent = (p: number): string => `${(p * 100).toFixed(2)}%`;
+
 /** Flags shared by draw, simulate and bounds. */
 export const mechanismFlagSpec = { epsilon: 'value', seats: 'value', neighbour: 'value', json: 'flag' } as const;
 
 const wholeNumber = (flag: string, min: number, max: number) =>
   z
-    .string({ error: `--${flag} needs a value` })
+    .string({ error: (issue) => (issue.input === undefined ? `--${flag} is missing: give a whole number from ${min} to ${max}` : `--${flag} needs a value`) })
     .regex(/^[0-9]+$/, { error: `--${flag} must be a whole number from ${min} to ${max}` })
     .transform(Number)
     .refine((n) => n >= min && n <= max, { error: `--${flag} must be a whole number from ${min} to ${max}` });
 
 export const mechanismFlagSchema = {
-  epsilon: z.string({ error: `--epsilon is required: ${EPSILON_RULE}` }),
+  epsilon: z.string({ error: `--epsilon is missing: ${EPSILON_RULE}` }),
   seats: wholeNumber('seats', 1, MAX_OPTIONS - 1).optional(),
   neighbour: z
     .enum(['replace', 'replace-one', 'add-remove'], { error: '--neighbour must be "replace" or "add-remove"' })

@@ -9,33 +9,60 @@ import {
   decodeInteger,
   encodeInteger,
   normaliseSymbols,
+  symbolValue,
 } from './crockford.ts';
+import { checkDigit, isValid } from './damm32.ts';
 
 /**
- * Ballot codes: 128 random bits, so guessing a live code is hopeless however many tries
- * are made (common practice for bearer secrets), written as 26 Crockford base32 symbols
- * plus one check symbol, 27 in all, displayed in groups of four.
+ * Ballot codes: 80 random bits written as 16 Crockford base32 symbols plus one check symbol
+ * from the same alphabet (damm32.ts), 17 letters and digits in all, shown as four groups
+ * (4-4-4-5, 20 characters with the hyphens). Only their keyed hash is stored, and the shared
+ * guess limits keep guessing hopeless (DEVELOPERS.md, "Ballot codes").
+ *
+ * Codes issued before this format (128 bits, 26 symbols plus Crockford's mod-37 check, which
+ * may be one of * ~ $ = U) are still accepted: the two formats differ in length.
  */
-export const CODE_BYTES = 16;
-const DATA_SYMBOLS = 26; // ceil(128 / 5); the first symbol carries only 3 bits
+export const CODE_BYTES = 10;
+const DATA_SYMBOLS = 16; // 80 / 5
 export const CODE_SYMBOLS = DATA_SYMBOLS + 1;
-const MAX_CODE = 1n << 128n;
+const GROUPS = [4, 4, 4, 5] as const;
+
+const LEGACY_BYTES = 16;
+const LEGACY_DATA_SYMBOLS = 26; // ceil(128 / 5); the first symbol carries only 3 bits
+export const LEGACY_CODE_SYMBOLS = LEGACY_DATA_SYMBOLS + 1;
+const LEGACY_MAX = 1n << 128n;
 
 export interface BallotCode {
-  /** What the member sees: groups of four separated by hyphens. */
+  /** What the member sees: 17 symbols in groups of 4-4-4-5, joined by hyphens. */
   display: string;
-  /** 27 upper-case symbols, no separators; input to the keyed hash. */
+  /** 17 upper-case symbols, no separators; input to the keyed hash. */
   canonical: string;
 }
 
+const digitsOf = (symbols: string): number[] => Array.from(symbols, (ch) => symbolValue(ch));
+
 export function canonicalFromBytes(bytes: Uint8Array): string {
-  if (bytes.byteLength !== CODE_BYTES) throw new RangeError('a code has 16 bytes');
+  if (bytes.byteLength !== CODE_BYTES) throw new RangeError('a code has 10 bytes');
+  const data = encodeInteger(bytesToBigInt(bytes), DATA_SYMBOLS);
+  return data + ALPHABET[checkDigit(digitsOf(data))]!;
+}
+
+/** The old 27-symbol form of 16 bytes; kept so that codes already handed out still read. */
+export function legacyCanonicalFromBytes(bytes: Uint8Array): string {
+  if (bytes.byteLength !== LEGACY_BYTES) throw new RangeError('a legacy code has 16 bytes');
   const v = bytesToBigInt(bytes);
-  return encodeInteger(v, DATA_SYMBOLS) + checkSymbol(v);
+  return encodeInteger(v, LEGACY_DATA_SYMBOLS) + checkSymbol(v);
 }
 
 export function formatCode(canonical: string): string {
-  return canonical.match(/.{1,4}/g)!.join('-');
+  if (canonical.length !== CODE_SYMBOLS) return canonical.match(/.{1,4}/g)!.join('-');
+  const parts: string[] = [];
+  let at = 0;
+  for (const size of GROUPS) {
+    parts.push(canonical.slice(at, at + size));
+    at += size;
+  }
+  return parts.join('-');
 }
 
 export function generateCode(random: RandomBytes): BallotCode {
@@ -46,25 +73,37 @@ export function generateCode(random: RandomBytes): BallotCode {
 }
 
 /**
- * Canonical form of a typed code. Wrong length or characters: CodeMalformed. Right shape
- * but the check symbol disagrees: CodeTypo, decided here before any database lookup.
+ * Canonical form of a typed code, in either format. Wrong length or characters: CodeMalformed.
+ * Right shape but the check symbol disagrees: CodeTypo, decided here before any database lookup.
  */
 export function normaliseCode(input: string): string {
   if (typeof input !== 'string' || input.length > 200) throw new CodeMalformed();
   const s = normaliseSymbols(input);
-  if (s.length !== CODE_SYMBOLS) throw new CodeMalformed();
-  const data = s.slice(0, DATA_SYMBOLS);
-  const check = s[DATA_SYMBOLS]!;
-  const v = decodeInteger(data);
+  if (s.length === CODE_SYMBOLS) {
+    const digits = digitsOf(s);
+    if (digits.some((d) => d < 0)) throw new CodeMalformed();
+    if (!isValid(digits)) throw new CodeTypo();
+    return s;
+  }
+  if (s.length === LEGACY_CODE_SYMBOLS) return normaliseLegacy(s);
+  throw new CodeMalformed();
+}
+
+function normaliseLegacy(s: string): string {
+  const v = decodeInteger(s.slice(0, LEGACY_DATA_SYMBOLS));
+  const check = s[LEGACY_DATA_SYMBOLS]!;
   if (v < 0n || !CHECK_ALPHABET.includes(check)) throw new CodeMalformed();
   if (checkSymbol(v) !== check) throw new CodeTypo();
   // Passing the check but above 2^128 cannot come from one slip of a real code.
-  if (v >= MAX_CODE) throw new CodeMalformed();
+  if (v >= LEGACY_MAX) throw new CodeMalformed();
   return s;
 }
 
-/** The 16 code bytes behind a canonical code (from normaliseCode). */
+/** The random bytes behind a canonical code (from normaliseCode): 10, or 16 for the old format. */
 export function codeBytes(canonical: string): Buffer {
+  if (canonical.length === LEGACY_CODE_SYMBOLS) {
+    return bigIntToBytes(decodeInteger(canonical.slice(0, LEGACY_DATA_SYMBOLS)), LEGACY_BYTES);
+  }
   return bigIntToBytes(decodeInteger(canonical.slice(0, DATA_SYMBOLS)), CODE_BYTES);
 }
 

@@ -23,6 +23,7 @@ export {
   RECEIPT_SYMBOLS,
 } from './codes.ts';
 export type { BallotCode } from './codes.ts';
+export { codeFromSeed, codesFromSeed, encodeBatchSeed, decodeBatchSeed, BATCH_SEED_BYTES } from './codeBatch.ts';
 export {
   encodeBallot,
   sealBallot,

@@ -4,7 +4,7 @@ import type { Db } from '../db/knex.ts';
  * Actions the public timeline shows. Everything else stays on the organiser's dashboard.
  * Details never hold secrets, codes, ballots or counts.
  */
-export const PUBLIC_ACTIONS = ['created', 'opened', 'closed', 'tallied', 'published', 'shredded'] as const;
+export const PUBLIC_ACTIONS = ['created', 'opened', 'closed', 'tallied', 'published', 'shredded', 'closing-extended', 'description-edited'] as const;
 
 export interface AuditEvent {
   electionId: string | null;

@@ -8,6 +8,8 @@ import { isTimeZone } from './time.ts';
 export interface DraftInput {
   title: string;
   description: string;
+  /** How members reach the organiser; optional, shown on the member pages that can leave them stuck. */
+  contact?: string;
   options: { label: string; description: string }[];
   seats: number;
   epsilon: string;
@@ -20,11 +22,17 @@ export interface DraftInput {
   retentionDays: number | null;
   /** null: the organiser gave no estimate (it only feeds the guidance). */
   expectedVoters: number | null;
+  /**
+   * The member group whose privacy ledger the draw is charged to, by name ("Rowing club members").
+   * Absent: the instance's default group on creation, unchanged on an edit.
+   */
+  memberGroup?: string;
 }
 
 export const DRAFT_LIMITS = Object.freeze({
   titleMax: 200,
   descriptionMax: 5000,
+  contactMax: 300,
   optionsMin: 2,
   optionsMax: 100,
   labelMax: 120,
@@ -32,6 +40,7 @@ export const DRAFT_LIMITS = Object.freeze({
   retentionMin: 1,
   retentionMax: 90,
   votersMax: 1_000_000,
+  groupMax: 120,
 });
 
 const L = DRAFT_LIMITS;
@@ -47,6 +56,7 @@ export const draftSchema = z
   .object({
     title: z.string().trim().min(1, 'Give the election a title.').max(L.titleMax, `Keep the title to ${L.titleMax} characters or fewer.`),
     description: z.string().trim().max(L.descriptionMax, `Keep the description to ${L.descriptionMax} characters or fewer.`),
+    contact: z.string().trim().max(L.contactMax, `Keep the contact line to ${L.contactMax} characters or fewer.`).optional(),
     options: z
       .array(option)
       .min(L.optionsMin, `Give at least ${L.optionsMin} options.`)
@@ -70,6 +80,12 @@ export const draftSchema = z
       .min(1, 'Expect at least 1 voter.')
       .max(L.votersMax, `We support up to ${L.votersMax.toLocaleString('en')} voters.`)
       .nullable(),
+    memberGroup: z
+      .string()
+      .trim()
+      .min(1, 'Name the group of members who vote, such as “Rowing club members”.')
+      .max(L.groupMax, `Keep the group name to ${L.groupMax} characters or fewer.`)
+      .optional(),
   })
   .superRefine((d, issue) => {
     const seen = new Map<string, number>();

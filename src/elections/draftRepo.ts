@@ -1,11 +1,13 @@
 import type { Db } from '../db/knex.ts';
 import type { DraftInput } from './draft.ts';
+import { DEFAULT_GROUP_NAME, groupIdFor } from './ledgerRepo.ts';
 
 /** Column values of the draft settings; options are written separately, by position. */
 function draftColumns(d: DraftInput) {
   return {
     title: d.title,
     description: d.description,
+    contact: d.contact ?? '',
     seats: d.seats,
     epsilon: d.epsilon,
     neighbour: d.neighbour,
@@ -27,6 +29,7 @@ export async function insertDraft(
     owner_id: row.ownerId,
     state: 'draft',
     ...draftColumns(row.draft),
+    group_id: await groupIdFor(db, row.draft.memberGroup ?? DEFAULT_GROUP_NAME, row.at),
     public_key: row.publicKey,
     wrapped_key: JSON.stringify(row.wrappedKey),
     created_at: row.at,
@@ -36,7 +39,8 @@ export async function insertDraft(
 }
 
 export async function updateDraftRow(db: Db, id: string, draft: DraftInput, at: Date): Promise<void> {
-  await db('elections').where({ id, state: 'draft' }).update({ ...draftColumns(draft), updated_at: at });
+  const group = draft.memberGroup === undefined ? {} : { group_id: await groupIdFor(db, draft.memberGroup, at) };
+  await db('elections').where({ id, state: 'draft' }).update({ ...draftColumns(draft), ...group, updated_at: at });
   await db('options').where({ election_id: id }).delete();
   await writeOptions(db, id, draft.options);
 }
@@ -52,25 +56,32 @@ export interface ElectionSummary {
   state: string;
   opensAt: Date;
   closesAt: Date;
+  openedAt: Date | null;
+  closedAt: Date | null;
   timeZone: string;
   createdAt: Date;
   tallyStartedAt: Date | null;
   resultVisibleAt: Date | null;
 }
 
-export async function listOwnElections(db: Db, ownerId: string): Promise<ElectionSummary[]> {
+/** The organiser's own elections and those shared with them (shared: true), newest first. */
+export async function listOwnElections(db: Db, ownerId: string): Promise<(ElectionSummary & { shared: boolean })[]> {
   const rows = await db('elections')
     .where({ owner_id: ownerId })
+    .orWhereIn('id', db('election_organisers').where({ organiser_id: ownerId }).select('election_id'))
     .orderBy([{ column: 'created_at', order: 'desc' }, { column: 'id' }])
-    .select('id', 'title', 'state', 'opens_at', 'closes_at', 'time_zone', 'created_at', 'tally_started_at', 'result_visible_at');
+    .select('id', 'owner_id', 'title', 'state', 'opens_at', 'closes_at', 'opened_at', 'closed_at', 'time_zone', 'created_at', 'tally_started_at', 'result_visible_at');
   return rows.map((r) => ({
     id: r.id,
     title: r.title,
     state: r.state,
     opensAt: new Date(r.opens_at),
     closesAt: new Date(r.closes_at),
+    openedAt: r.opened_at ? new Date(r.opened_at) : null,
+    closedAt: r.closed_at ? new Date(r.closed_at) : null,
     timeZone: r.time_zone,
     createdAt: new Date(r.created_at),
+    shared: r.owner_id !== ownerId,
     tallyStartedAt: r.tally_started_at ? new Date(r.tally_started_at) : null,
     resultVisibleAt: r.result_visible_at ? new Date(r.result_visible_at) : null,
   }));

@@ -158,3 +158,25 @@ export class NoCodesIssued extends VeiltallyError {
     super('Issue at least one ballot code before opening: without a code, nobody can vote.');
   }
 }
+
+/** Opening would take the member group past its annual ε budget, and the configuration does not allow it. */
+export class OverBudget extends VeiltallyError {
+  readonly code = 'OverBudget';
+  override readonly status = 409;
+  constructor(groupName: string, projected: string, budget: string) {
+    super(
+      `Opening this election would bring “${groupName}” to ε = ${projected} for how members voted over 12 months, ` +
+        `past the annual budget of ε = ${budget}. Wait until older draws leave the 12-month window, lower ε, ` +
+        'or ask the operator to allow going over the budget (VEILTALLY_ALLOW_OVER_BUDGET).',
+    );
+  }
+}
+
+/** A code batch asked for again that this election never issued (or of another size). */
+export class CodeBatchUnknown extends VeiltallyError {
+  readonly code = 'CodeBatchUnknown';
+  override readonly status = 404;
+  constructor() {
+    super('Those ballot codes were not issued for this election, so there is nothing to download. Issue new codes instead.');
+  }
+}

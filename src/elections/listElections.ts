@@ -7,7 +7,7 @@ import { electionStatus, type ElectionStatus } from './status.ts';
 export async function listElections(
   ctx: UseCaseContext,
   input: { organiserId: string },
-): Promise<(ElectionSummary & { status: ElectionStatus })[]> {
+): Promise<(ElectionSummary & { status: ElectionStatus; shared: boolean })[]> {
   const now = ctx.now();
   const rows = await listOwnElections(ctx.knex, input.organiserId);
   return rows.map((r) => ({ ...r, status: electionStatus({ ...r, state: r.state as Election['state'] }, now) }));

@@ -21,6 +21,7 @@ export const FIXTURE_PASSWORD = 'oars and rudders and tea';
 export interface FixtureOptions {
   title?: string;
   description?: string;
+  contact?: string;
   options?: { label: string; description?: string }[];
   seats?: number;
   epsilon?: string;
@@ -30,6 +31,7 @@ export interface FixtureOptions {
   timeZone?: string;
   publishTurnout?: boolean;
   codes?: number;
+  memberGroup?: string;
 }
 
 export interface ElectionFixture {
@@ -62,6 +64,7 @@ export async function createDraft(ctx: UseCaseContext, organiserId: string, o: F
     draft: {
       title: o.title ?? 'Name the new coxed four',
       description: o.description ?? 'The club has a new boat.\nTick every name you would be happy to row under.',
+      contact: o.contact ?? '',
       options,
       seats: o.seats ?? 1,
       epsilon: o.epsilon ?? '1',
@@ -72,6 +75,7 @@ export async function createDraft(ctx: UseCaseContext, organiserId: string, o: F
       publishTurnout: o.publishTurnout ?? false,
       retentionDays: null,
       expectedVoters: 20,
+      ...(o.memberGroup === undefined ? {} : { memberGroup: o.memberGroup }),
     },
   });
   const { codes } = await issueCodes(ctx, { electionId: id, organiserId, count: o.codes ?? 6 });

@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { describeBounds, MAX_OPTIONS, RANDOM_WINNER_CAUTION } from '../../mechanism/index.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
-import { drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, wholeNumber } from '../mechanismFlags.ts';
+import { drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
 import { formatTable, jsonOut, wrap } from '../table.ts';
 
 const spec = { ...mechanismFlagSpec, options: 'value', beta: 'value' } as const;
@@ -53,7 +53,7 @@ export const boundsCommand: Command = {
         '\n' +
         formatTable(
           ['Lead (approvals)', 'Leader drawn with probability at least'],
-          b.marginTable.map((r) => [r.margin, r.minProbability.toFixed(4)]),
+          b.marginTable.map((r) => [r.margin, percent(r.minProbability)]),
         ) +
         '\n' +
         wrap(`Needed lead: ${b.marginFor['0.9']} for 90%, ${b.marginFor['0.95']} for 95%, ${b.marginFor['0.99']} for 99%.`) +

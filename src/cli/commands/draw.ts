@@ -5,12 +5,21 @@ import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
 import { drawFromFlags, mechanismFlagSchema, mechanismFlagSpec } from '../mechanismFlags.ts';
 import { renderStatement } from '../statementText.ts';
-import { formatTable, jsonOut } from '../table.ts';
+import { formatTable, jsonOut, wrap } from '../table.ts';
+
+/**
+ * Said to the person running `draw`: they hold the ballots, so the counts are theirs to see;
+ * the output leaves them out so it can be passed on or published as it is.
+ */
+export const HOLDER_NOTE =
+  'You hold the ballot file, so you can count the approvals yourself; that is yours to know. ' +
+  'This output leaves the counts out on purpose, so you can share or publish it as it is. ' +
+  'Publishing the counts alongside it, or drawing again until you like the result, would undo the privacy promise above: draw once, and keep the file private.';
 
 const spec = { ...mechanismFlagSpec, ballots: 'value', title: 'value', 'publish-turnout': 'flag' } as const;
 const schema = z.object({
   ...mechanismFlagSchema,
-  ballots: z.string({ error: '--ballots FILE is required (a .csv or .cat file)' }),
+  ballots: z.string({ error: '--ballots FILE is missing: give the file of ballots (a .csv or .cat file)' }),
   title: z.string().max(200, { error: '--title must be at most 200 characters' }).optional(),
   'publish-turnout': z.literal(true).optional(),
 });
@@ -19,8 +28,10 @@ const usage = `Usage: veiltally draw --ballots FILE --epsilon E [--seats K] [--n
                       [--title TEXT] [--publish-turnout] [--json]
 
 Draws the winners of an approval vote collected on paper or elsewhere, with the
-exact exponential mechanism, and prints them with the privacy statement. It
-never prints approval counts.
+exact exponential mechanism, and prints them with the privacy statement. You hold
+the ballots and can count them yourself; the output never prints the counts, so it
+can be shared as it is. Draw once: drawing again until you like the result breaks
+the promise the statement makes. Seats are numbered from 1 in the order drawn.
 
   --ballots FILE      CSV (header row of option labels; one ballot per row; 1, yes or x
                       approves, 0 or empty does not) or PrefLib categorical (.cat)
@@ -58,6 +69,7 @@ export const drawCommand: Command = {
       io.stdout(formatTable(['Seat', 'Winner'], statement.winners.map((w, i) => [i + 1, w])) + '\n');
     }
     io.stdout(renderStatement(statement));
+    io.stdout('\n' + wrap(HOLDER_NOTE));
     return 0;
   },
 };

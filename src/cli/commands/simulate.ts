@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { cryptoRandom, parseEpsilon } from '../../mechanism/index.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
-import { drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, wholeNumber } from '../mechanismFlags.ts';
+import { drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
 import { formatTable, jsonOut, wrap } from '../table.ts';
 
 export const MAX_RUNS = 1_000_000;
@@ -11,7 +11,7 @@ const spec = { ...mechanismFlagSpec, scores: 'value', runs: 'value' } as const;
 const schema = z.object({
   ...mechanismFlagSchema,
   scores: z
-    .string({ error: '--scores is required, e.g. --scores 40,35,20' })
+    .string({ error: '--scores is missing: give hypothetical approval counts, e.g. --scores 40,35,20' })
     .regex(/^[0-9]{1,15}(,[0-9]{1,15})*$/, { error: '--scores must be whole numbers separated by commas, e.g. 40,35,20' })
     .transform((s) => s.split(',').map(Number)),
   runs: wholeNumber('runs', 1, MAX_RUNS),
@@ -22,7 +22,8 @@ const usage = `Usage: veiltally simulate --scores 40,35,20 --epsilon E [--seats 
 
 Planning aid: runs the real exact sampler N times (N ≤ ${MAX_RUNS.toLocaleString('en-GB')}) on hypothetical
 approval counts and compares how often each option won the first seat with the exact
-probability (shown for single-seat draws only).
+probability (shown for single-seat draws only). Options are numbered from 1 in the order
+of --scores; probabilities are percentages (--json gives fractions).
 
 The winner is drawn at random, weighted toward the most approved options.`;
 
@@ -39,8 +40,9 @@ export const simulateCommand: Command = {
       const first = draw.draw(flags.scores, cryptoRandom)[0] as number;
       wins[first] = (wins[first] ?? 0) + 1;
     }
+    // Options are numbered from 1, as on the ballot and the result page.
     const options = flags.scores.map((score, index) => ({
-      index,
+      option: index + 1,
       score,
       exactProbability: exact ? (exact[index] as number) : null,
       observedFrequency: (wins[index] as number) / flags.runs,
@@ -55,7 +57,7 @@ export const simulateCommand: Command = {
         '\n' +
         formatTable(
           ['Option', 'Score', 'Exact probability', 'Observed frequency'],
-          options.map((o) => [o.index, o.score, o.exactProbability === null ? '-' : o.exactProbability.toFixed(4), o.observedFrequency.toFixed(4)]),
+          options.map((o) => [o.option, o.score, o.exactProbability === null ? '-' : percent(o.exactProbability), percent(o.observedFrequency)]),
         ) +
         '\n' +
         wrap('The winner is drawn at random, weighted toward the most approved options; these scores are hypothetical.'),

@@ -2,6 +2,11 @@ import { z } from 'zod';
 import type { Election } from '../../elections/electionRepo.ts';
 import { InvalidBallot } from '../../elections/errors.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
+import { votingTimes } from '../../elections/votingTimes.ts';
+import { describeParties, makeExponentialDraw, type PartyText } from '../../mechanism/index.ts';
+
+/** Members are told the longest preview the product allows; a shorter configured one only publishes sooner. */
+const PREVIEW_HOURS_PROMISED = 48;
 
 /** Where a member is in the three steps; error pages word themselves by it. */
 export type VoteStep = 'code' | 'ballot' | 'confirm' | 'cast';
@@ -23,11 +28,19 @@ export interface VotingElectionView {
   opensAt: ShownTime;
   closesAt: ShownTime;
   window: VotingWindow;
+  /** When voting really ended (an early close, or the closing time once passed); null while open. */
+  closedAt: ShownTime | null;
+  /** The result is public: the ballot link then says so and points to it. */
+  published: boolean;
+  /** How to reach the organiser, as they wrote it; empty when they gave none. */
+  contact: string;
   voteUrl: string;
   resultsUrl: string;
   /** Short sentences shown before voting: how the result will be drawn. */
   howDrawn: string[];
   caution: string;
+  /** What members, the public and the organiser can each learn: read before voting. */
+  parties: PartyText[];
 }
 
 /** Drafts are handled before this: members never see them (they answer 404). */
@@ -52,6 +65,11 @@ export const DRAW_CAUTION =
   'With few voters or a small ε, chance plays a larger part, so a less approved option may well be drawn. ' +
   'Your organisation adopted this way of choosing before the vote, in line with its bylaws and local election law.';
 
+function closedAtOf(e: Election, now: Date): ShownTime | null {
+  const closed = votingTimes(e, now).closed;
+  return closed ? shownTime(closed, e.timeZone) : null;
+}
+
 export function votingElectionView(e: Election, now: Date): VotingElectionView {
   return {
     id: e.id,
@@ -63,10 +81,18 @@ export function votingElectionView(e: Election, now: Date): VotingElectionView {
     opensAt: shownTime(e.opensAt, e.timeZone),
     closesAt: shownTime(e.closesAt, e.timeZone),
     window: votingWindow(e, now),
+    closedAt: closedAtOf(e, now),
+    published: e.state === 'published',
+    contact: e.contact,
     voteUrl: `/vote/${e.id}`,
     resultsUrl: `/results/${e.id}`,
     howDrawn: howDrawn(e),
     caution: DRAW_CAUTION,
+    parties: describeParties(makeExponentialDraw({ epsilon: e.epsilon, options: e.options.length, seats: e.seats, neighbour: e.neighbour }).privacy, {
+      neighbour: e.neighbour,
+      publishTurnout: e.publishTurnout,
+      previewHours: PREVIEW_HOURS_PROMISED,
+    }),
   };
 }
 

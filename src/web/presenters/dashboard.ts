@@ -2,6 +2,7 @@ import type { Dashboard } from '../../elections/dashboard.ts';
 import type { AuditRow } from '../../elections/audit.ts';
 import { STATUS_LABELS, canCloseEarly, canTally, isEditable } from '../../elections/status.ts';
 import { describeDuration, describeInstant, shortInstant } from '../../elections/timeText.ts';
+import { votingTimes } from '../../elections/votingTimes.ts';
 import { drawWarning, electorateWarning, noticeClass, protectionWarning, type DrawWarning, type ElectorateWarning, type ProtectionWarning } from './electorate.ts';
 import { makeExponentialDraw } from '../../mechanism/index.ts';
 
@@ -17,8 +18,10 @@ function timeNote(d: Dashboard): string {
       return `Voting opens in ${describeDuration(e.opensAt.getTime() - now)}, on ${describeInstant(e.opensAt, e.timeZone)}.`;
     case 'open':
       return `Voting closes in ${describeDuration(e.closesAt.getTime() - now)}, on ${describeInstant(e.closesAt, e.timeZone)}.`;
-    case 'voting-ended':
-      return `Voting ended${e.closedAt && e.closedAt < e.closesAt ? ' early' : ''}. Unlock the tally with your passphrase to draw the result.`;
+    case 'voting-ended': {
+      const t = votingTimes(e, d.now);
+      return `Voting ended${t.closedEarly ? ' early' : ''}${t.closed ? ` on ${describeInstant(t.closed, e.timeZone)}` : ''}. Unlock the tally with your passphrase to draw the result.`;
+    }
     case 'drawing':
       return 'The result is being drawn. It appears on the tally page at the next whole minute or soon after.';
     case 'tallied':
@@ -46,8 +49,31 @@ export function eventText(ev: AuditRow, zone: string): string {
     case 'tallied': return 'Unlocked the tally and drew the result';
     case 'published': return 'Published the result';
     case 'shredded': return 'Shredded the election key and the sealed ballots';
+    case 'closing-extended':
+      return typeof d.closesAt === 'string' ? `Moved the closing time to ${describeInstant(new Date(d.closesAt), zone)}` : 'Moved the closing time';
+    case 'description-edited': return 'Changed the description during voting (shown on the public timeline)';
+    case 'wording-corrected': return `Corrected the wording before voting (${String(d.changed ?? '')})`;
+    case 'shared': return `Shared the election with ${String(d.with ?? 'another organiser')}`;
+    case 'unshared': return `Stopped sharing with ${String(d.with ?? 'an organiser')}`;
     default: return ev.action.replace(/-/g, ' ');
   }
+}
+
+/** Planned times until they are known, then the real ones (votingTimes), with the plan beside a change. */
+function timeSettings(d: Dashboard): { term: string; value: string }[] {
+  const e = d.election;
+  const zone = e.timeZone;
+  const t = votingTimes(e, d.now);
+  const opened = t.opened
+    ? { term: 'Voting opened', value: describeInstant(t.opened, zone) }
+    : { term: 'Voting opens', value: describeInstant(e.opensAt, zone) };
+  const closed = t.closed
+    ? {
+        term: t.closedEarly ? 'Voting closed early' : 'Voting closed',
+        value: describeInstant(t.closed, zone) + (t.closedEarly ? ` (planned: ${describeInstant(e.closesAt, zone)})` : ''),
+      }
+    : { term: 'Voting closes', value: describeInstant(e.closesAt, zone) };
+  return [opened, closed];
 }
 
 /**
@@ -83,7 +109,10 @@ export interface DashboardView {
   /** Before the draw (close and tally pages): the chances for the turnout the organiser may see, else the expected electorate. */
   beforeDraw: DrawWarning | null;
   protection: ProtectionWarning | null;
-  can: { edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean; drawing: boolean };
+  can: {
+    edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean; drawing: boolean;
+    deleteDraft: boolean; extendClosing: boolean; correctWording: boolean;
+  };
   events: { iso: string; when: string; who: string; what: string }[];
   resultsPath: string;
   timeZone: string;
@@ -122,8 +151,7 @@ export function dashboardView(d: Dashboard): DashboardView {
       { term: 'Privacy level', value: `ε = ${e.epsilon}` },
       { term: 'What ε protects', value: protects },
       { term: 'Expected voters', value: e.expectedVoters === null ? 'not given' : e.expectedVoters.toLocaleString('en') },
-      { term: 'Voting opens', value: describeInstant(e.opensAt, e.timeZone) },
-      { term: 'Voting closes', value: describeInstant(e.closesAt, e.timeZone) },
+      ...timeSettings(d),
       { term: 'Turnout', value: e.publishTurnout ? 'Published as an exact, unprotected count' : 'Not published' },
       { term: 'After publication', value: e.retentionDays === null ? 'Key and sealed ballots shredded at once' : `Kept sealed for ${plural(e.retentionDays, 'day')}, then shredded` },
     ],
@@ -141,6 +169,9 @@ export function dashboardView(d: Dashboard): DashboardView {
       publish: d.status === 'tallied',
       seeResult: d.status === 'tallied' || d.status === 'published',
       drawing: d.status === 'drawing',
+      deleteDraft: e.state === 'draft',
+      extendClosing: e.state === 'open' && d.now < e.closesAt,
+      correctWording: e.state === 'open' && d.now < e.closesAt,
     },
     events: [...d.events].reverse().map((ev) => ({
       iso: ev.at.toISOString(),

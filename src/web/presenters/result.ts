@@ -6,6 +6,8 @@ import { describeStatement, makeExponentialDraw, type PrivacyStatement } from '.
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
+import { timelineView, type TimelineEntry } from './timeline.ts';
+import { votingTimes } from '../../elections/votingTimes.ts';
 
 /**
  * The public result page's view model. Every sentence about the draw and its privacy comes
@@ -38,19 +40,7 @@ const NEIGHBOURS = {
   },
 } as const;
 
-const TIMELINE: Record<string, string> = {
-  created: 'Election set up',
-  opened: 'Voting opened',
-  closed: 'Voting closed',
-  tallied: 'Result drawn: sealed ballots counted and the winners drawn',
-  published: 'Result published',
-  shredded: 'Sealed ballots and the tally key destroyed',
-};
-
-export interface TimelineEntry {
-  label: string;
-  at: ShownTime;
-}
+export type { TimelineEntry } from './timeline.ts';
 
 /** One option as the result page lists it: ballot order, and whether (and in which draw) it was drawn. */
 export interface ResultOption {
@@ -73,6 +63,7 @@ export interface PublishedResultView {
   /** For several seats: that the order is the draw order, not a ranking. */
   orderNote: string | null;
   winnersHeading: string;
+  /** order: "Drawn 1st"… for several seats, empty for one. */
   winnerEntries: { order: string; label: string }[];
   options: ResultOption[];
   chart: ResultChart | null;
@@ -113,12 +104,6 @@ export interface ResultPageView {
   result: PublishedResultView | null;
 }
 
-export function timelineView(events: readonly AuditRow[], timeZone: string, now?: Date): TimelineEntry[] {
-  // Only the action and time are shown; details are for the organiser's record. The draw is
-  // stamped with the whole minute it becomes visible, so it is listed from that minute on.
-  return events.filter((ev) => ev.action in TIMELINE && (now === undefined || ev.at <= now)).map((ev) => ({ label: TIMELINE[ev.action]!, at: shownTime(ev.at, timeZone) }));
-}
-
 const ORDINALS = ['1st', '2nd', '3rd'];
 export const ordinal = (n: number): string => (n <= 3 ? ORDINALS[n - 1]! : `${n}th`);
 
@@ -156,7 +141,7 @@ function resultChart(s: { epsilon: string; optionLabels: string[]; seats: number
     title: `Lead needed against the chance that ${who} is drawn${s.seats === 1 ? '' : ', for each seat'}`,
     desc:
       `For ε = ${draw.epsilon.text}, ${s.optionLabels.length} options and ${s.seats} ${s.seats === 1 ? 'seat' : 'seats'}: ` +
-      `with a lead of ${m95} approvals over every other option the chance is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
+      `with a lead of ${m95} ${m95 === 1 ? 'approval' : 'approvals'} over every other option the chance is at least 95%; with ${b.marginFor['0.99']} it is at least 99%.`,
   });
   return {
     chart,
@@ -184,7 +169,7 @@ export function publishedResultView(stored: unknown): PublishedResultView {
         ? 'Listed in the order they were drawn. This order is not a ranking: the option drawn first did not necessarily have more approvals than the others.'
         : null,
     winnersHeading: seats === 1 ? 'The winner' : `The ${seats} options drawn, in draw order`,
-    winnerEntries: statement.winners.map((label, i) => ({ order: seats === 1 ? 'Drawn' : `Drawn ${ordinal(i + 1)}`, label })),
+    winnerEntries: statement.winners.map((label, i) => ({ order: seats === 1 ? '' : `Drawn ${ordinal(i + 1)}`, label })),
     options: statement.optionLabels.map((label) => ({ label, drawn: drawnAs(label) })),
     chart: noBallots ? null : resultChart(statement),
     paragraphs: text.paragraphs,
@@ -207,7 +192,7 @@ export function publishedResultView(stored: unknown): PublishedResultView {
 
 export function resultPageView(e: Election, events: readonly AuditRow[], now: Date): ResultPageView {
   const published = e.state === 'published';
-  const closedAt = e.closedAt ?? (votingWindow(e, now) === 'closed' ? e.closesAt : null);
+  const closedAt = votingTimes(e, now).closed;
   return {
     id: e.id,
     title: e.title,
@@ -221,7 +206,7 @@ export function resultPageView(e: Election, events: readonly AuditRow[], now: Da
     tallied: e.state === 'tallied' && !resultHidden(e, now),
     publishDueAt: e.state === 'tallied' && !resultHidden(e, now) && e.publishDueAt ? shownTime(e.publishDueAt, e.timeZone) : null,
     caution: DRAW_CAUTION,
-    timeline: timelineView(events, e.timeZone, now),
+    timeline: timelineView(events, e, now),
     result: published ? publishedResultView(e.result) : null,
   };
 }

@@ -7,6 +7,7 @@ import { codeHash, generateCode, normaliseCode } from '../../../src/custody/inde
 import { castBallot } from '../../../src/elections/castBallot.ts';
 import type { UseCaseContext } from '../../../src/elections/context.ts';
 import { openElection } from '../../../src/elections/openElection.ts';
+import { decodeQr } from '../../helpers/qr.ts';
 import { csrfFrom, draftElection, makeOrganiser, organiseContext, postForm, signedIn } from './organiseSupport.ts';
 
 // http, so supertest (plain http) gets the ordinary session cookie rather than a Secure one.
@@ -50,8 +51,15 @@ describe.each(engines)('organiser ballot codes [%s]', (engine) => {
     expect(res.text).toContain('Codes are shown only once');
   });
 
-  it('issues codes as a CSV download with columns code, ballot_url', async () => {
-    const res = await issue({ count: '3', format: 'csv' });
+  it('issues codes for a CSV file: a page with the current count, then the download with columns code, ballot_url', async () => {
+    const issued = await issue({ count: '3', format: 'csv' });
+    expect(issued.status).toBe(200);
+    expect(issued.headers['cache-control']).toBe('no-store');
+    // The count on the page the organiser stays on already includes the new batch.
+    expect(issued.text).toContain('This election now has 3 ballot codes issued');
+    expect(issued.text).toContain('3 new codes were issued');
+    const batch = /name="batch" value="([A-Za-z0-9_-]{43})"/.exec(issued.text)![1]!;
+    const res = await postForm(agent, page(), `${page()}/csv`, { batch, count: '3' });
     expect(res.status).toBe(200);
     expect(res.headers['content-type']).toBe('text/csv; charset=utf-8');
     expect(res.headers['content-disposition']).toMatch(/^attachment; filename="?ballot-codes-tenants-repair-fund-\d{8}-\d{4}\.csv"?$/);
@@ -63,10 +71,42 @@ describe.each(engines)('organiser ballot codes [%s]', (engine) => {
     const rows = lines.slice(1, 4).map((l) => l.split(','));
     csvCodes = rows.map((r) => r[0]!);
     for (const [code, url] of rows) {
-      // 26 Crockford symbols and one mod-37 check symbol (which may be * ~ $ = U), in groups of four.
-      expect(code).toMatch(/^[0-9A-Z]{4}(-[0-9A-Z]{4}){5}-[0-9A-Z]{2}[0-9A-Z*~$=]$/);
+      // 16 Crockford symbols and one check symbol from the same alphabet, grouped 4-4-4-5.
+      expect(code).toMatch(/^[0-9A-HJKMNP-TV-Z]{4}(-[0-9A-HJKMNP-TV-Z]{4}){2}-[0-9A-HJKMNP-TV-Z]{5}$/);
       expect(url).toBe(`${PUBLIC_URL}/vote/${id}`);
     }
+    // The download issues nothing more, and the same batch downloads the same codes.
+    expect((await db.knex('ballot_codes').where({ election_id: id })).length).toBe(3);
+    const again = await postForm(agent, page(), `${page()}/csv`, { batch, count: '3' });
+    expect(again.text).toBe(res.text.replace(/\r\n$/, '\r\n'));
+  });
+
+  it('downloads only batches this election issued, of the size issued', async () => {
+    const issued = await issue({ count: '2', format: 'csv' });
+    const batch = /name="batch" value="([A-Za-z0-9_-]{43})"/.exec(issued.text)![1]!;
+    await db.knex('ballot_codes').where({ election_id: id }).delete(); // forget them, as if never issued
+    for (const fields of [
+      { batch, count: '2' },
+      { batch: 'A'.repeat(43), count: '2' },
+      { batch: 'not a batch', count: '2' },
+    ]) {
+      const res = await postForm(agent, page(), `${page()}/csv`, fields);
+      expect(res.status).toBe(404);
+      expect(res.headers['content-type']).toMatch(/^text\/html/);
+      expect(res.text).toContain('nothing to download');
+    }
+  });
+
+  it('refuses a batch asked for with more codes than it had', async () => {
+    const issued = await issue({ count: '2', format: 'csv' });
+    const batch = /name="batch" value="([A-Za-z0-9_-]{43})"/.exec(issued.text)![1]!;
+    expect((await postForm(agent, page(), `${page()}/csv`, { batch, count: '1' })).status).toBe(404);
+    expect((await postForm(agent, page(), `${page()}/csv`, { batch, count: '2' })).status).toBe(200);
+    await db.knex('ballot_codes').where({ election_id: id }).delete();
+    const three = await issue({ count: '3', format: 'csv' });
+    const b3 = /name="batch" value="([A-Za-z0-9_-]{43})"/.exec(three.text)![1]!;
+    const res = await postForm(agent, page(), `${page()}/csv`, { batch: b3, count: '3' });
+    csvCodes = res.text.split('\r\n').slice(1, 4).map((l) => l.split(',')[0]!);
     // Stored only as keyed hashes: each issued code's hash is present, the code itself nowhere.
     const stored = await db.knex('ballot_codes').where({ election_id: id }).select('code_hash');
     expect(stored).toHaveLength(3);
@@ -84,16 +124,31 @@ describe.each(engines)('organiser ballot codes [%s]', (engine) => {
     const slips = res.text.match(/<li class="slip">/g) ?? [];
     expect(slips).toHaveLength(2);
     expect(res.text).toContain('Tenants’ repair fund');
-    expect(res.text.match(/class="slip-code code">([0-9A-Z*~$=-]{33})</g)).toHaveLength(2);
-    expect(res.text).toContain(`${PUBLIC_URL}/vote/${id}`);
+    expect(res.text.match(/class="slip-code code">([0-9A-Z-]{20})</g)).toHaveLength(2);
     expect(res.text).toContain('shown only this once');
+    // A short address to type, which leads to the ballot page, and a QR code on every slip.
+    const short = new RegExp(`${PUBLIC_URL}/v/([0-9a-z]{8})`).exec(res.text)![1]!;
+    const followed = await agent.get(`/v/${short.toUpperCase()}`);
+    expect(followed.status).toBe(303);
+    expect(followed.headers.location).toBe(`/vote/${id}`);
+    expect((await agent.get('/v/00000000')).status).toBe(404);
+    expect((await agent.get('/v/not-a-ref')).status).toBe(404);
+    expect(res.text.match(/<img class="slip-qr" src="data:image\/png;base64,[A-Za-z0-9+/=]+"/g)).toHaveLength(2);
+    // Decoded with an independent QR reader (jsQR, over pngjs): the ballot address, never the code.
+    const png = /src="data:image\/png;base64,([A-Za-z0-9+/=]+)"/.exec(res.text)![1]!;
+    const decoded = decodeQr(Buffer.from(png, 'base64'));
+    expect(decoded).toBe(`${PUBLIC_URL}/vote/${id}`);
+    for (const code of res.text.match(/(?<=class="slip-code code">)[0-9A-Z-]{20}(?=<)/g)!) {
+      expect(decoded).not.toContain(code);
+      expect(decoded.toUpperCase()).not.toContain(normaliseCode(code));
+    }
   });
 
   it('issues codes as an on-screen list', async () => {
     const res = await issue({ count: '1', format: 'screen' });
     expect(res.status).toBe(200);
     expect(res.headers['cache-control']).toBe('no-store');
-    expect(res.text.match(/<td class="code">[0-9A-Z*~$=-]{33}<\/td>/g)).toHaveLength(1);
+    expect(res.text.match(/<td class="code">[0-9A-Z-]{20}<\/td>/g)).toHaveLength(1);
     const dash = await agent.get(`/organise/elections/${id}`);
     expect(dash.text).toContain('6 ballot codes issued');
     expect(dash.text).toContain('Issued 3 ballot codes');

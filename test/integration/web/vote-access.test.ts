@@ -57,15 +57,19 @@ describe.each(engines)('member voting, timing and access [%s]', (engine) => {
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
   });
 
-  it('unknown, malformed and draft election ids are 404 (drafts are not shown to members)', async () => {
+  it('unknown and malformed election ids are 404; a draft says it is not open yet and shows nothing of itself (409)', async () => {
     const draft = await createDraft(s.ctx, s.organiserId);
-    for (const id of ['00000000-0000-4000-8000-000000000000', 'not-an-id', draft.id]) {
+    for (const id of ['00000000-0000-4000-8000-000000000000', 'not-an-id']) {
       const res = await request(s.app).get(`/vote/${id}`).expect(404);
       expect(res.text).toContain('We could not find that election.');
     }
+    const res = await request(s.app).get(`/vote/${draft.id}`).expect(409);
+    expect(res.text).toContain('This ballot is not open yet');
     const { csrf, agent } = await begin(await openElectionFixture(s.ctx, s.organiserId));
-    await post(agent, `/vote/${draft.id}/ballot`, { _csrf: csrf, code: draft.codes[0]! }).expect(404);
-    await post(agent, `/vote/${draft.id}/cast`, { _csrf: csrf, code: draft.codes[0]!, approve: '0' }).expect(404);
+    for (const [step, fields] of [['ballot', {}], ['cast', { approve: '0' }]] as const) {
+      const r = await post(agent, `/vote/${draft.id}/${step}`, { _csrf: csrf, code: draft.codes[0]!, ...fields }).expect(409);
+      expect(r.text).toContain('This ballot is not open yet');
+    }
   });
 
   it('refuses every POST without a valid CSRF token (403) and casts nothing', async () => {

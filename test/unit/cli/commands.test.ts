@@ -22,6 +22,9 @@ describe('veiltally draw', () => {
     const prose = stdout.replace(/\s+/g, ' ');
     expect(prose).toContain('Caution: The winner is drawn at random, weighted toward the most approved options');
     for (const count of ['137', '241', '104', '250']) expect(stdout).not.toContain(count);
+    // It speaks to the person holding the ballots: the counts are theirs, the output leaves them out.
+    expect(prose).toContain('You hold the ballot file, so you can count the approvals yourself');
+    expect(prose).toContain('leaves the counts out on purpose');
   });
 
   it('--json gives {"winners": [...], "statement": {...}} and --publish-turnout adds the exact turnout', async () => {
@@ -55,8 +58,8 @@ describe('veiltally simulate', () => {
     const out = JSON.parse(stdout);
     expect(out.runs).toBe(runs);
     const exact = makeExponentialDraw({ epsilon: '0.1', options: 3, seats: 1, neighbour: 'replace-one' }).exactProbabilities([40, 35, 20]);
-    out.options.forEach((o: { index: number; score: number; exactProbability: number; observedFrequency: number }, i: number) => {
-      expect(o).toMatchObject({ index: i, score: [40, 35, 20][i] });
+    out.options.forEach((o: { option: number; score: number; exactProbability: number; observedFrequency: number }, i: number) => {
+      expect(o).toMatchObject({ option: i + 1, score: [40, 35, 20][i] }); // numbered from 1, as on the web
       expect(o.exactProbability).toBeCloseTo(exact[i]!, 12);
       // Six standard errors of a binomial proportion (normal approximation; common practice).
       expect(Math.abs(o.observedFrequency - o.exactProbability)).toBeLessThan(6 * Math.sqrt((o.exactProbability * (1 - o.exactProbability)) / runs));
@@ -74,6 +77,11 @@ describe('veiltally simulate', () => {
     const { stdout } = await runCli(['simulate', '--scores', '3,1', '--epsilon', '1', '--runs', '100']);
     expect(stdout).toMatch(/Option\s+Score\s+Exact probability\s+Observed frequency/);
     expect(stdout).toContain('hypothetical');
+    // Options numbered from 1, probabilities as percentages, like the web pages.
+    // Exact: e^(a·2)/(e^(a·2)+1) with a = ε/2 = 0.5, so e/(e+1) = 73.11% and 26.89%.
+    expect(stdout).toMatch(/^1\s+3\s+73\.11%\s+\d{1,3}\.\d{2}%$/m);
+    expect(stdout).toMatch(/^2\s+1\s+26\.89%\s+\d{1,3}\.\d{2}%$/m);
+    expect(stdout).not.toMatch(/^0\s/m);
   });
 });
 
@@ -93,9 +101,9 @@ describe('veiltally bounds', () => {
 
   it('prints the table, the needed leads and the caution', async () => {
     const { stdout } = await runCli(['bounds', '--options', '3', '--epsilon', '1']);
-    expect(stdout).toContain('minus 8.19');
+    expect(stdout.replace(/\s+/g, ' ')).toContain('minus 8.19');
     expect(stdout).toContain('Needed lead: 6 for 90%, 8 for 95%, 11 for 99%.');
-    expect(stdout).toMatch(/^16\s+0\.9993$/m);
+    expect(stdout).toMatch(/^16\s+99\.93%$/m);
     expect(stdout.replace(/\s+/g, ' ')).toContain('drawn at random, weighted toward the most approved options');
   });
 });

@@ -2,8 +2,10 @@ import crypto from 'node:crypto';
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import {
+  CODE_BYTES,
   canonicalFromBytes,
   codeBytes,
+  legacyCanonicalFromBytes,
   formatCode,
   generateCode,
   generateReceipt,
@@ -11,95 +13,186 @@ import {
   normaliseReceipt,
 } from '../../../src/custody/codes.ts';
 import { ALPHABET, CHECK_ALPHABET } from '../../../src/custody/crockford.ts';
+import { checkDigit, gfMul, isValid, quasigroup } from '../../../src/custody/damm32.ts';
 import { CodeMalformed, CodeTypo, ReceiptMalformed } from '../../../src/custody/errors.ts';
 
-// Crockford, "Base 32" (crockford.com/base32.html): alphabet, decoding of O/I/L, mod-37 check symbol.
-const zeroCode = canonicalFromBytes(Buffer.alloc(16));
-const oneCode = canonicalFromBytes(Buffer.from('00000000000000000000000000000001', 'hex'));
+// Crockford, "Base 32" (crockford.com/base32.html): alphabet and decoding of O/I/L (both formats),
+// and the mod-37 check symbol of the old 27-symbol format.
+const legacyZero = legacyCanonicalFromBytes(Buffer.alloc(16));
+const legacyOne = legacyCanonicalFromBytes(Buffer.from('00000000000000000000000000000001', 'hex'));
+const random = (n: number) => crypto.randomBytes(n);
+
+/** Every code one slip away: each single substitution by another alphabet symbol, each adjacent swap. */
+function oneSlipAway(code: string, alphabet: string): { substitutions: string[]; transpositions: string[] } {
+  const substitutions: string[] = [];
+  for (let pos = 0; pos < code.length; pos++) {
+    for (const r of alphabet) if (r !== code[pos]) substitutions.push(code.slice(0, pos) + r + code.slice(pos + 1));
+  }
+  const transpositions: string[] = [];
+  for (let pos = 0; pos + 1 < code.length; pos++) {
+    if (code[pos] !== code[pos + 1]) transpositions.push(code.slice(0, pos) + code[pos + 1] + code[pos] + code.slice(pos + 2));
+  }
+  return { substitutions, transpositions };
+}
+
+describe('the check over 32 symbols (damm32)', () => {
+  it('is a quasigroup: every row and every column of the 32×32 table is a permutation', () => {
+    for (let x = 0; x < 32; x++) {
+      expect(new Set(Array.from({ length: 32 }, (_, y) => quasigroup(x, y))).size).toBe(32);
+      expect(new Set(Array.from({ length: 32 }, (_, y) => quasigroup(y, x))).size).toBe(32);
+    }
+  });
+
+  it('is totally anti-symmetric, checked over all 32³ triples: (c∗x)∗y = (c∗y)∗x only when x = y', () => {
+    let clashes = 0;
+    for (let c = 0; c < 32; c++)
+      for (let x = 0; x < 32; x++)
+        for (let y = 0; y < 32; y++) if (x !== y && quasigroup(quasigroup(c, x), y) === quasigroup(quasigroup(c, y), x)) clashes++;
+    expect(clashes).toBe(0);
+  });
+
+  it('multiplies in GF(2⁵) by hand-checkable examples (x⁵ = x² + 1)', () => {
+    expect(gfMul(2, 16)).toBe(0b00101); // x·x⁴ = x⁵ = x² + 1
+    expect(gfMul(1, 29)).toBe(29);
+    expect(gfMul(3, 3)).toBe(5); // (x+1)² = x² + 1
+    // α = x is primitive: its powers run through all 31 non-zero elements.
+    const powers = new Set<number>();
+    let p = 1;
+    for (let i = 0; i < 31; i++) {
+      powers.add(p);
+      p = gfMul(2, p);
+    }
+    expect(powers.size).toBe(31);
+    expect(p).toBe(1);
+  });
+
+  it('appends a check that makes the running value 0, and a different symbol makes it non-zero', () => {
+    // Hand-worked: digits [1] → r = 2·0 + 1 = 1, check = 2·1 = 2; then r = 2·1 + 2 = 0.
+    expect(checkDigit([1])).toBe(2);
+    expect(isValid([1, 2])).toBe(true);
+    expect(isValid([1, 3])).toBe(false);
+  });
+});
 
 describe('ballot codes', () => {
-  it('encodes by hand-checkable examples: 0 → all zeros, check 0; 1 → …1, check 1; 37 → …15, check 0', () => {
-    expect(zeroCode).toBe('0'.repeat(27));
-    expect(oneCode).toBe('0'.repeat(25) + '11');
-    // 37 = 1·32 + 5, and 37 mod 37 = 0
-    expect(canonicalFromBytes(Buffer.from('00000000000000000000000000000025', 'hex'))).toBe('0'.repeat(24) + '150');
-    // 2^128 − 1 mod 37: 2^36 ≡ 1 (mod 37) by Fermat, so 2^128 = 2^(36·3+20) ≡ 2^20 = 1048576
-    // = 37·28339 + 33 ≡ 33; 2^128 − 1 ≡ 32 → the first extra check symbol '*'. Top symbol holds 3 bits: '7'.
-    expect(canonicalFromBytes(Buffer.alloc(16, 0xff))).toBe('7' + 'Z'.repeat(25) + '*');
+  it('encodes by hand-checkable examples: ten zero bytes → sixteen zeros and check 0', () => {
+    expect(canonicalFromBytes(Buffer.alloc(10))).toBe('0'.repeat(17));
+    // 1 → fifteen 0s then 1; running value 1, check 2·1 = 2.
+    expect(canonicalFromBytes(Buffer.from('00000000000000000001', 'hex'))).toBe('0'.repeat(15) + '12');
   });
 
-  it('shows 27 symbols in groups of four and reads its own display form back', () => {
-    const c = generateCode((n) => crypto.randomBytes(n));
-    expect(c.canonical).toMatch(/^[0-9A-HJKMNP-TV-Z]{26}[0-9A-HJKMNP-TV-Z*~$=U]$/);
-    expect(c.display).toMatch(/^([0-9A-Z*~$=]{4}-){6}[0-9A-Z*~$=]{3}$/);
+  it('is 17 letters and digits with at least 80 bits of randomness, shown as 4-4-4-5 (20 characters)', () => {
+    const c = generateCode(random);
+    expect(CODE_BYTES * 8).toBeGreaterThanOrEqual(80);
+    expect(c.canonical).toMatch(/^[0-9A-HJKMNP-TV-Z]{17}$/);
+    expect(c.display).toMatch(/^[0-9A-HJKMNP-TV-Z]{4}-[0-9A-HJKMNP-TV-Z]{4}-[0-9A-HJKMNP-TV-Z]{4}-[0-9A-HJKMNP-TV-Z]{5}$/);
+    expect(c.display.length).toBeLessThanOrEqual(20);
     expect(formatCode(c.canonical)).toBe(c.display);
     expect(normaliseCode(c.display)).toBe(c.canonical);
+    expect(codeBytes(c.canonical).length).toBe(10);
   });
 
+  it('round-trips the 10 bytes behind a code', () => {
+    const bytes = crypto.randomBytes(10);
+    expect(codeBytes(canonicalFromBytes(bytes)).equals(bytes)).toBe(true);
+  });
+
+  const one = canonicalFromBytes(Buffer.from('00000000000000000001', 'hex')); // 000000000000000 12
   it.each([
-    ['lower case', '0000-0000-0000-0000-0000-0000-011'.toLowerCase(), oneCode],
-    ['spaces instead of hyphens', '0000 0000 0000 0000 0000 0000 011', oneCode],
-    ['no separators', '000000000000000000000000011', oneCode],
-    ['O for zero', 'OOOO-oooo-0000-0000-0000-0000-011', oneCode],
-    ['I for one', '0000-0000-0000-0000-0000-0000-0I1', oneCode],
-    ['l for one', '0000-0000-0000-0000-0000-0000-0ll', oneCode],
-    ['stray spaces, tabs and hyphens', '  0000--0000\t0000 - 0000 0000 0000 011 ', oneCode],
+    ['lower case', '0000-0000-0000-00012', one],
+    ['spaces instead of hyphens', '0000 0000 0000 00012', one],
+    ['O and o for zero', 'OOOO-oooo-0000-00012', one],
+    ['I for one', '0000-0000-0000-000I2', one],
+    ['l for one', '0000-0000-0000-000l2', one],
+    ['stray spaces, tabs and hyphens', '  0000--0000\t0000 - 00012 ', one],
   ])('normalises %s', (_name, input, expected) => {
     expect(normaliseCode(input)).toBe(expected);
   });
 
   it.each([
-    ['too short', '0000-0000-0000-0000-0000-0000-01'],
-    ['too long', '0000-0000-0000-0000-0000-0000-0110'],
-    ['U in the data', 'U000-0000-0000-0000-0000-0000-011'],
-    ['punctuation', '0000.0000-0000-0000-0000-0000-011'],
-    ['a check-only symbol in the data', '*000-0000-0000-0000-0000-0000-011'],
-    ['2^128, one past the range, with a valid check', '8' + '0'.repeat(25) + '~'], // 2^128 ≡ 33 (above) → '~'
+    ['16 symbols', '0000-0000-0000-0001'],
+    ['18 symbols', '0000-0000-0000-000120'],
+    ['U', '0000-0000-0000-000U2'],
+    ['punctuation', '0000.0000-0000-00012'],
+    ['a check symbol of the old format', '0000-0000-0000-0001*'],
     ['empty', ''],
   ])('rejects %s as malformed', (_name, input) => {
     expect(() => normaliseCode(input)).toThrow(CodeMalformed);
   });
 
-  it('reports a wrong check symbol as a typo', () => {
-    expect(() => normaliseCode('0'.repeat(25) + '12')).toThrow(CodeTypo);
-    expect(() => normaliseCode('0'.repeat(25) + '1U')).toThrow(CodeTypo);
+  it('catches EXHAUSTIVELY every single substitution and every adjacent transposition of 200 random codes and of edge codes', () => {
+    const samples = [
+      canonicalFromBytes(Buffer.alloc(10)),
+      canonicalFromBytes(Buffer.alloc(10, 0xff)),
+      one,
+      ...Array.from({ length: 200 }, () => generateCode(random).canonical),
+    ];
+    let substitutions = 0;
+    let transpositions = 0;
+    for (const code of samples) {
+      const slips = oneSlipAway(code, ALPHABET);
+      expect(slips.substitutions.length).toBe(17 * 31);
+      for (const typed of slips.substitutions) expect(() => normaliseCode(typed)).toThrow(CodeTypo);
+      for (const typed of slips.transpositions) expect(() => normaliseCode(typed)).toThrow(CodeTypo);
+      substitutions += slips.substitutions.length;
+      transpositions += slips.transpositions.length;
+    }
+    expect(substitutions).toBe(203 * 17 * 31);
+    expect(transpositions).toBeGreaterThan(203 * 10);
   });
 
-  it('round-trips the 16 bytes behind a code', () => {
+  it('catches every single substitution and adjacent transposition of any code (property, fast-check)', () => {
+    const codeArb = fc.uint8Array({ minLength: 10, maxLength: 10 }).map((b) => canonicalFromBytes(b));
+    fc.assert(
+      fc.property(codeArb, fc.nat(16), fc.nat(31), (code, pos, pick) => {
+        const r = ALPHABET[pick]!;
+        if (r !== code[pos]) expect(() => normaliseCode(code.slice(0, pos) + r + code.slice(pos + 1))).toThrow(CodeTypo);
+        const p = Math.min(pos, 15);
+        if (code[p] !== code[p + 1]) {
+          expect(() => normaliseCode(code.slice(0, p) + code[p + 1] + code[p] + code.slice(p + 2))).toThrow(CodeTypo);
+        }
+      }),
+      { numRuns: 3000 },
+    );
+  });
+});
+
+describe('ballot codes of the old 27-symbol format (still accepted)', () => {
+  it('encodes by hand-checkable examples: 0 → all zeros, check 0; 1 → …1, check 1; 37 → …15, check 0', () => {
+    expect(legacyZero).toBe('0'.repeat(27));
+    expect(legacyOne).toBe('0'.repeat(25) + '11');
+    // 37 = 1·32 + 5, and 37 mod 37 = 0
+    expect(legacyCanonicalFromBytes(Buffer.from('00000000000000000000000000000025', 'hex'))).toBe('0'.repeat(24) + '150');
+    // 2^128 − 1 mod 37: 2^36 ≡ 1 (mod 37) by Fermat, so 2^128 = 2^(36·3+20) ≡ 2^20 = 1048576
+    // = 37·28339 + 33 ≡ 33; 2^128 − 1 ≡ 32 → the first extra check symbol '*'. Top symbol holds 3 bits: '7'.
+    expect(legacyCanonicalFromBytes(Buffer.alloc(16, 0xff))).toBe('7' + 'Z'.repeat(25) + '*');
+  });
+
+  it.each([
+    ['lower case, old grouping', '0000-0000-0000-0000-0000-0000-011'.toLowerCase(), legacyOne],
+    ['O for zero', 'OOOO-oooo-0000-0000-0000-0000-011', legacyOne],
+    ['l for one', '0000-0000-0000-0000-0000-0000-0ll', legacyOne],
+  ])('normalises %s', (_name, input, expected) => {
+    expect(normaliseCode(input)).toBe(expected);
+  });
+
+  it.each([
+    ['U in the data', 'U000-0000-0000-0000-0000-0000-011'],
+    ['a check-only symbol in the data', '*000-0000-0000-0000-0000-0000-011'],
+    ['2^128, one past the range, with a valid check', '8' + '0'.repeat(25) + '~'], // 2^128 ≡ 33 (above) → '~'
+  ])('rejects %s as malformed', (_name, input) => {
+    expect(() => normaliseCode(input)).toThrow(CodeMalformed);
+  });
+
+  it('reads its own codes back and round-trips their 16 bytes', () => {
     const bytes = crypto.randomBytes(16);
-    expect(codeBytes(canonicalFromBytes(bytes)).equals(bytes)).toBe(true);
+    const canonical = legacyCanonicalFromBytes(bytes);
+    expect(normaliseCode(canonical.match(/.{1,4}/g)!.join('-'))).toBe(canonical);
+    expect(codeBytes(canonical).equals(bytes)).toBe(true);
   });
 
-  const codeArb = fc.uint8Array({ minLength: 16, maxLength: 16 }).map((b) => canonicalFromBytes(b));
-
-  it('catches every single-symbol substitution (property, fast-check)', () => {
-    fc.assert(
-      fc.property(codeArb, fc.nat(26), fc.nat(36), (code, pos, pick) => {
-        const pool = pos < 26 ? ALPHABET : CHECK_ALPHABET;
-        const replacement = pool[pick % pool.length]!;
-        fc.pre(replacement !== code[pos]);
-        const typed = code.slice(0, pos) + replacement + code.slice(pos + 1);
-        expect(() => normaliseCode(typed)).toThrow(CodeTypo);
-      }),
-      { numRuns: 5000 },
-    );
-  });
-
-  it('catches every adjacent transposition, including with the check symbol (property, fast-check)', () => {
-    fc.assert(
-      fc.property(codeArb, fc.nat(25), (code, pos) => {
-        fc.pre(code[pos] !== code[pos + 1]);
-        const typed = code.slice(0, pos) + code[pos + 1] + code[pos] + code.slice(pos + 2);
-        // A check-only symbol (* ~ $ = U) moved into the data is malformed; everything else is a typo.
-        const error = /[*~$=U]/.test(typed.slice(0, 26)) ? CodeMalformed : CodeTypo;
-        expect(() => normaliseCode(typed)).toThrow(error);
-      }),
-      { numRuns: 5000 },
-    );
-  });
-
-  it('checks exhaustively every substitution and adjacent transposition of one random code', () => {
-    const code = generateCode((n) => crypto.randomBytes(n)).canonical;
+  it('still catches every substitution and adjacent transposition of one random old code (exhaustive)', () => {
+    const code = legacyCanonicalFromBytes(crypto.randomBytes(16));
     let tried = 0;
     for (let pos = 0; pos < 27; pos++) {
       for (const r of pos < 26 ? ALPHABET : CHECK_ALPHABET) {
@@ -109,12 +202,7 @@ describe('ballot codes', () => {
       }
     }
     expect(tried).toBe(26 * 31 + 36);
-    // Adjacent transpositions, the check symbol included (Crockford's mod-37 check catches them all).
-    for (let pos = 0; pos < 26; pos++) {
-      if (code[pos] === code[pos + 1]) continue;
-      const swapped = code.slice(0, pos) + code[pos + 1] + code[pos] + code.slice(pos + 2);
-      expect(() => normaliseCode(swapped)).toThrow();
-    }
+    for (const typed of oneSlipAway(code, '').transpositions) expect(() => normaliseCode(typed)).toThrow();
   });
 });
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { assessElectorate, leadChance, makeExponentialDraw, protectionStrength } from '../../../src/mechanism/index.ts';
+import { assessElectorate, describeBounds, leadChance, makeExponentialDraw, protectionStrength } from '../../../src/mechanism/index.ts';
 // decimal.js at 50 digits, cloned in the test support: an independent calculator, not the mechanism's decimal helper.
 import { D as Decimal, type Dec } from './support/exactReference.ts';
 
@@ -124,5 +124,15 @@ describe('protectionStrength', () => {
     // e^ε by decimal.js, rounded as shown (whole above 3, else 2 decimals).
     const e = Decimal.exp(how);
     expect(p.factor).toBe(e.toDecimalPlaces(e.gt(Decimal.exp(3)) ? 0 : 2, Decimal.ROUND_HALF_UP).toNumber());
+  });
+});
+
+describe('describeBounds gets the singular right', () => {
+  it('ε = 10 over 2 options: a lead of 1 approval gives 95% (1/(1 + e^(−5)) = 0.9933)', () => {
+    const draw = makeExponentialDraw({ epsilon: '10', options: 2, seats: 1, neighbour: 'replace-one' });
+    expect(draw.bounds(0.05).marginFor['0.95']).toBe(1);
+    const text = describeBounds(draw.bounds(0.05), 1, 'future');
+    expect(text).toContain('by at least 1 approval, it will be announced');
+    expect(text).not.toContain('1 approvals');
   });
 });

@@ -1,14 +1,14 @@
 import { Router, type Response } from 'express';
 import { loadDashboard } from '../../../elections/dashboard.ts';
-import { issueCodes } from '../../../elections/issueCodes.ts';
+import { issueCodes, recallCodeBatch } from '../../../elections/issueCodes.ts';
 import { revokeCode } from '../../../elections/revokeCode.ts';
 import { isVeiltallyError } from '../../../errors.ts';
 import type { AppDeps } from '../../deps.ts';
 import { noStore } from '../../middleware/security.ts';
-import { ballotUrl, codesCsv, codesFileName, slipsView } from '../../presenters/codes.ts';
+import { ballotQrDataUrl, ballotUrl, codesCsv, codesFileName, slipsView } from '../../presenters/codes.ts';
 import { dashboardView } from '../../presenters/dashboard.ts';
 import { organiserOf } from './auth.ts';
-import { readIssue, revokeCodeField, type IssueValues } from './codeSchema.ts';
+import { readBatch, readIssue, revokeCodeField, type IssueValues } from './codeSchema.ts';
 import { summaryOf, type FieldErrors } from './forms.ts';
 
 /**
@@ -52,21 +52,35 @@ export function codeRoutes(deps: AppDeps): Router {
     const form = readIssue(req.body);
     if (form.count === null || Object.keys(form.errors).length > 0) return renderPage(res, id, 400, { issue: form.values, errors: form.errors });
     let codes: string[];
+    let batch: string;
     try {
-      ({ codes } = await issueCodes(ctx, { electionId: id, organiserId: organiserOf(res).id, count: form.count }));
+      ({ codes, batch } = await issueCodes(ctx, { electionId: id, organiserId: organiserOf(res).id, count: form.count }));
     } catch (e) {
       if (isVeiltallyError(e) && (e.status === 409 || e.status === 400)) return renderPage(res, id, e.status, { issue: form.values, errors: { count: e.message } });
       throw e;
     }
+    // Read after issuing, so the counts on the next page include this batch.
     const dash = await loadDashboard(ctx, { electionId: id, organiserId: organiserOf(res).id });
-    const url = ballotUrl(deps.config.publicUrl, id);
+    const title = `New ballot codes for ${dash.election.title}`;
     if (form.values.format === 'csv') {
-      res.set('Content-Type', 'text/csv; charset=utf-8');
-      res.attachment(codesFileName(dash.election.title, ctx.now()));
-      return res.send(codesCsv(codes, url));
+      // A page with the current counts and a download button; the file comes from the batch seed.
+      return res.render('organise/codes-download', { title, d: dashboardView(dash), batch, count: codes.length });
     }
-    const view = form.values.format === 'slips' ? 'organise/codes-slips' : 'organise/codes-list';
-    res.render(view, { title: `New ballot codes for ${dash.election.title}`, d: dashboardView(dash), slips: slipsView(dash.election, url, codes) });
+    const publicUrl = deps.config.publicUrl;
+    if (form.values.format === 'slips') {
+      const qr = await ballotQrDataUrl(ballotUrl(publicUrl, id));
+      return res.render('organise/codes-slips', { title, d: dashboardView(dash), slips: slipsView(dash.election, publicUrl, codes, qr) });
+    }
+    res.render('organise/codes-list', { title, d: dashboardView(dash), slips: slipsView(dash.election, publicUrl, codes) });
+  });
+
+  router.post('/organise/elections/:id/codes/csv', async (req, res) => {
+    const id = String(req.params.id);
+    const form = readBatch(req.body);
+    const { codes, title } = await recallCodeBatch(ctx, { electionId: id, organiserId: organiserOf(res).id, ...form });
+    res.set('Content-Type', 'text/csv; charset=utf-8');
+    res.attachment(codesFileName(title, ctx.now()));
+    res.send(codesCsv(codes, ballotUrl(deps.config.publicUrl, id)));
   });
 
   router.post('/organise/elections/:id/codes/revoke', async (req, res) => {

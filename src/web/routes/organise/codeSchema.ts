@@ -31,3 +31,12 @@ export function readIssue(body: Body): { values: IssueValues; count: number | nu
 
 /** A code as typed or pasted; custody's normaliseCode decides whether it is well formed. */
 export const revokeCodeField = (body: Body): string => field(body, 'code').slice(0, 200);
+
+/** The hidden fields of the download button: the batch seed and how many codes it made. */
+const batchSchema = z.object({
+  batch: z.string().max(100).catch(''),
+  count: z.coerce.number().int().min(1).max(MAX_CODES_PER_CALL).catch(0),
+});
+
+export const readBatch = (body: Body): { batch: string; count: number } =>
+  batchSchema.parse({ batch: field(body, 'batch'), count: field(body, 'count') });

@@ -11,6 +11,7 @@ type Body = Record<string, unknown> | undefined;
 export interface ElectionFormValues {
   title: string;
   description: string;
+  contact: string;
   options: { label: string; description: string }[];
   seats: string;
   epsilon: string;
@@ -22,6 +23,8 @@ export interface ElectionFormValues {
   publishTurnout: 'yes' | 'no';
   retention: 'shred' | 'keep';
   retentionDays: string;
+  /** The member group the draw is charged to in the privacy ledger. */
+  memberGroup: string;
 }
 
 /** Rows beyond this are never rendered or read; the option limit itself is checked by the draft rules. */
@@ -35,6 +38,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
   return {
     title: cut(field(body, 'title'), 1000),
     description: cut(field(body, 'description'), 20_000),
+    contact: cut(field(body, 'contact'), 1000),
     options: Array.from({ length: rows }, (_, i) => ({ label: cut(labels[i] ?? '', 1000), description: cut(descriptions[i] ?? '', 2000) })),
     seats: cut(field(body, 'seats'), 20),
     epsilon: cut(field(body, 'epsilon'), 20),
@@ -46,6 +50,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
     publishTurnout: field(body, 'publishTurnout') === 'yes' ? 'yes' : 'no',
     retention: field(body, 'retention') === 'keep' ? 'keep' : 'shred',
     retentionDays: cut(field(body, 'retentionDays'), 20),
+    memberGroup: cut(field(body, 'memberGroup'), 400),
   };
 }
 
@@ -86,6 +91,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
   const candidate: DraftInput = {
     title: v.title,
     description: v.description,
+    contact: v.contact,
     options,
     seats: seats ?? 1,
     epsilon: v.epsilon.trim(),
@@ -96,6 +102,8 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     publishTurnout: v.publishTurnout === 'yes',
     retentionDays,
     expectedVoters: votersGiven ? (expectedVoters ?? 1) : null,
+    // Left empty: the instance's default group on creation, and no change on an edit.
+    memberGroup: v.memberGroup.trim() === '' ? undefined : v.memberGroup,
   };
   try {
     const draft = checkDraft(candidate);

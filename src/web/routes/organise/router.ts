@@ -6,6 +6,8 @@ import { codeRoutes } from './codeRoutes.ts';
 import { dashboardRoutes } from './dashboardRoutes.ts';
 import { electionRoutes } from './electionRoutes.ts';
 import { tallyRoutes } from './tallyRoutes.ts';
+import { basicsRoutes } from './basicsRoutes.ts';
+import { organiserRoutes } from './organiserRoutes.ts';
 import { resumeRoutes } from './resumeForm.ts';
 import { demoRoutes } from './demoRoutes.ts';
 
@@ -24,5 +26,7 @@ export function organiseRouter(deps: AppDeps): Router {
   router.use(codeRoutes(deps));
   router.use(tallyRoutes(deps));
   router.use(dashboardRoutes(deps));
+  router.use(basicsRoutes(deps));
+  router.use(organiserRoutes(deps));
   return router;
 }

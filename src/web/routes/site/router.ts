@@ -1,5 +1,14 @@
-import { Router } from 'express';
+import { Router, type Response } from 'express';
 import type { AppDeps } from '../../deps.ts';
+import { findElectionIdByShortRef } from '../../../elections/shortRef.ts';
+import { ElectionNotFound } from '../../../elections/errors.ts';
+import { findBallotByCode, listPublishedResults } from '../../../elections/findBallotByCode.ts';
+import { findElection } from '../../../elections/electionRepo.ts';
+import { CodeMalformed, CodeTypo } from '../../../custody/errors.ts';
+import { noStore } from '../../middleware/security.ts';
+import { votingElectionView } from '../../presenters/ballot.ts';
+import { shownTime } from '../../presenters/publicTime.ts';
+import { ballotPathOf, findBallotForm } from './schema.ts';
 
 export function siteRouter(deps: AppDeps): Router {
   const router = Router();
@@ -13,8 +22,50 @@ export function siteRouter(deps: AppDeps): Router {
     }
   });
 
-  router.get('/', (_req, res) => {
-    res.render('site/home', { title: 'Private approval votes' });
+  const { ctx } = deps;
+  // The same shared allowance as the ballot steps: only failed look-ups count, so a meeting on one
+  // address is never locked out.
+  const { codeAttempts } = deps.limits;
+
+  async function renderHome(res: Response, status: number, code: string, problem: string | null) {
+    const results = (await listPublishedResults(ctx)).map((r) => ({ url: `/results/${r.id}`, title: r.title, publishedAt: shownTime(r.publishedAt, r.timeZone) }));
+    res.status(status).render('site/home', { title: 'Private approval votes', code, problem, results });
+  }
+
+  router.get('/', async (_req, res) => {
+    await renderHome(res, 200, '', null);
+  });
+
+  /**
+   * The home page's box: a pasted ballot link goes to that ballot; a code is looked up among the
+   * open elections and the member lands on that ballot's first step with the code filled in
+   * (in the page body only: never in a URL). The page is no-store, as every page with a code.
+   */
+  router.post('/ballot', noStore, codeAttempts, async (req, res) => {
+    const { code } = findBallotForm.parse(req.body ?? {});
+    const path = ballotPathOf(code);
+    if (path) return res.redirect(303, path);
+    let id: string | null;
+    try {
+      id = await findBallotByCode(ctx, { code });
+    } catch (e) {
+      if (e instanceof CodeMalformed || e instanceof CodeTypo) return renderHome(res, 400, code, e.message);
+      throw e;
+    }
+    const e = id ? await findElection(ctx.knex, id) : null;
+    if (!e) {
+      return renderHome(res, 404, code, 'No open ballot has this code. Check it against your slip, or use the link your organiser sent you. If voting has not opened yet or has closed, the link tells you when.');
+    }
+    const election = votingElectionView(e, ctx.now());
+    if (election.window !== 'open') return res.redirect(303, election.voteUrl); // says when voting opens
+    res.render('vote/start', { title: election.title, election, code, found: true });
+  });
+
+  /** The short ballot address printed on slips: /v/7k3m9q2x leads to the election's ballot page. */
+  router.get('/v/:ref', async (req, res) => {
+    const id = await findElectionIdByShortRef(deps.ctx.knex, String(req.params.ref));
+    if (!id) throw new ElectionNotFound();
+    res.redirect(303, `/vote/${id}`);
   });
 
   return router;

@@ -43,12 +43,16 @@ export function voteRouter(deps: AppDeps): Router {
 
   router.use('/vote', noStore);
 
-  /** Drafts are not shown to members: they answer exactly like an unknown election. */
+  /**
+   * A draft's ballot link says only that voting has not opened: nothing of the draft (not even
+   * its title) is shown, and the member context is not set, so no page can show it.
+   */
   async function memberElection(rawId: unknown): Promise<Election> {
     const param = idParam.safeParse({ id: rawId });
     if (!param.success) throw new ElectionNotFound();
     const e = await findElection(ctx.knex, param.data.id);
-    if (!e || e.state === 'draft') throw new ElectionNotFound();
+    if (!e) throw new ElectionNotFound();
+    if (e.state === 'draft') throw new ElectionNotOpen('draft');
     return e;
   }
 

@@ -3,7 +3,7 @@ import { z } from 'zod';
 /**
  * Member forms. Form values are strings; anything else (a repeated field, a missing one)
  * becomes an empty code, which the code check then calls malformed. The ballot code's own
- * shape (27 symbols with a check character) is judged by the custody layer, not here.
+ * shape (17 symbols with a check symbol, or 27 in the older format) is judged by the custody layer, not here.
  */
 const codeField = z.string().max(200).catch('');
 

@@ -1,0 +1,98 @@
+import { describe, expect, it } from 'vitest';
+import request from 'supertest';
+import { engines } from '../../helpers/databases.ts';
+import { castAll, createDraft, csrfFrom, openElectionFixture } from '../../helpers/fixtures.ts';
+import { useMemberSuite, SUITE_START, DAY } from '../../helpers/memberSuite.ts';
+
+/** The home page: a member can type a ballot code or paste a ballot link, and published results are listed. */
+describe.each(engines)('home page for members [%s]', (engine) => {
+  const s = useMemberSuite(engine);
+
+  async function home() {
+    const agent = request.agent(s.app);
+    const page = await agent.get('/').expect(200);
+    return { agent, csrf: csrfFrom(page.text), html: page.text };
+  }
+
+  it('finds the ballot for a code typed in lower case with spaces, with the code only in the page body', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId, { title: 'Name the river launch' });
+    const other = await openElectionFixture(s.ctx, s.organiserId, { title: 'Another vote' });
+    const { agent, csrf } = await home();
+    const typed = ` ${f.codes[1]!.toLowerCase().replace(/-/g, ' ')} `;
+    const res = await s.post(agent, '/ballot', { _csrf: csrf, code: typed }).expect(200);
+    expect(res.headers['cache-control']).toContain('no-store');
+    expect(res.text).toContain('Name the river launch');
+    expect(res.text).toContain(`action="/vote/${f.id}/ballot"`);
+    expect(res.text).not.toContain('Another vote');
+    expect(res.text).toContain('Your code belongs to this ballot');
+    // The member carries on from there as usual.
+    const code = /name="code"[^>]*value="([^"]*)"/.exec(res.text)?.[1] ?? /value="([^"]*)"[^>]*name="code"/.exec(res.text)?.[1];
+    expect(code).toBe(typed);
+    expect(other.id).not.toBe(f.id);
+  });
+
+  it('finds the ballot whether or not the code was used (no code-status answer here)', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    await castAll(s.ctx, f, [[0]]);
+    const { agent, csrf } = await home();
+    const used = await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[0]! }).expect(200);
+    const unused = await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[1]! }).expect(200);
+    const strip = (t: string) => t.replace(/value="[^"]*"/g, '').replace(/name="_csrf"[^>]*>/g, '');
+    expect(strip(used.text)).toBe(strip(unused.text));
+  });
+
+  it('follows a pasted ballot link, long or short, to this site only', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const { agent, csrf } = await home();
+    const long = await s.post(agent, '/ballot', { _csrf: csrf, code: `https://elsewhere.example/vote/${f.id.toUpperCase()}?x=1` }).expect(303);
+    expect(long.headers.location).toBe(`/vote/${f.id}`);
+    const short = await s.post(agent, '/ballot', { _csrf: csrf, code: 'http://vote.example/v/ABCD2EFG' }).expect(303);
+    expect(short.headers.location).toBe('/v/abcd2efg');
+  });
+
+  it.each([
+    ['not a code', 'hello there', 400, 'That is not a ballot code'],
+    ['a code with one slip', 'flip', 400, 'typing mistake'],
+    ['a valid code no election issued', 'unknown', 404, 'No open ballot has this code'],
+  ])('explains %s and keeps what was typed', async (_name, kind, status, message) => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const real = f.codes[0]!;
+    const slipped = real.slice(0, 2) + (real[2] === '7' ? '8' : '7') + real.slice(3);
+    const typed = kind === 'flip' ? slipped : kind === 'unknown' ? '0000-0000-0000-00000' : kind;
+    const { agent, csrf } = await home();
+    const res = await s.post(agent, '/ballot', { _csrf: csrf, code: typed }).expect(status);
+    expect(res.text).toContain(message);
+    expect(res.text).toContain(`value="${typed}"`);
+  });
+
+  it('a code of a scheduled election leads to its ballot link, which says when voting opens', async () => {
+    const opensAt = new Date(Date.parse(SUITE_START) + DAY);
+    const f = await openElectionFixture(s.ctx, s.organiserId, { opensAt, closesAt: new Date(opensAt.getTime() + DAY) });
+    const { agent, csrf } = await home();
+    const res = await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[0]! }).expect(303);
+    expect(res.headers.location).toBe(`/vote/${f.id}`);
+  });
+
+  it('a code of a draft is not found (drafts take no ballots)', async () => {
+    const f = await createDraft(s.ctx, s.organiserId);
+    const { agent, csrf } = await home();
+    await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[0]! }).expect(404);
+  });
+
+  it('lists published results, newest first, and nothing unpublished', async () => {
+    const { f } = await s.decided([[0], [1]], { title: 'Published boat name' });
+    await s.decided([[0]], { title: 'Drawn but not yet published' }, false);
+    const { html } = await home();
+    expect(html).toContain('Published results');
+    expect(html).toContain(`href="/results/${f.id}"`);
+    expect(html).toContain('Published boat name');
+    expect(html).not.toContain('Drawn but not yet published');
+  });
+
+  it('needs a CSRF token', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const agent = request.agent(s.app);
+    await agent.get('/');
+    await s.post(agent, '/ballot', { code: f.codes[0]! }).expect(403);
+  });
+});
