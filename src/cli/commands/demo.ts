@@ -43,7 +43,7 @@ export function demoText(s: DemoSummary, publicUrl: string): string {
       : '  Password: shown only when the demo first ran.',
     `  Tally passphrase of the open election: ${s.open.passphrase}`,
     '',
-    'Start the server with `npm start` (if it is not running) and open these addresses.',
+    'Start the server with `npm start` and open these addresses.',
     '',
   ];
   return lines.join('\n');

@@ -1,8 +1,13 @@
 import { z } from 'zod';
 import type { Election } from '../../elections/electionRepo.ts';
 import { InvalidBallot } from '../../elections/errors.ts';
+import { RULE_SENTENCES } from '../../mechanism/index.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
 import { votingTimes } from '../../elections/votingTimes.ts';
+import { describeParties, makeExponentialDraw, type PartyText } from '../../mechanism/index.ts';
+
+/** Members are told the longest preview the product allows; a shorter configured one only publishes sooner. */
+const PREVIEW_HOURS_PROMISED = 48;
 
 /** Where a member is in the three steps; error pages word themselves by it. */
 export type VoteStep = 'code' | 'ballot' | 'confirm' | 'cast';
@@ -35,6 +40,8 @@ export interface VotingElectionView {
   /** Short sentences shown before voting: how the result will be drawn. */
   howDrawn: string[];
   caution: string;
+  /** What members, the public and the organiser can each learn: read before voting. */
+  parties: PartyText[];
 }
 
 /** Drafts are handled before this: members never see them (they answer 404). */
@@ -48,6 +55,7 @@ function howDrawn(e: Election): string[] {
   const who = e.seats === 1 ? 'one winner is drawn' : `${e.seats} winners are drawn, one seat at a time,`;
   return [
     `When voting closes, ${who} at random, weighted toward the most approved options: an option that more members approve is more likely to be drawn, but not certain to be.`,
+    RULE_SENTENCES[e.rule] ?? RULE_SENTENCES.exponential,
     `The privacy level is ε = ${e.epsilon}. A smaller ε protects each ballot more strongly and makes the draw more random; a larger ε makes it follow the approvals more closely.`,
     'Nobody, including the organiser, is ever shown how many approvals any option received.',
   ];
@@ -82,6 +90,11 @@ export function votingElectionView(e: Election, now: Date): VotingElectionView {
     resultsUrl: `/results/${e.id}`,
     howDrawn: howDrawn(e),
     caution: DRAW_CAUTION,
+    parties: describeParties(makeExponentialDraw({ epsilon: e.epsilon, options: e.options.length, seats: e.seats, neighbour: e.neighbour }).privacy, {
+      neighbour: e.neighbour,
+      publishTurnout: e.publishTurnout,
+      previewHours: PREVIEW_HOURS_PROMISED,
+    }),
   };
 }
 
