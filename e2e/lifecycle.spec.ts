@@ -99,7 +99,10 @@ it('runs an election from first-run setup to a published result, entirely throug
   await page.getByRole('link', { name: 'Unlock the tally' }).click();
   await page.getByLabel('Tally passphrase', { exact: true }).fill(PASSPHRASE);
   await page.getByRole('button', { name: 'Unlock and draw the result' }).click();
-  await page.getByRole('heading', { name: 'The drawn result' }).waitFor();
+  // The draw runs off the request; its page refreshes itself (no script) until the whole minute.
+  await page.getByRole('heading', { name: 'Drawing the result…' }).waitFor();
+  await audited(page, 'organise-drawing');
+  await page.getByRole('heading', { name: 'The drawn result' }).waitFor({ timeout: 150_000 });
   await page.getByRole('link', { name: 'Publish the result…' }).first().click();
   await page.getByLabel('I understand that publishing is final.').check();
   await page.getByRole('button', { name: 'Publish the result' }).click();
@@ -119,4 +122,4 @@ it('runs an election from first-run setup to a published result, entirely throug
   expect(await result.getByRole('status').filter({ hasText: 'This receipt is among the ballots counted.' }).count()).toBe(1);
   await audited(result, 'lifecycle-result');
   await reader.close();
-});
+}, 300_000);

@@ -22,6 +22,11 @@ export interface DraftInput {
   retentionDays: number | null;
   /** null: the organiser gave no estimate (it only feeds the guidance). */
   expectedVoters: number | null;
+  /**
+   * The member group whose privacy ledger the draw is charged to, by name ("Rowing club members").
+   * Absent: the instance's default group on creation, unchanged on an edit.
+   */
+  memberGroup?: string;
 }
 
 export const DRAFT_LIMITS = Object.freeze({
@@ -35,6 +40,7 @@ export const DRAFT_LIMITS = Object.freeze({
   retentionMin: 1,
   retentionMax: 90,
   votersMax: 1_000_000,
+  groupMax: 120,
 });
 
 const L = DRAFT_LIMITS;
@@ -74,6 +80,12 @@ export const draftSchema = z
       .min(1, 'Expect at least 1 voter.')
       .max(L.votersMax, `We support up to ${L.votersMax.toLocaleString('en')} voters.`)
       .nullable(),
+    memberGroup: z
+      .string()
+      .trim()
+      .min(1, 'Name the group of members who vote, such as “Rowing club members”.')
+      .max(L.groupMax, `Keep the group name to ${L.groupMax} characters or fewer.`)
+      .optional(),
   })
   .superRefine((d, issue) => {
     const seen = new Map<string, number>();

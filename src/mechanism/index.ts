@@ -55,6 +55,7 @@ export {
   epsilonExceeds,
   ledgerTotals,
   checkBudget,
+  howVotedCost,
   toMinute,
   yearBefore,
 } from './ledger.ts';
@@ -69,3 +70,5 @@ export {
   recheckStatement,
   unprotectedReleases,
 } from './publicStatement.ts';
+export { describeParties } from './describeParties.ts';
+export type { PartySettings, PartyText } from './describeParties.ts';

@@ -31,6 +31,7 @@ export interface FixtureOptions {
   timeZone?: string;
   publishTurnout?: boolean;
   codes?: number;
+  memberGroup?: string;
 }
 
 export interface ElectionFixture {
@@ -74,6 +75,7 @@ export async function createDraft(ctx: UseCaseContext, organiserId: string, o: F
       publishTurnout: o.publishTurnout ?? false,
       retentionDays: null,
       expectedVoters: 20,
+      ...(o.memberGroup === undefined ? {} : { memberGroup: o.memberGroup }),
     },
   });
   const { codes } = await issueCodes(ctx, { electionId: id, organiserId, count: o.codes ?? 6 });

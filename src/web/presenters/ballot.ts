@@ -3,6 +3,10 @@ import type { Election } from '../../elections/electionRepo.ts';
 import { InvalidBallot } from '../../elections/errors.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
 import { votingTimes } from '../../elections/votingTimes.ts';
+import { describeParties, makeExponentialDraw, type PartyText } from '../../mechanism/index.ts';
+
+/** Members are told the longest preview the product allows; a shorter configured one only publishes sooner. */
+const PREVIEW_HOURS_PROMISED = 48;
 
 /** Where a member is in the three steps; error pages word themselves by it. */
 export type VoteStep = 'code' | 'ballot' | 'confirm' | 'cast';
@@ -35,6 +39,8 @@ export interface VotingElectionView {
   /** Short sentences shown before voting: how the result will be drawn. */
   howDrawn: string[];
   caution: string;
+  /** What members, the public and the organiser can each learn: read before voting. */
+  parties: PartyText[];
 }
 
 /** Drafts are handled before this: members never see them (they answer 404). */
@@ -82,6 +88,11 @@ export function votingElectionView(e: Election, now: Date): VotingElectionView {
     resultsUrl: `/results/${e.id}`,
     howDrawn: howDrawn(e),
     caution: DRAW_CAUTION,
+    parties: describeParties(makeExponentialDraw({ epsilon: e.epsilon, options: e.options.length, seats: e.seats, neighbour: e.neighbour }).privacy, {
+      neighbour: e.neighbour,
+      publishTurnout: e.publishTurnout,
+      previewHours: PREVIEW_HOURS_PROMISED,
+    }),
   };
 }
 

@@ -1,4 +1,5 @@
 import type { Election } from '../../elections/electionRepo.ts';
+import type { BudgetPreview } from '../../elections/ledger.ts';
 import { timeZones, utcToWallClockText, wallClockAt, formatWallClock } from '../../elections/time.ts';
 import type { ElectionFormValues } from '../routes/organise/electionSchema.ts';
 import { summaryOf, type FieldErrors } from '../routes/organise/forms.ts';
@@ -29,10 +30,11 @@ export function blankValues(now: Date, timeZone = 'UTC'): ElectionFormValues {
     publishTurnout: 'no',
     retention: 'shred',
     retentionDays: '30',
+    memberGroup: '',
   };
 }
 
-export function valuesFromElection(e: Election): ElectionFormValues {
+export function valuesFromElection(e: Election, groupName = ''): ElectionFormValues {
   return {
     title: e.title,
     description: e.description,
@@ -48,6 +50,7 @@ export function valuesFromElection(e: Election): ElectionFormValues {
     publishTurnout: e.publishTurnout ? 'yes' : 'no',
     retention: e.retentionDays === null ? 'shred' : 'keep',
     retentionDays: e.retentionDays === null ? '30' : String(e.retentionDays),
+    memberGroup: groupName,
   };
 }
 
@@ -76,6 +79,8 @@ export interface ElectionFormView {
   guidance: GuidanceView;
   ambiguous: string[];
   canAddRows: boolean;
+  /** The group's privacy spending and what this election would add; null until a group and a valid ε are given. */
+  budget: BudgetPreview | null;
   /** A passphrase had been typed but the form came back: it is never echoed, so say it must be typed again. */
   passphraseCleared: boolean;
 }
@@ -87,6 +92,7 @@ export function electionFormView(input: {
   ambiguous?: string[];
   addRows?: number;
   maxRows: number;
+  budget?: BudgetPreview | null;
   passphraseCleared?: boolean;
 }): ElectionFormView {
   const errors = input.errors ?? {};
@@ -109,6 +115,7 @@ export function electionFormView(input: {
     guidance: guidanceFor({ epsilon: values.epsilon, options: filled, seats, neighbour: values.neighbour === 'add-remove' ? 'add-remove' : 'replace-one', expectedVoters: voters }),
     ambiguous: input.ambiguous ?? [],
     canAddRows: values.options.length < input.maxRows,
+    budget: input.budget ?? null,
     passphraseCleared: input.electionId === null && (input.passphraseCleared ?? false),
   };
 }

@@ -61,6 +61,19 @@ describe.each(engines)('ballot step is no code-status oracle [%s]', (engine) => 
     await post(member.agent, `/vote/${f.id}/cast`, { _csrf: member.csrf, code: probed, approve: '2' }).expect(409);
   });
 
+  it('members read what each party can learn before they vote, on the code and ballot pages', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId, { publishTurnout: true });
+    const { agent, csrf, html } = await begin(f);
+    const ballot = await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code: f.codes[0]! }).expect(200);
+    for (const page of [html, ballot.text]) {
+      for (const heading of ['What other members can learn about you', 'What anyone can learn from the published result', 'What the organiser can learn']) {
+        expect(page).toContain(heading);
+      }
+      expect(page).toContain('never how many ballots were cast');
+      expect(page).toContain('is published and is not protected');
+    }
+  });
+
   it('at the final cast a withdrawn code answers the same whether or not it was used before', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId, { codes: 2 });
     const [fresh, used] = f.codes as [string, string];

@@ -74,7 +74,9 @@ describe('buildStatement', () => {
     expect(text.headline).toBe('The 3 seats were drawn, in this order: Swift, Heron, Kingfisher.');
     expect(text.paragraphs.join(' ')).toContain('ε/3 = 1/3');
     expect(text.paragraphs.join(' ')).toContain('basic composition');
-    expect(text.boundsSentence).toMatch(/^For each seat, with probability at least 95%/);
+    expect(text.boundsSentence).toMatch(/^The drawing method used here guarantees, for each seat, that with probability at least 95%/);
+    // Union bound over the seats (Boole's inequality): 1 − kβ = 1 − 3 × 0.05.
+    expect(text.boundsSentence).toContain('For all 3 seats together, the same holds with probability at least 85% (that is 1 − 3β, by the union bound).');
   });
 
   it('does not promise to hide whether anyone voted at all: no ballots means no draw', () => {

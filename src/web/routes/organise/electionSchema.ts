@@ -23,6 +23,8 @@ export interface ElectionFormValues {
   publishTurnout: 'yes' | 'no';
   retention: 'shred' | 'keep';
   retentionDays: string;
+  /** The member group the draw is charged to in the privacy ledger. */
+  memberGroup: string;
 }
 
 /** Rows beyond this are never rendered or read; the option limit itself is checked by the draft rules. */
@@ -48,6 +50,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
     publishTurnout: field(body, 'publishTurnout') === 'yes' ? 'yes' : 'no',
     retention: field(body, 'retention') === 'keep' ? 'keep' : 'shred',
     retentionDays: cut(field(body, 'retentionDays'), 20),
+    memberGroup: cut(field(body, 'memberGroup'), 400),
   };
 }
 
@@ -99,6 +102,8 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     publishTurnout: v.publishTurnout === 'yes',
     retentionDays,
     expectedVoters: votersGiven ? (expectedVoters ?? 1) : null,
+    // Left empty: the instance's default group on creation, and no change on an edit.
+    memberGroup: v.memberGroup.trim() === '' ? undefined : v.memberGroup,
   };
   try {
     const draft = checkDraft(candidate);

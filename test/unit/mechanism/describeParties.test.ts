@@ -1,0 +1,70 @@
+import { describe, expect, it } from 'vitest';
+import { describeBounds, describeParties, makeExponentialDraw } from '../../../src/mechanism/index.ts';
+
+/**
+ * The statement's sentences for every combination of settings, party by party. Factors are
+ * e^ε (replace one ballot) and e^(2ε) for what a member ticked under add/remove (a changed ballot
+ * is one removal and one addition; Dwork & Roth 2014, Def. 2.4 and Thm. 3.10), rounded up to
+ * two decimals: e^1 = 2.71828…, e^2 = 7.38905…, e^0.5 = 1.64872…, e^(1/3) = 1.39561….
+ */
+const cases = [
+  { epsilon: '1', neighbour: 'replace-one', how: 'e^ε ≈ 2.72', whether: 'e^ε ≈ 2.72' },
+  { epsilon: '1', neighbour: 'add-remove', how: 'e^(2ε) ≈ 7.39', whether: 'e^ε ≈ 2.72' },
+  { epsilon: '0.5', neighbour: 'replace-one', how: 'e^ε ≈ 1.65', whether: 'e^ε ≈ 1.65' },
+  { epsilon: '0.5', neighbour: 'add-remove', how: 'e^(2ε) ≈ 2.72', whether: 'e^ε ≈ 1.65' },
+] as const;
+
+const table = cases.flatMap((c) => [1, 3].flatMap((seats) => [false, true].flatMap((publishTurnout) => [24, 48].map((previewHours) => ({ ...c, seats, publishTurnout, previewHours })))));
+
+describe('what each party can learn, for every combination of settings', () => {
+  it.each(table)('ε=$epsilon $neighbour, $seats seat(s), turnout published: $publishTurnout, preview $previewHours h', (c) => {
+    const draw = makeExponentialDraw({ epsilon: c.epsilon, options: 5, seats: c.seats, neighbour: c.neighbour });
+    const parts = describeParties(draw.privacy, { neighbour: c.neighbour, publishTurnout: c.publishTurnout, previewHours: c.previewHours });
+    expect(parts.map((p) => p.party)).toEqual(['members', 'public', 'organiser']);
+    const [members, pub, org] = parts.map((p) => p.sentences.join(' ')) as [string, string, string];
+
+    // Members: what the public learns, plus their own receipt, which shows nothing of the vote.
+    expect(members).toContain('exactly what the public learns');
+    expect(members).toContain('does not show how you voted');
+
+    // The public: how, whether, live, anyone at all, and that every draw is published.
+    expect(pub).toContain(`at most a factor of ${c.how}, with ε = ${c.epsilon}`);
+    if (c.publishTurnout) {
+      expect(pub).toContain('exact number of ballots is published and is not protected');
+      expect(pub).not.toContain(c.whether + '. The turnout is never published');
+    } else {
+      expect(pub).toContain(`at most a factor of ${c.whether}. The turnout is never published.`);
+      expect(pub).toContain(c.neighbour === 'replace-one' ? 'not voting looks the same as a ballot with nothing ticked' : 'Whether a member voted: the chance');
+    }
+    expect(pub).toContain('nothing about who has voted, or how many, is shown');
+    expect(pub).toContain('Whether anyone voted at all is shown');
+    expect(pub).toContain(`at the latest ${c.previewHours} hours after the draw`);
+
+    // The organiser: never counts, never a live count, the code probe stated plainly, and where it learns more.
+    expect(org).toContain('never a count of approvals');
+    expect(org).toContain(`up to ${c.previewHours} hours before they are published`);
+    expect(org).toContain('never how many ballots were cast');
+    expect(org).toContain('casting with it uses it up');
+    expect(org).toContain(c.publishTurnout ? 'exact turnout in the preview' : 'never shown the turnout');
+    expect(org).toContain('Whether anyone voted at all');
+
+    // No sentence anywhere promises that turnout is hidden when it is published.
+    if (c.publishTurnout) for (const text of [members, pub, org]) expect(text).not.toContain('never published');
+  });
+});
+
+describe('the accuracy sentence with k seats gives the all-seats guarantee as a property of the method', () => {
+  it.each([1, 2, 3, 10, 20, 25])('%i seat(s)', (seats) => {
+    const draw = makeExponentialDraw({ epsilon: '1', options: 30, seats, neighbour: 'replace-one' });
+    const b = draw.bounds(0.05);
+    for (const tense of ['past', 'future'] as const) {
+      const text = describeBounds(b, seats, tense);
+      expect(text).toMatch(/^The drawing method (used here )?guarantees/);
+      expect(text).not.toMatch(/the winner had|was drawn with/);
+      // Union bound (Boole's inequality): P(every seat within the margin) ≥ 1 − kβ.
+      if (seats === 1) expect(text).not.toContain('seats together');
+      else if (seats < 20) expect(text).toContain(`For all ${seats} seats together, the same holds with probability at least ${Math.round((1 - seats * 0.05) * 100)}% (that is 1 − ${seats}β, by the union bound)`);
+      else expect(text).toContain('no useful guarantee');
+    }
+  });
+});
