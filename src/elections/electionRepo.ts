@@ -104,8 +104,20 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 /** Finds an election by id; a malformed id is simply not found. */
 export async function findElection(db: Db, id: string): Promise<Election | null> {
   if (!UUID.test(id)) return null;
-  const row = await db('elections').where({ id }).first();
-  return row ? fromRow(row, await loadOptions(db, id)) : null;
+  // The options come in the same statement: every member page starts here, so one round trip
+  // fewer on each (README, Performance).
+  const row = await db('elections')
+    .where({ id })
+    .first(
+      'elections.*',
+      db.raw(
+        `(select coalesce(json_agg(json_build_object('position', o.position, 'label', o.label, 'description', o.description) order by o.position), '[]'::json)
+          from options o where o.election_id = elections.id) as options_json`,
+      ),
+    );
+  if (!row) return null;
+  const options = (typeof row.options_json === 'string' ? JSON.parse(row.options_json) : row.options_json) as ElectionOption[];
+  return fromRow(row, options);
 }
 
 /** Locks the election row for the rest of the transaction (serialises tally, open, close, publish). */

@@ -167,7 +167,7 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
     s.released.anyoneVoted ? `${m.seats} winner(s) named, one per seat` : 'no ballots were cast, so no winner is named');
   add(s.released.winners.every((w) => s.options.includes(w)) && new Set(s.released.winners).size === s.released.winners.length,
     'every winner is a distinct option of this election');
-  let bounds: Bounds | null = null;
+  let bounds: Bounds | null;
   try {
     bounds = draw.bounds(s.bounds?.beta);
   } catch {
