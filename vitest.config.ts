@@ -9,5 +9,7 @@ export default defineConfig({
     pool: 'forks',
     reporters: process.env.CI ? ['verbose'] : ['default'],
     globalSetup: ['test/helpers/announceEngines.ts'],
+    // `npm run test:coverage` (and CI): line and branch coverage of the product code, printed.
+    coverage: { provider: 'v8', include: ['src/**'], reporter: ['text-summary', 'text'], reportsDirectory: 'coverage' },
   },
 });

@@ -1,5 +1,5 @@
 import { expect, it } from 'vitest';
-import { launchChromium, screenshot } from './browser.ts';
+import { screenshot } from './browser.ts';
 import { watchForScript } from './audit.ts';
 import { useMemberBrowser } from './memberServer.ts';
 import { openElectionFixture, tallyFixture } from '../test/helpers/fixtures.ts';

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import type { BrowserContext, Page } from 'playwright-core';
-import { launchChromium, screenshot } from './browser.ts';
+import { screenshot } from './browser.ts';
 import { DESKTOP, PHONE, seriousViolations } from './audit.ts';
 import { useMemberBrowser } from './memberServer.ts';
 import { castAll, openElectionFixture, tallyFixture, type ElectionFixture } from '../test/helpers/fixtures.ts';

@@ -36,6 +36,14 @@ const schema = z.object({
     .regex(/^https?:\/\/[^\s/]+(\/[^\s]*)?$/, 'must be an http:// or https:// address, for example https://vote.example.org')
     .optional(),
   TRUST_PROXY: z.string().default('false'),
+  VEILTALLY_EPSILON_BUDGET: z
+    .string()
+    .regex(/^(0|[1-9][0-9]{0,3})(\.[0-9]{1,4})?$/, 'must be a decimal ε such as 10 or 12.5')
+    .default('10'),
+  VEILTALLY_ALLOW_OVER_BUDGET: z
+    .enum(['true', 'false', '1', '0', 'yes', 'no'], { error: 'must be true or false' })
+    .transform((v) => v === 'true' || v === '1' || v === 'yes')
+    .default(false),
   VEILTALLY_PREVIEW_HOURS: z.coerce
     .number({ error: 'must be a number of hours from 0 to 48' })
     .min(0, { error: 'must be a number of hours from 0 to 48' })
@@ -60,6 +68,8 @@ export type Config = Readonly<{
    */
   trustProxy: TrustProxy;
   logLevel: (typeof LOG_LEVELS)[number];
+  /** Annual ε budget per member group (how members voted, 12 months), and whether opening past it is allowed. */
+  ledger: Readonly<{ annualBudget: string; allowOverBudget: boolean }>;
   /** How long an organiser may hold a drawn result as a private preview before it publishes itself (≤ 48 h). */
   previewMs: number;
 }>;
@@ -148,6 +158,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     publicUrl: (e.PUBLIC_URL ?? `http://${e.HOST.includes(':') ? `[${e.HOST}]` : e.HOST}:${e.PORT}`).replace(/\/+$/, ''),
     trustProxy,
     logLevel: e.LOG_LEVEL,
+    ledger: Object.freeze({ annualBudget: e.VEILTALLY_EPSILON_BUDGET, allowOverBudget: e.VEILTALLY_ALLOW_OVER_BUDGET }),
     previewMs: Math.round(e.VEILTALLY_PREVIEW_HOURS * 3600_000),
   });
 }

@@ -17,10 +17,24 @@ const SECRETS = [
   { name: 'VEILTALLY_SIGNING_SEED', of: (s: AllSecrets) => s.signingSeed },
 ] as const;
 
+function fingerprintOf(name: string, secret: Buffer): string {
+  return crypto.createHmac('sha256', secret).update(`veiltally fingerprint ${name}`).digest('hex').slice(0, 32);
+}
+
 export function fingerprints(secrets: AllSecrets): Record<string, string> {
-  return Object.fromEntries(
-    SECRETS.map(({ name, of }) => [name, crypto.createHmac('sha256', of(secrets)).update(`veiltally fingerprint ${name}`).digest('hex').slice(0, 32)]),
-  );
+  return Object.fromEntries(SECRETS.map(({ name, of }) => [name, fingerprintOf(name, of(secrets))]));
+}
+
+/**
+ * `veiltally key add` replaces the signing seed on purpose: the stored fingerprint follows it, so
+ * instances restarted with the new seed start, and one left on the old seed is stopped.
+ */
+export async function replaceSigningSeedFingerprint(knex: Knex, seed: Buffer): Promise<void> {
+  const row = await knex('instance_settings').where({ name: SETTING }).first('value');
+  if (!row) return; // no instance has started yet: the first start stores the new fingerprint
+  const stored = (typeof row.value === 'string' ? JSON.parse(row.value) : row.value) as Record<string, string>;
+  const value = { ...stored, VEILTALLY_SIGNING_SEED: fingerprintOf('VEILTALLY_SIGNING_SEED', seed) };
+  await knex('instance_settings').where({ name: SETTING }).update({ value: JSON.stringify(value) });
 }
 
 export class SecretsDisagree extends Error {

@@ -11,6 +11,7 @@ import { checkSecretsAgree, SecretsDisagree } from './instanceCheck.ts';
 import { createApp } from './web/app.ts';
 import { answerClientError } from './web/middleware/security.ts';
 import { startHousekeeping } from './housekeeping.ts';
+import { registerSigningKey } from './elections/signingKeyRepo.ts';
 
 function fail(line: string): never {
   process.stderr.write(`veiltally: ${line}\n`);
@@ -56,7 +57,10 @@ async function start(): Promise<void> {
     random: (n) => crypto.randomBytes(n),
     secrets,
     kdf: DEFAULT_KDF,
+    ledgerPolicy: config.ledger,
   };
+  // The active signing key's public half is listed on /keys from the start, before its first statement.
+  await registerSigningKey(db.knex, secrets.signingSeed, new Date());
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });
   const server: Server = app.listen(config.port, config.host);
   server.on('clientError', answerClientError);

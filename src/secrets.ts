@@ -31,6 +31,9 @@ function readOrCreate(dir: string, name: string, bytes: number): Buffer {
   }
 }
 
+/** The file `veiltally key add` replaces to rotate the statement-signing key. */
+export const SIGNING_SEED_FILE = 'signing-seed';
+
 export interface AllSecrets extends InstanceSecrets {
   readonly sessionSecret: string;
 }
@@ -44,6 +47,6 @@ export function loadSecrets(config: Config): AllSecrets {
       : readOrCreate(dir, 'code-pepper', 32),
     signingSeed: config.signingSeedHex
       ? Buffer.from(config.signingSeedHex, 'hex')
-      : readOrCreate(dir, 'signing-seed', 32),
+      : readOrCreate(dir, SIGNING_SEED_FILE, 32),
   });
 }

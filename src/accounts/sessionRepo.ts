@@ -5,9 +5,14 @@ import type { Db } from '../db/knex.ts';
 const key = (sid: string): string => crypto.createHash('sha256').update(sid).digest('hex');
 
 export async function readSession(db: Db, sid: string, now: Date): Promise<unknown | null> {
-  const row = await db('sessions').where({ sid_hash: key(sid) }).andWhere('expires_at', '>', now).first();
+  return (await readSessionRow(db, sid, now))?.data ?? null;
+}
+
+/** The session's data and when its row expires, or null when there is none or it has expired. */
+export async function readSessionRow(db: Db, sid: string, now: Date): Promise<{ data: unknown; expiresAt: Date } | null> {
+  const row = await db('sessions').where({ sid_hash: key(sid) }).andWhere('expires_at', '>', now).first('data', 'expires_at');
   if (!row) return null;
-  return typeof row.data === 'string' ? JSON.parse(row.data) : row.data;
+  return { data: typeof row.data === 'string' ? JSON.parse(row.data) : row.data, expiresAt: new Date(row.expires_at) };
 }
 
 export async function writeSession(db: Db, sid: string, data: unknown, expiresAt: Date): Promise<void> {

@@ -1,3 +1,4 @@
+import { parseArgs } from 'node:util';
 import type { z } from 'zod';
 import { InvalidInput } from '../errors.ts';
 
@@ -5,39 +6,34 @@ import { InvalidInput } from '../errors.ts';
 export type FlagSpec = Record<string, 'value' | 'flag'>;
 
 /**
- * Reads `--name value`, `--name=value` and bare `--flag` (GNU long-option style;
- * common practice). Unknown, repeated or positional arguments are refused, so a
- * mistyped option can never be silently ignored.
+ * Reads `--name value`, `--name=value` and bare `--flag` (GNU long-option style; common
+ * practice). Unknown, repeated or positional arguments are refused, so a mistyped option can
+ * never be silently ignored. node's util.parseArgs splits the arguments into tokens; its own
+ * strict mode is not used because it refuses a value starting with "-" (`--epsilon -1` must
+ * reach the zod check, which explains what ε may be) and it keeps the last of repeated options.
  */
 export function parseFlags(command: string, args: readonly string[], spec: FlagSpec): Record<string, string | true> {
+  const options = Object.fromEntries(
+    Object.entries(spec).map(([name, kind]) => [name, { type: kind === 'value' ? ('string' as const) : ('boolean' as const) }]),
+  );
+  const { tokens } = parseArgs({ args: [...args], options, strict: false, allowPositionals: true, tokens: true });
   const out: Record<string, string | true> = {};
-  for (let i = 0; i < args.length; i += 1) {
-    const token = args[i] as string;
-    if (!token.startsWith('--') || token === '--') {
-      throw new InvalidInput(`unexpected argument "${token.slice(0, 40)}"; run \`veiltally ${command} --help\``);
-    }
-    const eq = token.indexOf('=');
-    const name = token.slice(2, eq === -1 ? undefined : eq);
+  for (const token of tokens) {
+    if (token.kind === 'positional') throw new InvalidInput(`unexpected argument "${token.value.slice(0, 40)}"; run \`veiltally ${command} --help\``);
+    if (token.kind === 'option-terminator') throw new InvalidInput(`unexpected argument "--"; run \`veiltally ${command} --help\``);
+    const { name, rawName } = token;
+    if (!rawName.startsWith('--')) throw new InvalidInput(`unexpected argument "${rawName.slice(0, 40)}"; run \`veiltally ${command} --help\``);
     const kind = Object.hasOwn(spec, name) ? spec[name] : undefined;
-    if (kind === undefined) {
-      throw new InvalidInput(`unknown option "--${name.slice(0, 40)}"; run \`veiltally ${command} --help\``);
-    }
+    if (kind === undefined) throw new InvalidInput(`unknown option "--${name.slice(0, 40)}"; run \`veiltally ${command} --help\``);
     if (Object.hasOwn(out, name)) throw new InvalidInput(`--${name} was given more than once`);
     if (kind === 'flag') {
-      if (eq !== -1) throw new InvalidInput(`--${name} takes no value`);
+      if (token.value !== undefined) throw new InvalidInput(`--${name} takes no value`);
       out[name] = true;
       continue;
     }
-    let value: string | undefined;
-    if (eq !== -1) value = token.slice(eq + 1);
-    else {
-      const next = args[i + 1];
-      if (next !== undefined && !next.startsWith('--')) {
-        value = next;
-        i += 1;
-      }
-    }
-    if (value === undefined || value === '') throw new InvalidInput(`--${name} needs a value`);
+    // A following option is not a value: `--epsilon --json` lacks the value.
+    const value = token.value;
+    if (value === undefined || value === '' || (!token.inlineValue && value.startsWith('--'))) throw new InvalidInput(`--${name} needs a value`);
     out[name] = value;
   }
   return out;

@@ -3,16 +3,7 @@ import { extname } from 'node:path';
 import { InvalidInput } from '../errors.ts';
 import { parseCsvBallots } from './csvBallots.ts';
 import { parsePreflibCat } from './preflibBallots.ts';
-
-/**
- * Approval counts read from a file. The counts stay inside the CLI process: the
- * draw command passes them to the mechanism and never prints them.
- */
-export interface BallotTally {
-  labels: string[];
-  scores: number[];
-  ballots: number;
-}
+import type { BallotTally } from './ballotTally.ts';
 
 export function parseBallotText(text: string, kind: 'csv' | 'cat'): BallotTally {
   const clean = text.replace(/^\uFEFF/, '');

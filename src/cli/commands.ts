@@ -38,6 +38,16 @@ export const commands: readonly CommandEntry[] = [
     load: async () => (await import('./commands/bounds.ts')).boundsCommand,
   },
   {
+    name: 'verify',
+    summary: 'check a signed result statement offline: signature, format, election and every bound',
+    load: async () => (await import('./commands/verify.ts')).verifyCommand,
+  },
+  {
+    name: 'key',
+    summary: 'add a new statement-signing key (old statements keep verifying) or list the keys',
+    load: async () => (await import('./commands/key.ts')).keyCommand,
+  },
+  {
     name: 'demo',
     summary: 'add two sample elections and a demo organiser login, and print their addresses',
     load: async () => (await import('./commands/demo.ts')).demoCommand,

@@ -1,38 +1,35 @@
+import { CsvError, parse } from 'csv-parse/sync';
 import { InvalidInput } from '../errors.ts';
-import type { BallotTally } from './ballotFiles.ts';
+import type { BallotTally } from './ballotTally.ts';
 
 /**
- * Splits CSV text into records of fields (RFC 4180: comma separators, fields
- * optionally in double quotes, "" for a quote inside quotes, CRLF or LF line ends).
- * Each record keeps the line it started on, for error messages.
+ * Splits CSV text into records of fields (RFC 4180: comma separators, fields optionally in
+ * double quotes, "" for a quote inside quotes; CRLF, LF or CR line ends, mixed). Each record
+ * keeps the line it started on, for error messages. Blank lines are skipped.
  */
 export function splitCsv(text: string): { line: number; fields: string[] }[] {
   const records: { line: number; fields: string[] }[] = [];
-  let fields: string[] = [];
-  let field = '';
-  let quoted = false;
-  let line = 1;
-  let start = 1;
-  for (let i = 0; i < text.length; i += 1) {
-    const ch = text[i] as string;
-    if (quoted) {
-      if (ch === '"' && text[i + 1] === '"') [field, i] = [field + '"', i + 1];
-      else if (ch === '"') quoted = false;
-      else {
-        if (ch === '\n') line += 1;
-        field += ch;
-      }
-    } else if (ch === '"' && field === '') quoted = true;
-    else if (ch === ',') [fields, field] = [[...fields, field], ''];
-    else if (ch === '\n' || ch === '\r') {
-      if (ch === '\r' && text[i + 1] === '\n') i += 1;
-      records.push({ line: start, fields: [...fields, field] });
-      [fields, field, line] = [[], '', line + 1];
-      start = line;
-    } else field += ch;
+  // csv-parse reports where a record ends; it starts after the previous one and any blank lines.
+  let lastEnd = 0;
+  let lastEmpty = 0;
+  try {
+    parse(text, {
+      record_delimiter: ['\r\n', '\n', '\r'],
+      relax_column_count: true, // a row of the wrong length gets our own message below
+      relax_quotes: true, // a quote inside an unquoted cell is an ordinary character
+      skip_empty_lines: true,
+      on_record: (fields: string[], context) => {
+        records.push({ line: lastEnd + 1 + (context.empty_lines - lastEmpty), fields });
+        [lastEnd, lastEmpty] = [context.lines, context.empty_lines];
+        return null;
+      },
+    });
+  } catch (e) {
+    if (e instanceof CsvError && e.code === 'CSV_QUOTE_NOT_CLOSED') {
+      throw new InvalidInput(`row ${lastEnd + 1}: a quoted cell is never closed`);
+    }
+    throw new InvalidInput('the ballot file is not readable CSV');
   }
-  if (quoted) throw new InvalidInput(`row ${start}: a quoted cell is never closed`);
-  if (field !== '' || fields.length > 0) records.push({ line: start, fields: [...fields, field] });
   return records.filter((r) => !(r.fields.length === 1 && r.fields[0]?.trim() === ''));
 }
 

@@ -70,7 +70,7 @@ export function makeOrganiserCommand(open: ContextOpener = openConfigured): Comm
         if (action === 'list') {
           const organisers = await listOrganisers(ctx.knex);
           if (organisers.length === 0) io.stdout('No organisers yet: open the site and follow the first-run page.\n');
-          for (const o of organisers) io.stdout(`${o.email}\tadded ${o.createdAt.toISOString().slice(0, 10)}\n`);
+          for (const o of organisers) io.stdout(`${o.email}\tadded ${o.createdAt.toISOString().slice(0, 10)}${o.demo ? '\tdemo sample login' : ''}\n`);
           return 0;
         }
         const email = flags!.email.trim().toLowerCase();

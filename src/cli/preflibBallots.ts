@@ -1,5 +1,5 @@
 import { InvalidInput } from '../errors.ts';
-import type { BallotTally } from './ballotFiles.ts';
+import type { BallotTally } from './ballotTally.ts';
 
 /**
  * PrefLib categorical files (.cat; Mattei & Walsh 2013, format as described in

@@ -104,7 +104,7 @@ export function lockDataDirectory(directory: string): DirectoryLock {
     if (!seen) continue; // released meanwhile: try again
     const { holder, raw } = seen;
     if (!holder) {
-      let age = 0;
+      let age: number;
       try {
         age = Date.now() - fs.statSync(file).mtimeMs;
       } catch {

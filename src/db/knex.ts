@@ -18,6 +18,9 @@ export interface Database {
 // bigint / numeric come back from pg as strings; counts and ids we use fit in a double.
 pg.types.setTypeParser(pg.types.builtins.INT8, (v) => Number(v));
 
+/** Connections per app server to PostgreSQL (the benchmarks' ceiling uses the same). */
+export const DEFAULT_POOL_MAX = 10;
+
 export type DatabaseOptions =
   | { engine: 'postgres'; url: string; searchPath?: string; poolMax?: number }
   | { engine: 'pglite'; dataDir: string | null };
@@ -32,7 +35,7 @@ export function openDatabase(options: DatabaseOptions): Database {
       client: 'pg',
       connection: { connectionString: options.url },
       searchPath: options.searchPath ? [options.searchPath] : undefined,
-      pool: { min: 0, max: options.poolMax ?? 10 },
+      pool: { min: 0, max: options.poolMax ?? DEFAULT_POOL_MAX },
     });
     return { knex, engine: 'postgres', close: () => knex.destroy() };
   }

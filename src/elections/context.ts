@@ -32,6 +32,17 @@ export interface UseCaseContext {
    * Tests pass cheap parameters here.
    */
   readonly passwordKdf?: KdfParams;
+  /** The annual ε budget per member group (config); absent means DEFAULT_LEDGER_POLICY. */
+  readonly ledgerPolicy?: LedgerPolicy;
 }
+
+export interface LedgerPolicy {
+  /** Exact decimal: the most ε for how members voted a group may spend in 12 months. */
+  readonly annualBudget: string;
+  /** When true, an election that would pass the budget may still be opened (with a warning). */
+  readonly allowOverBudget: boolean;
+}
+
+export const DEFAULT_LEDGER_POLICY: LedgerPolicy = Object.freeze({ annualBudget: '10', allowOverBudget: false });
 
 export const DEFAULT_KDF: KdfParams = Object.freeze({ memoryKiB: 64 * 1024, iterations: 3, parallelism: 4 });

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { InvalidInput } from '../errors.ts';
-import { parseEpsilon } from '../mechanism/index.ts';
+import { DRAW_RULES, parseEpsilon, type DrawRule } from '../mechanism/index.ts';
 import type { Neighbour } from './electionRepo.ts';
 import { isTimeZone } from './time.ts';
 
@@ -14,6 +14,8 @@ export interface DraftInput {
   seats: number;
   epsilon: string;
   neighbour: Neighbour;
+  /** The draw rule adopted before voting; absent means the default, the exponential mechanism. */
+  rule?: DrawRule;
   opensAt: Date;
   closesAt: Date;
   timeZone: string;
@@ -22,6 +24,11 @@ export interface DraftInput {
   retentionDays: number | null;
   /** null: the organiser gave no estimate (it only feeds the guidance). */
   expectedVoters: number | null;
+  /**
+   * The member group whose privacy ledger the draw is charged to, by name ("Rowing club members").
+   * Absent: the instance's default group on creation, unchanged on an edit.
+   */
+  memberGroup?: string;
 }
 
 export const DRAFT_LIMITS = Object.freeze({
@@ -35,6 +42,7 @@ export const DRAFT_LIMITS = Object.freeze({
   retentionMin: 1,
   retentionMax: 90,
   votersMax: 1_000_000,
+  groupMax: 120,
 });
 
 const L = DRAFT_LIMITS;
@@ -58,6 +66,7 @@ export const draftSchema = z
     seats: z.number().int('Seats must be a whole number.').min(1, 'There must be at least 1 seat.'),
     epsilon: z.string(),
     neighbour: z.enum(['replace-one', 'add-remove']),
+    rule: z.enum(DRAW_RULES as [DrawRule, ...DrawRule[]]).default('exponential'),
     opensAt: z.date(),
     closesAt: z.date(),
     timeZone: z.string().refine(isTimeZone, 'Choose a time zone from the list.'),
@@ -74,6 +83,12 @@ export const draftSchema = z
       .min(1, 'Expect at least 1 voter.')
       .max(L.votersMax, `We support up to ${L.votersMax.toLocaleString('en')} voters.`)
       .nullable(),
+    memberGroup: z
+      .string()
+      .trim()
+      .min(1, 'Name the group of members who vote, such as “Rowing club members”.')
+      .max(L.groupMax, `Keep the group name to ${L.groupMax} characters or fewer.`)
+      .optional(),
   })
   .superRefine((d, issue) => {
     const seen = new Map<string, number>();

@@ -1,5 +1,6 @@
 import type { Db } from '../db/knex.ts';
 import type { DraftInput } from './draft.ts';
+import { DEFAULT_GROUP_NAME, groupIdFor } from './ledgerRepo.ts';
 
 /** Column values of the draft settings; options are written separately, by position. */
 function draftColumns(d: DraftInput) {
@@ -10,6 +11,7 @@ function draftColumns(d: DraftInput) {
     seats: d.seats,
     epsilon: d.epsilon,
     neighbour: d.neighbour,
+    draw_rule: d.rule ?? 'exponential',
     opens_at: d.opensAt,
     closes_at: d.closesAt,
     time_zone: d.timeZone,
@@ -28,6 +30,7 @@ export async function insertDraft(
     owner_id: row.ownerId,
     state: 'draft',
     ...draftColumns(row.draft),
+    group_id: await groupIdFor(db, row.draft.memberGroup ?? DEFAULT_GROUP_NAME, row.at),
     public_key: row.publicKey,
     wrapped_key: JSON.stringify(row.wrappedKey),
     created_at: row.at,
@@ -37,7 +40,8 @@ export async function insertDraft(
 }
 
 export async function updateDraftRow(db: Db, id: string, draft: DraftInput, at: Date): Promise<void> {
-  await db('elections').where({ id, state: 'draft' }).update({ ...draftColumns(draft), updated_at: at });
+  const group = draft.memberGroup === undefined ? {} : { group_id: await groupIdFor(db, draft.memberGroup, at) };
+  await db('elections').where({ id, state: 'draft' }).update({ ...draftColumns(draft), ...group, updated_at: at });
   await db('options').where({ election_id: id }).delete();
   await writeOptions(db, id, draft.options);
 }

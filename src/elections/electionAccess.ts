@@ -40,17 +40,26 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
  */
 export async function votingElection(db: Db, electionId: string, now: Date): Promise<VotingElection> {
   if (!UUID.test(electionId)) throw new ElectionNotFound();
+  // d comes in the same statement: one round trip fewer on every cast (README, Performance).
   const row = await db('elections')
     .where({ id: electionId })
     .forShare()
-    .first('id', 'state', 'opens_at', 'closes_at', 'public_key');
+    .first(
+      'id',
+      'state',
+      'opens_at',
+      'closes_at',
+      'public_key',
+      db.raw('(select count(*) from options o where o.election_id = elections.id) as option_count'),
+      db.raw('(select max(position) from options o where o.election_id = elections.id) as option_top'),
+    );
   if (!row) throw new ElectionNotFound();
   const state = row.state as ElectionState;
   const opensAt = new Date(row.opens_at);
   const closesAt = new Date(row.closes_at);
   if (!acceptsBallotsAt({ state, opensAt, closesAt }, now)) throw new ElectionNotOpen(notOpenReason(state, opensAt, now));
   if (row.public_key == null) throw new TallyKeyMissing();
-  return { id: electionId, publicKey: toBuffer(row.public_key), optionCount: await optionCount(db, electionId) };
+  return { id: electionId, publicKey: toBuffer(row.public_key), optionCount: checkedOptionCount(row.option_count, row.option_top) };
 }
 
 function notOpenReason(state: ElectionState, opensAt: Date, now: Date): NotOpenReason {
@@ -62,7 +71,11 @@ function notOpenReason(state: ElectionState, opensAt: Date, now: Date): NotOpenR
 /** d, the number of options; positions are 0..d-1, the bit index in every ballot. */
 export async function optionCount(db: Db, electionId: string): Promise<number> {
   const row = await db('options').where({ election_id: electionId }).first(db.raw('count(*) as n'), db.raw('max(position) as top'));
-  const n = Number(row?.n ?? 0);
-  if (n > 0 && Number(row?.top) !== n - 1) throw new Error('option positions are not 0..d-1');
+  return checkedOptionCount(row?.n, row?.top);
+}
+
+function checkedOptionCount(count: unknown, top: unknown): number {
+  const n = Number(count ?? 0);
+  if (n > 0 && Number(top) !== n - 1) throw new Error('option positions are not 0..d-1');
   return n;
 }

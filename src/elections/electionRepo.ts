@@ -1,5 +1,6 @@
 import type { Db } from '../db/knex.ts';
 import { toBuffer } from '../db/knex.ts';
+import type { DrawRule } from '../mechanism/index.ts';
 
 export type ElectionState = 'draft' | 'open' | 'closed' | 'tallied' | 'published';
 export type Neighbour = 'replace-one' | 'add-remove';
@@ -22,6 +23,7 @@ export interface Election {
   seats: number;
   epsilon: string;
   neighbour: Neighbour;
+  rule: DrawRule;
   opensAt: Date;
   closesAt: Date;
   timeZone: string;
@@ -67,6 +69,7 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     seats: r.seats as number,
     epsilon: r.epsilon as string,
     neighbour: r.neighbour as Neighbour,
+    rule: r.draw_rule === 'permute-and-flip' ? 'permute-and-flip' : 'exponential',
     opensAt: new Date(r.opens_at as string),
     closesAt: new Date(r.closes_at as string),
     timeZone: r.time_zone as string,
@@ -104,8 +107,20 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 /** Finds an election by id; a malformed id is simply not found. */
 export async function findElection(db: Db, id: string): Promise<Election | null> {
   if (!UUID.test(id)) return null;
-  const row = await db('elections').where({ id }).first();
-  return row ? fromRow(row, await loadOptions(db, id)) : null;
+  // The options come in the same statement: every member page starts here, so one round trip
+  // fewer on each (README, Performance).
+  const row = await db('elections')
+    .where({ id })
+    .first(
+      'elections.*',
+      db.raw(
+        `(select coalesce(json_agg(json_build_object('position', o.position, 'label', o.label, 'description', o.description) order by o.position), '[]'::json)
+          from options o where o.election_id = elections.id) as options_json`,
+      ),
+    );
+  if (!row) return null;
+  const options = (typeof row.options_json === 'string' ? JSON.parse(row.options_json) : row.options_json) as ElectionOption[];
+  return fromRow(row, options);
 }
 
 /** Locks the election row for the rest of the transaction (serialises tally, open, close, publish). */

@@ -159,6 +159,19 @@ export class NoCodesIssued extends VeiltallyError {
   }
 }
 
+/** Opening would take the member group past its annual ε budget, and the configuration does not allow it. */
+export class OverBudget extends VeiltallyError {
+  readonly code = 'OverBudget';
+  override readonly status = 409;
+  constructor(groupName: string, projected: string, budget: string) {
+    super(
+      `Opening this election would bring “${groupName}” to ε = ${projected} for how members voted over 12 months, ` +
+        `past the annual budget of ε = ${budget}. Wait until older draws leave the 12-month window, lower ε, ` +
+        'or ask the operator to allow going over the budget (VEILTALLY_ALLOW_OVER_BUDGET).',
+    );
+  }
+}
+
 /** A code batch asked for again that this election never issued (or of another size). */
 export class CodeBatchUnknown extends VeiltallyError {
   readonly code = 'CodeBatchUnknown';

@@ -11,6 +11,7 @@ import {
 } from '../mechanism/index.ts';
 import type { UseCaseContext } from './context.ts';
 import type { Election } from './electionRepo.ts';
+import { AlreadyTallied } from './errors.ts';
 import { chargeDraw, DEFAULT_GROUP_NAME, findGroup, groupIdFor, listLedger } from './ledgerRepo.ts';
 import { registerSigningKey } from './signingKeyRepo.ts';
 
@@ -27,6 +28,8 @@ export async function chargeAndSign(
   input: { election: Election; draw: ExponentialDraw; winners: number[] | null; ballots: number; at: Date },
 ): Promise<StatementEnvelope> {
   const { election: e, draw, at } = input;
+  // One election, one draw: if a statement exists (an election reset behind the app's back), refuse.
+  if (await trx('statements').where({ election_id: e.id }).first('draw_sequence')) throw new AlreadyTallied();
   const groupId = e.groupId ?? (await groupIdFor(trx, DEFAULT_GROUP_NAME, at));
   if (!e.groupId) await trx('elections').where({ id: e.id }).update({ group_id: groupId });
   const group = (await findGroup(trx, groupId))!;

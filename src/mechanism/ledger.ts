@@ -94,3 +94,11 @@ export function checkBudget(input: { spent: string; pending: readonly string[]; 
   const projected = sumEpsilons([input.spent, ...input.pending, input.next]);
   return { projected, budget: input.budget, exceeds: epsilonExceeds(projected, input.budget) };
 }
+
+/**
+ * What one draw costs for how a member voted: ε under replace-one, 2ε under add/remove (a changed
+ * ballot is one removal and one addition). Must agree with makeExponentialDraw's privacy.howVoted.
+ */
+export function howVotedCost(epsilon: string, neighbour: 'replace-one' | 'add-remove'): string {
+  return neighbour === 'add-remove' ? sumEpsilons([epsilon, epsilon]) : sumEpsilons([epsilon]);
+}

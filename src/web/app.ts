@@ -20,6 +20,10 @@ export function createApp(given: Omit<AppDeps, 'limits'> & { limits?: AppDeps['l
   app.set('trust proxy', Array.isArray(deps.config.trustProxy) ? [...deps.config.trustProxy] : deps.config.trustProxy);
   app.set('view engine', 'ejs');
   app.set('views', VIEWS_DIR);
+  // Express caches compiled views only when NODE_ENV=production; without it every render read
+  // and recompiled its templates (the largest share of a page's server time). Views change
+  // only with a new build, so cache them always.
+  app.set('view cache', true);
   app.locals.siteName = 'Veiltally';
   app.locals.publicUrl = deps.config.publicUrl;
 

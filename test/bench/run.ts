@@ -1,85 +1,77 @@
 /**
- * Runs every benchmark module named test/bench/*.bench.ts (or only those whose
- * file name contains an argument: `npm run bench -- mechanism`) and prints each
- * result as a table. A module exports `run()` returning, or resolving to, one of:
- * a BenchReport, a list of BenchReports, or a list of flat row objects (their keys
- * become the columns). Results also go to test/bench/results/latest.json (ignored
- * by git). Speed targets live here, never in timed unit tests.
+ * `npm run bench [-- --quick] [-- name…]`: runs test/bench/*.bench.ts (or those whose file name
+ * contains a given word), prints one table of figures, and writes bench-results.json at the
+ * repository root (git-ignored):
+ *   {"machine": "...", "figures": [{"name", "value", "unit", "ceiling", "ratio", "target", "met"}]}
+ * Every ceiling is measured in the same run, since shared machines are noisy. A missed target is
+ * reported, never a failure: the exit code is non-zero only when a benchmark could not run.
+ * PostgreSQL: BENCH_DATABASE_URL (or TEST_DATABASE_URL), default postgres://postgres@127.0.0.1:5432/postgres.
  */
-import { mkdirSync, readdirSync, writeFileSync } from 'node:fs';
+import { readdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
-
-export interface BenchReport {
-  title: string;
-  columns: string[];
-  rows: (string | number)[][];
-  notes?: string[];
-}
+import { parseArgs } from 'node:util';
+// @ts-expect-error plain JavaScript shared with npm start; no declarations
+import { buildIsFresh } from '../../scripts/buildState.mjs';
+// @ts-expect-error plain JavaScript shared with npm start; no declarations
+import { build } from '../../scripts/build.mjs';
+import { machine, type BenchOptions, type Figure } from './support/figures.ts';
 
 const here = path.dirname(fileURLToPath(import.meta.url));
+const root = path.resolve(here, '../..');
 
-function table(report: BenchReport): string {
-  const cells = [report.columns, ...report.rows.map((r) => r.map(String))];
-  const widths = report.columns.map((_, c) => Math.max(...cells.map((r) => (r[c] ?? '').length)));
-  const line = (r: string[]) => r.map((cell, c) => cell.padStart(widths[c] ?? 0)).join('  ');
-  return [line(report.columns), widths.map((w) => '-'.repeat(w)).join('  '), ...cells.slice(1).map(line)].join('\n');
+const { values, positionals } = parseArgs({ options: { quick: { type: 'boolean', default: false } }, allowPositionals: true });
+const opts: BenchOptions = { quick: values.quick ?? false };
+
+function cell(x: unknown): string {
+  if (x === null || x === undefined) return '–';
+  if (typeof x === 'boolean') return x ? 'yes' : 'NO';
+  return String(x);
 }
 
-function isReport(value: unknown): value is BenchReport {
-  const r = value as BenchReport;
-  return typeof r?.title === 'string' && Array.isArray(r.columns) && Array.isArray(r.rows);
+function table(figures: readonly Figure[]): string {
+  const columns = ['name', 'value', 'unit', 'ceiling', 'ratio', 'target', 'met'] as const;
+  const cells = [[...columns], ...figures.map((f) => columns.map((c) => cell(f[c])))];
+  const widths = columns.map((_, c) => Math.max(...cells.map((r) => r[c]!.length)));
+  const line = (r: string[]) => r.map((x, c) => (c === 0 ? x.padEnd(widths[c]!) : x.padStart(widths[c]!))).join('  ');
+  return [line(cells[0]!), widths.map((w) => '-'.repeat(w)).join('  '), ...cells.slice(1).map(line)].join('\n');
 }
 
-type Cell = string | number | boolean | null;
-function isFlatRow(value: unknown): value is Record<string, Cell> {
-  return (
-    value !== null &&
-    typeof value === 'object' &&
-    !Array.isArray(value) &&
-    Object.values(value).every((v) => v === null || ['string', 'number', 'boolean'].includes(typeof v))
-  );
-}
-
-function toReports(file: string, result: unknown): BenchReport[] {
-  const list = Array.isArray(result) ? result : [result];
-  if (list.every(isReport)) return list;
-  if (list.every(isFlatRow)) {
-    const columns = [...new Set(list.flatMap((row) => Object.keys(row)))];
-    return [{ title: file, columns, rows: list.map((row) => columns.map((c) => String(row[c] ?? ''))) }];
-  }
-  throw new Error('run() must return a report, a list of reports or a list of flat rows');
-}
-
-const filters = process.argv.slice(2);
 const files = readdirSync(here)
   .filter((f) => f.endsWith('.bench.ts'))
-  .filter((f) => filters.length === 0 || filters.some((x) => f.includes(x)))
+  .filter((f) => positionals.length === 0 || positionals.some((x) => f.includes(x)))
   .sort();
-
 if (files.length === 0) {
   console.error('no benchmark modules matched');
-  process.exitCode = 1;
+  process.exit(1);
 }
 
-const all: Record<string, BenchReport[]> = {};
+const machineText = machine();
+console.log(`Veiltally benchmarks${opts.quick ? ' (quick smoke run: small sizes, figures are rough)' : ''}\n${machineText}`);
+if (!(buildIsFresh as () => boolean)()) {
+  console.log('building dist/ first (the server and the command line are measured compiled)…');
+  (build as () => number)();
+}
+
+const figures: Figure[] = [];
 for (const file of files) {
   console.log(`\n=== ${file}`);
+  const started = performance.now();
   try {
-    const mod = (await import(pathToFileURL(path.join(here, file)).href)) as { run?: () => unknown };
+    const mod = (await import(pathToFileURL(path.join(here, file)).href)) as { run?: (o: BenchOptions) => Promise<Figure[]> | Figure[] };
     if (typeof mod.run !== 'function') throw new Error('module does not export run()');
-    const reports = toReports(file, await mod.run());
-    for (const report of reports) {
-      console.log(`\n${report.title}\n${table(report)}`);
-      for (const note of report.notes ?? []) console.log(`  ${note}`);
-    }
-    all[file] = reports;
+    const got = await mod.run(opts);
+    figures.push(...got);
+    console.log(table(got));
+    console.log(`  (${((performance.now() - started) / 1000).toFixed(1)} s)`);
   } catch (e) {
-    console.error(`${file} failed: ${e instanceof Error ? e.message : String(e)}`);
+    console.error(`${file} failed: ${e instanceof Error ? (e.stack ?? e.message) : String(e)}`);
     process.exitCode = 1;
   }
 }
 
-const out = path.join(here, 'results');
-mkdirSync(out, { recursive: true });
-writeFileSync(path.join(out, 'latest.json'), `${JSON.stringify({ at: new Date().toISOString(), node: process.version, reports: all }, null, 2)}\n`);
+console.log(`\n=== all figures\n${table(figures)}`);
+const missed = figures.filter((f) => f.met === false).map((f) => f.name);
+if (missed.length) console.log(`\nTargets missed (reported, not a failure): ${missed.join('; ')}`);
+writeFileSync(path.join(root, 'bench-results.json'), `${JSON.stringify({ machine: machineText, figures }, null, 2)}\n`);
+console.log('\nwrote bench-results.json');

@@ -26,11 +26,13 @@ export interface FixtureOptions {
   seats?: number;
   epsilon?: string;
   neighbour?: 'replace-one' | 'add-remove';
+  rule?: 'exponential' | 'permute-and-flip';
   opensAt?: Date;
   closesAt?: Date;
   timeZone?: string;
   publishTurnout?: boolean;
   codes?: number;
+  memberGroup?: string;
 }
 
 export interface ElectionFixture {
@@ -68,12 +70,14 @@ export async function createDraft(ctx: UseCaseContext, organiserId: string, o: F
       seats: o.seats ?? 1,
       epsilon: o.epsilon ?? '1',
       neighbour: o.neighbour ?? 'replace-one',
+      ...(o.rule ? { rule: o.rule } : {}),
       opensAt,
       closesAt: o.closesAt ?? new Date(opensAt.getTime() + 7 * 24 * 3600_000),
       timeZone: o.timeZone ?? 'Europe/London',
       publishTurnout: o.publishTurnout ?? false,
       retentionDays: null,
       expectedVoters: 20,
+      ...(o.memberGroup === undefined ? {} : { memberGroup: o.memberGroup }),
     },
   });
   const { codes } = await issueCodes(ctx, { electionId: id, organiserId, count: o.codes ?? 6 });

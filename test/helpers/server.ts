@@ -39,7 +39,9 @@ export async function startServer(env: Record<string, string> = {}, dataDir?: st
   child.stderr!.on('data', (d) => (out += d));
   const url = `http://127.0.0.1:${port}`;
   const exited = new Promise<number | null>((resolve) => child.once('exit', (code) => resolve(code)));
-  const deadline = Date.now() + 30_000;
+  // A loaded machine may need longer: VEILTALLY_TEST_START_SECONDS raises the wait (default 30).
+  const waitSeconds = Number(process.env.VEILTALLY_TEST_START_SECONDS ?? 30);
+  const deadline = Date.now() + waitSeconds * 1000;
   for (;;) {
     if (child.exitCode !== null) throw new Error(`server exited early: ${out}`);
     try {
@@ -50,7 +52,7 @@ export async function startServer(env: Record<string, string> = {}, dataDir?: st
     }
     if (Date.now() > deadline) {
       child.kill('SIGKILL');
-      throw new Error(`server did not answer /healthz within 30 s: ${out}`);
+      throw new Error(`server did not answer /healthz within ${waitSeconds} s: ${out}`);
     }
     await new Promise((r) => setTimeout(r, 150));
   }

@@ -1,13 +1,17 @@
 import session from 'express-session';
 import type { Knex } from 'knex';
-import {
-  deleteSession,
-  readSession,
-  touchSession,
-  writeSession,
-} from '../../accounts/sessionRepo.ts';
+import { deleteSession, readSessionRow, touchSession, writeSession } from '../../accounts/sessionRepo.ts';
 
 type Callback = (err?: unknown, value?: unknown) => void;
+
+/**
+ * A touch that would move the row's expiry by less than this is skipped. express-session (with
+ * rolling cookies) touches after every request, which cost a database write on every member
+ * step; now the idle timeout runs from the last touch, so it lies between IDLE − 1 min and IDLE.
+ */
+export const TOUCH_SLACK_MS = 60_000;
+/** Bounds the expiries remembered between a request's read and its touch (aborted requests never touch). */
+const REMEMBERED_MAX = 10_000;
 
 /** express-session store on our own sessions table, so every app server shares sessions. */
 export class DatabaseSessionStore extends session.Store {
@@ -19,19 +23,29 @@ export class DatabaseSessionStore extends session.Store {
     super();
   }
 
+  /** Row expiry seen by get(), used by the touch at the end of the same request. */
+  private readonly seenExpiry = new Map<string, number>();
+
   /** Idle expiry from the injected clock (the cookie's own date comes from the wall clock). */
   private expiry(_sess: session.SessionData): Date {
     return new Date(this.now().getTime() + this.idleMs);
   }
 
   override get(sid: string, cb: (err: unknown, sess?: session.SessionData | null) => void): void {
-    readSession(this.knex, sid, this.now()).then(
-      (data) => cb(null, (data as session.SessionData | null) ?? null),
+    readSessionRow(this.knex, sid, this.now()).then(
+      (row) => {
+        if (row) {
+          if (this.seenExpiry.size >= REMEMBERED_MAX) this.seenExpiry.clear();
+          this.seenExpiry.set(sid, row.expiresAt.getTime());
+        }
+        cb(null, (row?.data as session.SessionData | undefined) ?? null);
+      },
       (err) => cb(err),
     );
   }
 
   override set(sid: string, sess: session.SessionData, cb?: Callback): void {
+    this.seenExpiry.delete(sid);
     writeSession(this.knex, sid, sess, this.expiry(sess)).then(
       () => cb?.(),
       (err) => cb?.(err),
@@ -39,13 +53,21 @@ export class DatabaseSessionStore extends session.Store {
   }
 
   override touch(sid: string, sess: session.SessionData, cb?: Callback): void {
-    touchSession(this.knex, sid, this.expiry(sess)).then(
+    const seen = this.seenExpiry.get(sid);
+    this.seenExpiry.delete(sid);
+    const expiry = this.expiry(sess);
+    if (seen !== undefined && expiry.getTime() - seen < TOUCH_SLACK_MS) {
+      cb?.();
+      return;
+    }
+    touchSession(this.knex, sid, expiry).then(
       () => cb?.(),
       (err) => cb?.(err),
     );
   }
 
   override destroy(sid: string, cb?: Callback): void {
+    this.seenExpiry.delete(sid);
     deleteSession(this.knex, sid).then(
       () => cb?.(),
       (err) => cb?.(err),

@@ -9,13 +9,24 @@ export interface ShownTime {
   text: string;
 }
 
-function formatter(timeZone: string): Intl.DateTimeFormat {
-  try {
-    return new Intl.DateTimeFormat('en-GB', { dateStyle: 'full', timeStyle: 'short', timeZone });
-  } catch {
-    // A zone the runtime does not know is shown in UTC rather than failing the page.
-    return new Intl.DateTimeFormat('en-GB', { dateStyle: 'full', timeStyle: 'short', timeZone: 'UTC' });
+// Building an Intl.DateTimeFormat costs far more than formatting with one (it showed in the
+// profile of every member page), so each zone's formatter is made once. Zones are a bounded set.
+const formatters = new Map<string, { format: Intl.DateTimeFormat; zone: string }>();
+
+function formatter(timeZone: string): { format: Intl.DateTimeFormat; zone: string } {
+  let f = formatters.get(timeZone);
+  if (!f) {
+    let format: Intl.DateTimeFormat;
+    try {
+      format = new Intl.DateTimeFormat('en-GB', { dateStyle: 'full', timeStyle: 'short', timeZone });
+    } catch {
+      // A zone the runtime does not know is shown in UTC rather than failing the page.
+      format = new Intl.DateTimeFormat('en-GB', { dateStyle: 'full', timeStyle: 'short', timeZone: 'UTC' });
+    }
+    f = { format, zone: format.resolvedOptions().timeZone };
+    formatters.set(timeZone, f);
   }
+  return f;
 }
 
 /**
@@ -24,7 +35,6 @@ function formatter(timeZone: string): Intl.DateTimeFormat {
  */
 export function shownTime(at: Date, timeZone: string): ShownTime {
   const f = formatter(timeZone);
-  const zone = f.resolvedOptions().timeZone;
   const minute = new Date(Math.floor(at.getTime() / 60_000) * 60_000);
-  return { iso: minute.toISOString(), text: `${f.format(minute)} (${zone})` };
+  return { iso: minute.toISOString(), text: `${f.format.format(minute)} (${f.zone})` };
 }

@@ -53,7 +53,8 @@ describe.each(engines)('no plaintext at rest [%s]', (engine) => {
     const lower = text.toLowerCase();
     // Control: the scan sees what is meant to be there (ciphertexts, the signed result).
     expect(text).toContain('ballots: (');
-    expect(text).toContain('"signature"');
+    expect(text).toContain('statements: ('); // the signed statement of the draw
+    expect(text).toContain('privacy_ledger: (');
     for (const [what, secret] of secrets) {
       for (const form of forms(secret)) {
         const found = /^[0-9a-f]+$/.test(form) || form === form.toLowerCase() ? lower.includes(form.toLowerCase()) : text.includes(form);

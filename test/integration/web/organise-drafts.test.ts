@@ -25,8 +25,6 @@ describe.each(engines)('organiser drafts: edit, ownership, CSRF [%s]', (engine) 
     await db.dispose();
   });
 
-  const create = (overrides: Record<string, string | string[]> = {}) => postForm(agent, '/organise/elections/new', '/organise/elections/new', electionForm(overrides));
-
   describe('editing a draft', () => {
     let id: string;
     beforeAll(async () => {

@@ -12,7 +12,6 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
   const clock = testClock('2026-06-01T09:00:00Z');
   let app: ReturnType<typeof testApp>;
   let agent: Agent;
-  let other: Agent;
   beforeAll(async () => {
     db = await freshDatabase(engine);
     const ctx = organiseContext(db, clock);
@@ -20,7 +19,7 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     const me = await makeOrganiser(ctx, 'captain@rowing.example');
     const them = await makeOrganiser(ctx, 'treasurer@rowing.example');
     agent = await signedIn(app, me.email);
-    other = await signedIn(app, them.email);
+    await signedIn(app, them.email);
   });
   afterAll(async () => {
     await db.dispose();

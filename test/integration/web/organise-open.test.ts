@@ -17,14 +17,13 @@ describe.each(engines)('organiser opening [%s]', (engine) => {
   let app: ReturnType<typeof testApp>;
   let me: { id: string; email: string };
   let agent: Agent;
-  let other: Agent;
   const path = (id: string, step = '') => `/organise/elections/${id}${step ? `/${step}` : ''}`;
   const post = (id: string, step: string, fields: Record<string, string> = {}) => postForm(agent, path(id), path(id, step), fields);
   /** Jumps the clock and signs in again, since a jump of days passes the 12-hour session limit. */
   const at = async (iso: string) => {
     clock.set(iso);
     agent = await signedIn(app, me.email);
-    other = await signedIn(app, 'auditor@tenants.example');
+    await signedIn(app, 'auditor@tenants.example');
   };
 
   beforeAll(async () => {

@@ -10,6 +10,7 @@ import type { AppDeps } from '../../deps.ts';
 import { electionListView } from '../../presenters/electionList.ts';
 import { blankValues, electionFormView, valuesFromElection } from '../../presenters/electionForm.ts';
 import { organiserOf } from './auth.ts';
+import { groupBudget, groupNameOf } from './groupBudget.ts';
 import { draftFromValues, intentSchema, MAX_ROWS, readElectionForm, readPassphrase, type ElectionFormValues } from './electionSchema.ts';
 import { errorsFrom, type FieldErrors } from './forms.ts';
 
@@ -24,8 +25,9 @@ export function electionRoutes(deps: AppDeps): Router {
   const router = Router();
   const { ctx } = deps;
 
-  function renderForm(res: Response, status: number, electionId: string | null, values: ElectionFormValues, extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphraseCleared?: boolean } = {}) {
-    const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, ...extra });
+  async function renderForm(res: Response, status: number, electionId: string | null, values: ElectionFormValues, extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphraseCleared?: boolean } = {}) {
+    const budget = await groupBudget(ctx, values, electionId);
+    const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, budget, ...extra });
     res.status(status).render('organise/election-form', {
       title: electionId === null ? 'New election' : 'Edit the draft',
       form,
@@ -50,7 +52,7 @@ export function electionRoutes(deps: AppDeps): Router {
   router.get('/organise/elections/new', async (_req, res) => {
     // The zone of the organiser's latest election, else UTC: most organisers always use one zone.
     const [latest] = await listElections(ctx, { organiserId: organiserOf(res).id });
-    renderForm(res, 200, null, blankValues(ctx.now(), latest?.timeZone ?? 'UTC'));
+    await renderForm(res, 200, null, blankValues(ctx.now(), latest?.timeZone ?? 'UTC'));
   });
 
   router.post('/organise/elections/new', async (req, res) => {
@@ -59,32 +61,32 @@ export function electionRoutes(deps: AppDeps): Router {
     const pass = readPassphrase(req.body);
     const all = { ...errors, ...pass.errors };
     const passphraseCleared = typedPassphrase(req.body);
-    if (!draft || Object.keys(all).length > 0) return renderForm(res, 400, null, values, { errors: all, ambiguous, passphraseCleared });
+    if (!draft || Object.keys(all).length > 0) return await renderForm(res, 400, null, values, { errors: all, ambiguous, passphraseCleared });
     try {
       const { electionId } = await createElection(ctx, { organiserId: organiserOf(res).id, draft, passphrase: pass.passphrase });
       res.redirect(303, `/organise/elections/${electionId}`);
     } catch (e) {
       if (!(e instanceof InvalidInput)) throw e;
-      renderForm(res, 400, null, values, { errors: errorsFrom(e), ambiguous, passphraseCleared });
+      await renderForm(res, 400, null, values, { errors: errorsFrom(e), ambiguous, passphraseCleared });
     }
   });
 
   router.get('/organise/elections/:id/edit', async (req, res) => {
     const e = await ownDraft(res, req.params.id);
-    renderForm(res, 200, e.id, valuesFromElection(e));
+    await renderForm(res, 200, e.id, valuesFromElection(e, await groupNameOf(ctx, e.groupId)));
   });
 
   router.post('/organise/elections/:id/edit', async (req, res) => {
     const e = await ownDraft(res, req.params.id);
     const values = readElectionForm(req.body);
     const { draft, errors, ambiguous } = draftFromValues(values);
-    if (!draft) return renderForm(res, 400, e.id, values, { errors, ambiguous });
+    if (!draft) return await renderForm(res, 400, e.id, values, { errors, ambiguous });
     try {
       await updateDraft(ctx, { electionId: e.id, organiserId: organiserOf(res).id, draft });
       res.redirect(303, `/organise/elections/${e.id}`);
     } catch (err) {
       if (!(err instanceof InvalidInput)) throw err;
-      renderForm(res, 400, e.id, values, { errors: errorsFrom(err), ambiguous });
+      await renderForm(res, 400, e.id, values, { errors: errorsFrom(err), ambiguous });
     }
   });
 
@@ -95,7 +97,7 @@ export function electionRoutes(deps: AppDeps): Router {
     const intent = intentSchema.parse(req.body?.intent);
     const addRows = intent === 'more-rows-5' ? 5 : intent === 'more-rows-25' ? 25 : 0;
     const { ambiguous } = draftFromValues(values);
-    renderForm(res, 200, electionId, values, { addRows, ambiguous, passphraseCleared: typedPassphrase(req.body) });
+    await renderForm(res, 200, electionId, values, { addRows, ambiguous, passphraseCleared: typedPassphrase(req.body) });
   });
 
   return router;

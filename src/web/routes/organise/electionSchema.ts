@@ -16,6 +16,8 @@ export interface ElectionFormValues {
   seats: string;
   epsilon: string;
   neighbour: string;
+  /** 'exponential' (the default) or 'permute-and-flip'. */
+  rule: string;
   expectedVoters: string;
   opensAt: string;
   closesAt: string;
@@ -23,6 +25,8 @@ export interface ElectionFormValues {
   publishTurnout: 'yes' | 'no';
   retention: 'shred' | 'keep';
   retentionDays: string;
+  /** The member group the draw is charged to in the privacy ledger. */
+  memberGroup: string;
 }
 
 /** Rows beyond this are never rendered or read; the option limit itself is checked by the draft rules. */
@@ -41,6 +45,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
     seats: cut(field(body, 'seats'), 20),
     epsilon: cut(field(body, 'epsilon'), 20),
     neighbour: field(body, 'neighbour') === 'add-remove' ? 'add-remove' : 'replace-one',
+    rule: field(body, 'rule') === 'permute-and-flip' ? 'permute-and-flip' : 'exponential',
     expectedVoters: cut(field(body, 'expectedVoters'), 20),
     opensAt: cut(field(body, 'opensAt'), 40),
     closesAt: cut(field(body, 'closesAt'), 40),
@@ -48,6 +53,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
     publishTurnout: field(body, 'publishTurnout') === 'yes' ? 'yes' : 'no',
     retention: field(body, 'retention') === 'keep' ? 'keep' : 'shred',
     retentionDays: cut(field(body, 'retentionDays'), 20),
+    memberGroup: cut(field(body, 'memberGroup'), 400),
   };
 }
 
@@ -93,12 +99,15 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     seats: seats ?? 1,
     epsilon: v.epsilon.trim(),
     neighbour: v.neighbour === 'add-remove' ? 'add-remove' : 'replace-one',
+    rule: v.rule === 'permute-and-flip' ? 'permute-and-flip' : 'exponential',
     opensAt: times.opensAt ?? new Date(0),
     closesAt: times.closesAt ?? new Date(1),
     timeZone: v.timeZone,
     publishTurnout: v.publishTurnout === 'yes',
     retentionDays,
     expectedVoters: votersGiven ? (expectedVoters ?? 1) : null,
+    // Left empty: the instance's default group on creation, and no change on an edit.
+    memberGroup: v.memberGroup.trim() === '' ? undefined : v.memberGroup,
   };
   try {
     const draft = checkDraft(candidate);

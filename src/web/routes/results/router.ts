@@ -8,6 +8,7 @@ import { ElectionNotFound } from '../../../elections/errors.ts';
 import { ReceiptMalformed } from '../../../custody/errors.ts';
 import { resultPageView, type ResultPageView } from '../../presenters/result.ts';
 import { idParam, receiptForm } from './schema.ts';
+import { signedStatementView } from '../../presenters/signedStatement.ts';
 
 /** What the receipt form shows after a check: only "counted" or "not found", never more. */
 export interface ReceiptCheckView {
@@ -39,9 +40,10 @@ export function resultsRouter(deps: AppDeps): Router {
     return resultPageView(e, await listEvents(ctx.knex, e.id, { publicOnly: true }), ctx.now());
   }
 
-  function render(res: Response, page: ResultPageView, receiptCheck: ReceiptCheckView | null = null): void {
+  async function render(res: Response, page: ResultPageView, receiptCheck: ReceiptCheckView | null = null): Promise<void> {
     if (page.result) {
-      res.render('results/result', { title: `Result: ${page.title}`, page, result: page.result, receiptCheck });
+      const signed = await signedStatementView(ctx.knex, page.id);
+      res.render('results/result', { title: `Result: ${page.title}`, page, result: page.result, receiptCheck, signed });
     } else {
       res.render('results/pending', { title: `Result not yet published: ${page.title}`, page, receiptCheck });
     }
@@ -49,7 +51,7 @@ export function resultsRouter(deps: AppDeps): Router {
 
   router.get('/results/:id', async (req, res) => {
     const e = await publicElection(req.params.id);
-    render(res, await pageView(e));
+    await render(res, await pageView(e));
   });
 
   router.post('/results/:id/receipt', noStore, receiptChecks, async (req, res) => {
@@ -58,7 +60,7 @@ export function resultsRouter(deps: AppDeps): Router {
     const { receipt } = receiptForm.parse(req.body ?? {});
     if (!page.result) {
       res.status(409);
-      return render(res, page, {
+      return await render(res, page, {
         receipt,
         outcome: 'not-published',
         message: 'Receipts can be checked here once the result is published.',
@@ -70,9 +72,9 @@ export function resultsRouter(deps: AppDeps): Router {
     } catch (err) {
       if (!(err instanceof ReceiptMalformed)) throw err;
       res.status(400);
-      return render(res, page, { receipt, outcome: 'malformed', message: err.message });
+      return await render(res, page, { receipt, outcome: 'malformed', message: err.message });
     }
-    render(res, page, found
+    await render(res, page, found
       ? { receipt, outcome: 'found', message: 'This receipt is among the ballots counted.' }
       : { receipt, outcome: 'not-found', message: 'This receipt was not found. Check it for typing mistakes and try again.' });
   });

@@ -1,0 +1,22 @@
+import { budgetPreview, type BudgetPreview } from '../../../elections/ledger.ts';
+import { DEFAULT_GROUP_NAME, findGroup } from '../../../elections/ledgerRepo.ts';
+import type { UseCaseContext } from '../../../elections/context.ts';
+import { parseEpsilon } from '../../../mechanism/index.ts';
+import type { ElectionFormValues } from './electionSchema.ts';
+
+/** The privacy-ledger preview the election form shows; null while the group or ε is not usable yet. */
+export async function groupBudget(ctx: UseCaseContext, v: ElectionFormValues, electionId: string | null): Promise<BudgetPreview | null> {
+  const name = v.memberGroup.trim() || DEFAULT_GROUP_NAME;
+  if (name.length > 120) return null;
+  try {
+    parseEpsilon(v.epsilon.trim());
+  } catch {
+    return null;
+  }
+  const neighbour = v.neighbour === 'add-remove' ? 'add-remove' : 'replace-one';
+  return budgetPreview(ctx.knex, ctx, { groupName: name, epsilon: v.epsilon.trim(), neighbour, electionId: electionId ?? undefined });
+}
+
+export async function groupNameOf(ctx: UseCaseContext, groupId: string | null): Promise<string> {
+  return groupId ? ((await findGroup(ctx.knex, groupId))?.name ?? '') : '';
+}
