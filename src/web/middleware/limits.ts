@@ -25,9 +25,7 @@ function knexStoreClient(knex: Knex) {
       });
       const r = (await knex.raw(sql, bindings as Knex.RawBinding[])) as { rows?: Array<Record<string, unknown>>; rowCount?: number };
       // bigint comes back as a JS bigint from PGlite and as a number from pg (see db/knex.ts).
-      const rows = (r.rows ?? []).map((row) =>
-        Object.fromEntries(Object.entries(row).map(([k, v]) => [k, typeof v === 'bigint' ? Number(v) : v])),
-      );
+      const rows = (r.rows ?? []).map((row) => Object.fromEntries(Object.entries(row).map(([k, v]) => [k, typeof v === 'bigint' ? Number(v) : v])));
       // PGlite reports affected rows only, 0 for a SELECT: count returned rows when there are any.
       return { rows, rowCount: rows.length > 0 ? rows.length : (r.rowCount ?? 0) };
     },
@@ -173,8 +171,7 @@ export function createLimits(knex: Knex): Limits {
       { name: 'passphrase-election', points: 10, windowMs: 15 * MIN, key: electionOf },
       { name: 'passphrase-client', points: 50, windowMs: 15 * MIN, key: clientOf },
     ]).middleware,
-    receiptChecks: new AttemptLimit(knex, 'receipt checks', 'every', [
-      { name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf },
-    ]).middleware,
+    receiptChecks: new AttemptLimit(knex, 'receipt checks', 'every', [{ name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf }])
+      .middleware,
   };
 }

@@ -88,7 +88,7 @@ describe('shredding against the data files [pglite]', () => {
     return Buffer.concat(out);
   }
 
-  it('leaves no wrapped key in the embedded directory\'s relation files after a shred', async () => {
+  it("leaves no wrapped key in the embedded directory's relation files after a shred", async () => {
     const opened = openDatabase({ engine: 'pglite', dataDir: dir });
     const db: TestDatabase = { ...opened, dispose: () => opened.close() };
     await migrateLatest(db.knex);
