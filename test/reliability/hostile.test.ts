@@ -257,7 +257,7 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
     const statuses = new Map<number, number>();
     const failures: string[] = [];
     let headerProblems = 0;
-    const results = await pool(requests.length, 16, 270_000, async (i) => {
+    const results = await pool(requests.length, 16, 420_000, async (i) => {
       const r = requests[i]!;
       const who = r.organiser ? organiser : anonymous;
       const path = r.path.replace(':id', ids(r)) + r.rawQuery;
@@ -303,7 +303,7 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
     expect(sent).toBe(RUNS);
     expect(headerProblems).toBe(0);
     expect(errorLines).toEqual([]);
-  }, 300_000);
+  }, 480_000);
 
   it('answers a body over the limit with 413, and shows typed markup as text', async () => {
     const organiser = await tokensFor(organiserCookie);
