@@ -34,7 +34,9 @@ export async function replaceSigningSeedFingerprint(knex: Knex, seed: Buffer): P
   if (!row) return; // no instance has started yet: the first start stores the new fingerprint
   const stored = (typeof row.value === 'string' ? JSON.parse(row.value) : row.value) as Record<string, string>;
   const value = { ...stored, VEILTALLY_SIGNING_SEED: fingerprintOf('VEILTALLY_SIGNING_SEED', seed) };
-  await knex('instance_settings').where({ name: SETTING }).update({ value: JSON.stringify(value) });
+  await knex('instance_settings')
+    .where({ name: SETTING })
+    .update({ value: JSON.stringify(value) });
 }
 
 export class SecretsDisagree extends Error {
@@ -49,7 +51,10 @@ export class SecretsDisagree extends Error {
 /** Stores this instance's fingerprints when none are stored yet; throws SecretsDisagree on a mismatch. */
 export async function checkSecretsAgree(knex: Knex, secrets: AllSecrets): Promise<void> {
   const mine = fingerprints(secrets);
-  await knex('instance_settings').insert({ name: SETTING, value: JSON.stringify(mine) }).onConflict('name').ignore();
+  await knex('instance_settings')
+    .insert({ name: SETTING, value: JSON.stringify(mine) })
+    .onConflict('name')
+    .ignore();
   const row = await knex('instance_settings').where({ name: SETTING }).first('value');
   const stored = (typeof row.value === 'string' ? JSON.parse(row.value) : row.value) as Record<string, string>;
   for (const { name } of SECRETS) {
@@ -58,6 +63,8 @@ export async function checkSecretsAgree(knex: Knex, secrets: AllSecrets): Promis
   }
   const missing = SECRETS.filter(({ name }) => stored[name] === undefined);
   if (missing.length) {
-    await knex('instance_settings').where({ name: SETTING }).update({ value: JSON.stringify({ ...mine, ...stored }) });
+    await knex('instance_settings')
+      .where({ name: SETTING })
+      .update({ value: JSON.stringify({ ...mine, ...stored }) });
   }
 }

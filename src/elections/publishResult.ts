@@ -23,7 +23,7 @@ export async function publishResult(ctx: UseCaseContext, input: { electionId: st
   });
   // After commit: rewrite the tables so no dead row version keeps the key (shred.ts). If this fails,
   // the housekeeping round retries it; the publication itself stands.
-  await rewriteShreddedTables(ctx.knex).catch(() => undefined);
+  await rewriteShreddedTables(ctx.knex, 2_000).catch(() => undefined);
 }
 
 async function publishLocked(trx: Db, e: Election, organiserId: string | null, clock: Date): Promise<void> {
@@ -64,6 +64,6 @@ export async function publishDue(ctx: UseCaseContext): Promise<number> {
     }
     return due.length;
   });
-  await rewriteShreddedTables(ctx.knex).catch(() => undefined);
+  await rewriteShreddedTables(ctx.knex, 2_000).catch(() => undefined);
   return published;
 }

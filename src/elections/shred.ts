@@ -46,16 +46,41 @@ const REWRITE_DUE = 'shred-rewrite-due';
  * per election and ballots only what is still sealed, so the pause is short. Runs outside any
  * transaction. The write-ahead log and older backups still hold them: see DEVELOPERS.md.
  */
-export async function rewriteShreddedTables(db: Db): Promise<boolean> {
+export async function rewriteShreddedTables(db: Db, waitMs = 10_000): Promise<'done' | 'deferred' | 'nothing'> {
   const due = await db('instance_settings').where({ name: REWRITE_DUE }).delete();
-  if (!due) return false;
+  if (!due) return 'nothing';
+  let clear = false;
   try {
+    clear = await olderSnapshotsGone(db, waitMs);
     await db.raw('VACUUM (FULL) elections, ballots');
-  } catch (e) {
-    await db('instance_settings').insert({ name: REWRITE_DUE, value: JSON.stringify(true) }).onConflict('name').ignore();
-    throw e;
+  } finally {
+    // Not clear: a transaction older than the shred could still see the old row versions, and
+    // VACUUM FULL copies every version some snapshot may need. Housekeeping tries again.
+    if (!clear) await db('instance_settings').insert({ name: REWRITE_DUE, value: JSON.stringify(true) }).onConflict('name').ignore();
   }
-  return true;
+  return clear ? 'done' : 'deferred';
+}
+
+/**
+ * Waits (bounded) until no other session of this database holds a snapshot older than now, so the
+ * shredded versions are dead to everyone (PostgreSQL documentation, pg_stat_activity.backend_xmin:
+ * "the current backend's xmin horizon"). 32-bit xids are compared without their epoch, which is
+ * wrong only across a wraparound; then the rewrite is merely repeated. PGlite has one session.
+ */
+async function olderSnapshotsGone(db: Db, waitMs: number): Promise<boolean> {
+  const horizon = Number((await db.raw('SELECT txid_current() % 4294967296 AS h')).rows[0].h);
+  const until = Date.now() + waitMs;
+  for (;;) {
+    const r = await db.raw(
+      `SELECT count(*) AS n FROM pg_stat_activity
+        WHERE datname = current_database() AND pid <> pg_backend_pid()
+          AND backend_xmin IS NOT NULL AND backend_xmin::text::bigint < ?`,
+      [horizon],
+    );
+    if (Number(r.rows[0].n) === 0) return true;
+    if (Date.now() >= until) return false;
+    await new Promise((resolve) => setTimeout(resolve, 200));
+  }
 }
 
 /**
@@ -77,7 +102,8 @@ export async function shredElection(
     }
     await shredInTransaction(trx, e.id, input.organiserId, ctx.now());
   });
-  await rewriteShreddedTables(ctx.knex);
+  // Short wait on a person's request; housekeeping finishes a deferred rewrite.
+  await rewriteShreddedTables(ctx.knex, 2_000).catch(() => undefined);
 }
 
 /** The retention job: shreds every published election whose keep-sealed period has ended. Returns how many. */

@@ -121,7 +121,14 @@ export interface CastResult {
   receipt: string | null;
 }
 
-export async function cast(base: string, m: Member, electionId: string, code: string, approvals: number[], signal?: AbortSignal): Promise<CastResult> {
+export async function cast(
+  base: string,
+  m: Member,
+  electionId: string,
+  code: string,
+  approvals: number[],
+  signal?: AbortSignal,
+): Promise<CastResult> {
   const body = new URLSearchParams({ _csrf: m.csrf, code });
   for (const a of approvals) body.append('approve', String(a));
   const res = await fetch(`${base}/vote/${electionId}/cast`, {
@@ -157,7 +164,15 @@ export async function pool<T>(count: number, clients: number, deadlineMs: number
 }
 
 export async function countRows(db: Database, table: string, electionId: string, where: Record<string, unknown> = {}): Promise<number> {
-  return toCount((await db.knex(table).where({ election_id: electionId, ...where }).count({ n: '*' }).first())?.n);
+  return toCount(
+    (
+      await db
+        .knex(table)
+        .where({ election_id: electionId, ...where })
+        .count({ n: '*' })
+        .first()
+    )?.n,
+  );
 }
 
 /** Figures for the table printed at the end of the suite (see _summary.ts). */

@@ -69,7 +69,9 @@ describe.runIf(PG_URL)('casting under load [postgres]', () => {
     const f = await prepareElection(target, secrets.pepper, secrets.seed, 2000);
     const servers = [a, b];
     const members = await Promise.all(Array.from({ length: 50 }, (_x, c) => memberSession(servers[c % 2]!.url, f.id)));
-    const results = await pool(f.codes.length, 50, 200_000, (i, c) => cast(servers[c % 2]!.url, members[c]!, f.id, f.codes[i]!, [i % 4, (i + 1) % 4]));
+    const results = await pool(f.codes.length, 50, 200_000, (i, c) =>
+      cast(servers[c % 2]!.url, members[c]!, f.id, f.codes[i]!, [i % 4, (i + 1) % 4]),
+    );
     expect(results.filter(Boolean)).toHaveLength(2000); // the time bound was not hit
     const receipts = results.map((r) => r.receipt).filter((r): r is string => r !== null);
     const distinct = new Set(receipts);
@@ -87,6 +89,13 @@ describe.runIf(PG_URL)('casting under load [postgres]', () => {
     expect(receipts).toHaveLength(2000);
     expect(distinct.size).toBe(2000);
     const serverErrors = results.filter((r) => r.status >= 500).length;
-    record('2,000 codes by 50 clients', { requests: 2000, accepted: distinct.size, rejected: 2000 - receipts.length, lost: 2000 - distinct.size, duplicated: receipts.length - distinct.size, serverErrors });
+    record('2,000 codes by 50 clients', {
+      requests: 2000,
+      accepted: distinct.size,
+      rejected: 2000 - receipts.length,
+      lost: 2000 - distinct.size,
+      duplicated: receipts.length - distinct.size,
+      serverErrors,
+    });
   });
 });

@@ -108,7 +108,15 @@ async function run(target: Target, label: string) {
     let lost = 0;
     for (const r of acknowledged.values()) if (!(await checkReceipt(ctx, { electionId: f.id, receipt: r }))) lost++;
     const duplicated = ballots - spent + (receipts - ballots);
-    record(`crash safety, ${label}`, { requests, accepted: acknowledged.size, rejected: requests - acknowledged.size, lost, duplicated, serverErrors, killsSurvived: kills });
+    record(`crash safety, ${label}`, {
+      requests,
+      accepted: acknowledged.size,
+      rejected: requests - acknowledged.size,
+      lost,
+      duplicated,
+      serverErrors,
+      killsSurvived: kills,
+    });
     expect(lost).toBe(0);
     expect(spent).toBe(ballots);
     expect(receipts).toBe(ballots);

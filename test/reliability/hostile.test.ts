@@ -28,7 +28,25 @@ const FORMS: Array<{ path: string; fields: string[]; organiser?: boolean }> = [
   {
     path: '/organise/elections/new',
     organiser: true,
-    fields: ['title', 'description', 'optionLabel', 'optionDescription', 'seats', 'epsilon', 'neighbour', 'expectedVoters', 'timeZone', 'opensAt', 'closesAt', 'publishTurnout', 'retention', 'retentionDays', 'passphrase', 'passphraseAgain', 'intent'],
+    fields: [
+      'title',
+      'description',
+      'optionLabel',
+      'optionDescription',
+      'seats',
+      'epsilon',
+      'neighbour',
+      'expectedVoters',
+      'timeZone',
+      'opensAt',
+      'closesAt',
+      'publishTurnout',
+      'retention',
+      'retentionDays',
+      'passphrase',
+      'passphraseAgain',
+      'intent',
+    ],
   },
   { path: '/organise/elections/:id/edit', organiser: true, fields: ['title', 'optionLabel', 'seats', 'epsilon', 'opensAt', 'closesAt', 'intent'] },
   { path: '/organise/elections/:id/guidance', organiser: true, fields: ['title', 'optionLabel', 'epsilon', 'expectedVoters'] },
@@ -69,7 +87,23 @@ const PAGES = [
 const text = fc.oneof(
   fc.string({ maxLength: 30 }),
   fc.string({ unit: 'binary', maxLength: 30 }),
-  fc.constantFrom('', ' ', '\u0000', 'a\u0000b', '<script>alert(1)</script>', '%', '%E0%A4%A', '1e309', '-1', '0', 'NaN', '2026-13-45T25:61', '../../etc/passwd', '\u202e', '\ud800'),
+  fc.constantFrom(
+    '',
+    ' ',
+    '\u0000',
+    'a\u0000b',
+    '<script>alert(1)</script>',
+    '%',
+    '%E0%A4%A',
+    '1e309',
+    '-1',
+    '0',
+    'NaN',
+    '2026-13-45T25:61',
+    '../../etc/passwd',
+    '\u202e',
+    '\ud800',
+  ),
   fc.integer({ min: 1000, max: 20_000 }).map((n) => 'x'.repeat(n)),
 );
 const value = fc.oneof({ weight: 4, arbitrary: text }, { weight: 1, arbitrary: fc.array(text, { minLength: 2, maxLength: 4 }) });
@@ -83,7 +117,15 @@ const enc = (t: string) => {
   }
 };
 
-type Req = { method: 'GET' | 'POST'; path: string; idKind: number; fields: Array<[string, string[]]>; csrf: boolean; organiser: boolean; rawQuery: string };
+type Req = {
+  method: 'GET' | 'POST';
+  path: string;
+  idKind: number;
+  fields: Array<[string, string[]]>;
+  csrf: boolean;
+  organiser: boolean;
+  rawQuery: string;
+};
 
 const idArb = fc.oneof(
   fc.constant(0), // the real election
@@ -102,21 +144,46 @@ function requestArb(): fc.Arbitrary<Req> {
     csrf: fc.boolean().map((b) => b || Math.random() < 0.8),
     organiser: fc.boolean(),
   });
-  const get = fc.record({ page: fc.constantFrom(...PAGES), idKind: idArb, query: fc.oneof(fc.constant(''), text.map((t) => `?next=${enc(t)}`), fc.constant('?%E0%A4%A=1')), organiser: fc.boolean() });
+  const get = fc.record({
+    page: fc.constantFrom(...PAGES),
+    idKind: idArb,
+    query: fc.oneof(
+      fc.constant(''),
+      text.map((t) => `?next=${enc(t)}`),
+      fc.constant('?%E0%A4%A=1'),
+    ),
+    organiser: fc.boolean(),
+  });
   return fc.oneof(
-    { weight: 3, arbitrary: post.map((p) => ({
-      method: 'POST' as const,
-      path: p.form.path,
-      idKind: p.idKind,
-      fields: [
-        ...p.chosen.filter(([, , keep]) => keep).map(([i, v]) => [p.form.fields[i % p.form.fields.length]!, Array.isArray(v) ? v : [v]] as [string, string[]]),
-        ...Object.entries(p.values).map(([k, v]) => [k, Array.isArray(v) ? v : [v]] as [string, string[]]),
-      ],
-      csrf: p.csrf,
-      organiser: p.organiser || Boolean(p.form.organiser),
-      rawQuery: '',
-    })) },
-    { weight: 2, arbitrary: get.map((g) => ({ method: 'GET' as const, path: g.page, idKind: g.idKind, fields: [], csrf: false, organiser: g.organiser, rawQuery: g.query })) },
+    {
+      weight: 3,
+      arbitrary: post.map((p) => ({
+        method: 'POST' as const,
+        path: p.form.path,
+        idKind: p.idKind,
+        fields: [
+          ...p.chosen
+            .filter(([, , keep]) => keep)
+            .map(([i, v]) => [p.form.fields[i % p.form.fields.length]!, Array.isArray(v) ? v : [v]] as [string, string[]]),
+          ...Object.entries(p.values).map(([k, v]) => [k, Array.isArray(v) ? v : [v]] as [string, string[]]),
+        ],
+        csrf: p.csrf,
+        organiser: p.organiser || Boolean(p.form.organiser),
+        rawQuery: '',
+      })),
+    },
+    {
+      weight: 2,
+      arbitrary: get.map((g) => ({
+        method: 'GET' as const,
+        path: g.page,
+        idKind: g.idKind,
+        fields: [],
+        csrf: false,
+        organiser: g.organiser,
+        rawQuery: g.query,
+      })),
+    },
   );
 }
 
@@ -140,7 +207,12 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
         cb();
       },
     });
-    const app = createApp({ config: loadConfig({ VEILTALLY_DATA_DIR: '/nonexistent-test-dir' }), ctx, logger: createLogger('info', sink), sessionSecret: 'hostile-input-session-secret-0123456789' });
+    const app = createApp({
+      config: loadConfig({ VEILTALLY_DATA_DIR: '/nonexistent-test-dir' }),
+      ctx,
+      logger: createLogger('info', sink),
+      sessionSecret: 'hostile-input-session-secret-0123456789',
+    });
     server = app.listen(0, '127.0.0.1');
     server.on('clientError', answerClientError); // as main.ts does
     await new Promise((r) => server.once('listening', r));
@@ -178,11 +250,14 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
       csrf: /name="_csrf" value="([^"]+)"/.exec(await anonPage.text())![1]!,
     };
     const requests = fc.sample(requestArb(), { numRuns: RUNS, seed: SEED });
-    const ids = (r: Req) => [f.id, '00000000-0000-4000-8000-000000000000', '%E0%A4%A', 'z'.repeat(5000), enc(String(r.fields[0]?.[1][0] ?? 'x')).slice(0, 2000) || 'x'][r.idKind]!;
+    const ids = (r: Req) =>
+      [f.id, '00000000-0000-4000-8000-000000000000', '%E0%A4%A', 'z'.repeat(5000), enc(String(r.fields[0]?.[1][0] ?? 'x')).slice(0, 2000) || 'x'][
+        r.idKind
+      ]!;
     const statuses = new Map<number, number>();
     const failures: string[] = [];
     let headerProblems = 0;
-    const results = await pool(requests.length, 16, 270_000, async (i) => {
+    const results = await pool(requests.length, 16, 420_000, async (i) => {
       const r = requests[i]!;
       const who = r.organiser ? organiser : anonymous;
       const path = r.path.replace(':id', ids(r)) + r.rawQuery;
@@ -197,7 +272,8 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
       });
       await res.arrayBuffer();
       statuses.set(res.status, (statuses.get(res.status) ?? 0) + 1);
-      if (res.status >= 500 && failures.length < 5) failures.push(`${r.method} ${path.slice(0, 120)} ${JSON.stringify(r.fields).slice(0, 200)} → ${res.status}`);
+      if (res.status >= 500 && failures.length < 5)
+        failures.push(`${r.method} ${path.slice(0, 120)} ${JSON.stringify(r.fields).slice(0, 200)} → ${res.status}`);
       const csp = res.headers.get('content-security-policy') ?? '';
       if (
         !/frame-ancestors 'none'/.test(csp) ||
@@ -209,19 +285,25 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
         !res.headers.get('permissions-policy')
       ) {
         headerProblems++;
-        if (headerProblems <= 3) failures.push(`headers: ${r.method} ${path.slice(0, 80)} → ${res.status} ${csp} xfo=${res.headers.get('x-frame-options')}`);
+        if (headerProblems <= 3)
+          failures.push(`headers: ${r.method} ${path.slice(0, 80)} → ${res.status} ${csp} xfo=${res.headers.get('x-frame-options')}`);
       }
       return res.status;
     });
     const sent = results.filter((s) => s !== undefined).length;
     const serverErrors = results.filter((s) => s >= 500).length;
-    record(`hostile input, ${engine}`, { requests: sent, accepted: results.filter((s) => s < 400).length, rejected: results.filter((s) => s >= 400 && s < 500).length, serverErrors });
+    record(`hostile input, ${engine}`, {
+      requests: sent,
+      accepted: results.filter((s) => s < 400).length,
+      rejected: results.filter((s) => s >= 400 && s < 500).length,
+      serverErrors,
+    });
     expect(failures, `seed ${SEED}`).toEqual([]);
     expect(serverErrors).toBe(0);
     expect(sent).toBe(RUNS);
     expect(headerProblems).toBe(0);
     expect(errorLines).toEqual([]);
-  }, 300_000);
+  }, 480_000);
 
   it('answers a body over the limit with 413, and shows typed markup as text', async () => {
     const organiser = await tokensFor(organiserCookie);

@@ -25,9 +25,7 @@ function knexStoreClient(knex: Knex) {
       });
       const r = (await knex.raw(sql, bindings as Knex.RawBinding[])) as { rows?: Array<Record<string, unknown>>; rowCount?: number };
       // bigint comes back as a JS bigint from PGlite and as a number from pg (see db/knex.ts).
-      const rows = (r.rows ?? []).map((row) =>
-        Object.fromEntries(Object.entries(row).map(([k, v]) => [k, typeof v === 'bigint' ? Number(v) : v])),
-      );
+      const rows = (r.rows ?? []).map((row) => Object.fromEntries(Object.entries(row).map(([k, v]) => [k, typeof v === 'bigint' ? Number(v) : v])));
       // PGlite reports affected rows only, 0 for a SELECT: count returned rows when there are any.
       return { rows, rowCount: rows.length > 0 ? rows.length : (r.rowCount ?? 0) };
     },

@@ -8,7 +8,7 @@ import { castBallot } from '../../../src/elections/castBallot.ts';
 import { closeAndTally } from '../../../src/elections/closeAndTally.ts';
 import { issueCodes } from '../../../src/elections/issueCodes.ts';
 import { publishResult } from '../../../src/elections/publishResult.ts';
-import { shredElection } from '../../../src/elections/shred.ts';
+import { rewriteShreddedTables, shredElection } from '../../../src/elections/shred.ts';
 import { freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
 import { PASSPHRASE, electionRow, scene } from './_fixtures.ts';
 
@@ -55,6 +55,10 @@ describe.runIf(process.env.TEST_DATABASE_URL)('shredding against the data pages 
         expect(sealed.every((c) => ballotsBefore.includes(c))).toBe(true);
         await publishResult(s.ctx, { electionId: s.electionId, organiserId: s.organiserId });
         if (path === 'shred-later') await shredElection(s.ctx, { electionId: s.electionId, organiserId: s.organiserId });
+        // Sessions of other tests on this server may hold old snapshots: the rewrite is then
+        // deferred, and housekeeping repeats it (shredDue), as here, until it is done.
+        const until = Date.now() + 90_000;
+        while ((await rewriteShreddedTables(db.knex, 2_000)) === 'deferred' && Date.now() < until);
         const elections = await rawPages(db, 'elections');
         const ballots = await rawPages(db, 'ballots');
         expect(elections.includes(needle), path).toBe(false);
@@ -84,7 +88,7 @@ describe('shredding against the data files [pglite]', () => {
     return Buffer.concat(out);
   }
 
-  it('leaves no wrapped key in the embedded directory\'s relation files after a shred', async () => {
+  it("leaves no wrapped key in the embedded directory's relation files after a shred", async () => {
     const opened = openDatabase({ engine: 'pglite', dataDir: dir });
     const db: TestDatabase = { ...opened, dispose: () => opened.close() };
     await migrateLatest(db.knex);

@@ -6,7 +6,11 @@ import { openDatabase } from '../../../src/db/knex.ts';
 import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
 import { testContext } from '../../helpers/context.ts';
 
-const secrets = () => ({ sessionSecret: crypto.randomBytes(32).toString('hex'), codePepper: crypto.randomBytes(32), signingSeed: crypto.randomBytes(32) });
+const secrets = () => ({
+  sessionSecret: crypto.randomBytes(32).toString('hex'),
+  codePepper: crypto.randomBytes(32),
+  signingSeed: crypto.randomBytes(32),
+});
 
 describe.each(engines)('instances sharing a database [%s]', (engine) => {
   let db: TestDatabase;
@@ -22,7 +26,11 @@ describe.each(engines)('instances sharing a database [%s]', (engine) => {
     const stored = JSON.stringify(await db.knex('instance_settings').select());
     expect(stored).not.toContain(mine.codePepper.toString('hex'));
     expect(stored).not.toContain(mine.sessionSecret);
-    for (const [field, variable] of [['codePepper', 'VEILTALLY_CODE_PEPPER'], ['signingSeed', 'VEILTALLY_SIGNING_SEED'], ['sessionSecret', 'SESSION_SECRET']] as const) {
+    for (const [field, variable] of [
+      ['codePepper', 'VEILTALLY_CODE_PEPPER'],
+      ['signingSeed', 'VEILTALLY_SIGNING_SEED'],
+      ['sessionSecret', 'SESSION_SECRET'],
+    ] as const) {
       const other = { ...mine, [field]: secrets()[field] };
       const err = await checkSecretsAgree(db.knex, other).catch((e) => e);
       expect(err).toBeInstanceOf(SecretsDisagree);

@@ -43,7 +43,15 @@ describe.each(engines)('hostile input [%s]', (engine) => {
 
   it('answers bad percent-encoding in any path with 400, not 500', async () => {
     const agent = await signedIn(app, email);
-    for (const p of ['/vote/%E0%A4%A', `/vote/%E0%A4%A/ballot`, '/results/%E0%A4%A', '/results/%ZZ/receipt', '/organise/elections/%E0%A4%A', '/organise/elections/%C0/edit', '/%E0%A4%A']) {
+    for (const p of [
+      '/vote/%E0%A4%A',
+      `/vote/%E0%A4%A/ballot`,
+      '/results/%E0%A4%A',
+      '/results/%ZZ/receipt',
+      '/organise/elections/%E0%A4%A',
+      '/organise/elections/%C0/edit',
+      '/%E0%A4%A',
+    ]) {
       const res = await agent.get(p);
       expect(res.status, p).toBeGreaterThanOrEqual(400);
       expect(res.status, p).toBeLessThan(500);
@@ -76,7 +84,10 @@ describe.each(engines)('hostile input [%s]', (engine) => {
       [`/results/${f.id}/receipt`, { receipt: ['a', 'b'] }],
     ];
     for (const [path, fields] of cases) {
-      const res = await agent.post(path).type('form').send(encode({ ...fields, _csrf: csrf }));
+      const res = await agent
+        .post(path)
+        .type('form')
+        .send(encode({ ...fields, _csrf: csrf }));
       expect(res.status, `${path} ${JSON.stringify(fields).slice(0, 80)}`).toBeLessThan(500);
     }
     expect(errorsLogged()).toEqual([]);
@@ -91,7 +102,11 @@ describe.each(engines)('hostile input [%s]', (engine) => {
     }
     const member = request.agent(app);
     const start = await member.get(`/vote/${f.id}`).expect(200);
-    await member.post(`/vote/${f.id}/ballot`).type('form').send(encode({ _csrf: tokenIn(start.text), code: f.codes[0]! })).expect(200);
+    await member
+      .post(`/vote/${f.id}/ballot`)
+      .type('form')
+      .send(encode({ _csrf: tokenIn(start.text), code: f.codes[0]! }))
+      .expect(200);
     expect(Number((await ctx.knex('sessions').count({ n: '*' }))[0]!.n)).toBe(before);
     await signedIn(app, email);
     expect(Number((await ctx.knex('sessions').count({ n: '*' }))[0]!.n)).toBe(before + 1);
