@@ -25,9 +25,7 @@ function knexStoreClient(knex: Knex) {
       });
       const r = (await knex.raw(sql, bindings as Knex.RawBinding[])) as { rows?: Array<Record<string, unknown>>; rowCount?: number };
       // bigint comes back as a JS bigint from PGlite and as a number from pg (see db/knex.ts).
-      const rows = (r.rows ?? []).map((row) =>
-        Object.fromEntries(Object.entries(row).map(([k, v]) => [k, typeof v === 'bigint' ? Number(v) : v])),
-      );
+      const rows = (r.rows ?? []).map((row) => Object.fromEntries(Object.entries(row).map(([k, v]) => [k, typeof v === 'bigint' ? Number(v) : v])));
       // PGlite reports affected rows only, 0 for a SELECT: count returned rows when there are any.
       return { rows, rowCount: rows.length > 0 ? rows.length : (r.rowCount ?? 0) };
     },
@@ -102,10 +100,11 @@ export class AttemptLimit {
   /** The longest wait among the limits this request has used up, or 0. */
   private async lockedFor(req: Request): Promise<number> {
     let wait = 0;
-    for (const { rule, store, key } of this.keys(req)) {
-      const r = await store.get(key);
-      if (r && r.consumedPoints >= rule.points) wait = Math.max(wait, r.msBeforeNext);
-    }
+    const keys = this.keys(req);
+    const seen = await Promise.all(keys.map(({ store, key }) => store.get(key)));
+    seen.forEach((r, i) => {
+      if (r && r.consumedPoints >= keys[i]!.rule.points) wait = Math.max(wait, r.msBeforeNext);
+    });
     return wait;
   }
 
@@ -130,6 +129,24 @@ export class AttemptLimit {
     }
     const wait = await this.lockedFor(req);
     if (wait > 0 && this.mode === 'refuse') return this.refuse(res, next, wait);
+    if (this.mode === 'failures-only') {
+      if (wait > 0) res.locals.lockedOut = { what: this.what, retryAfterMs: wait } satisfies LockedOut;
+      // Counted once known to have failed. Counting every attempt first and handing successes
+      // back made each cast write the same two rows (the election's, the meeting's address) twice
+      // more, so concurrent casts queued on those row locks (README, Performance). The cost: a
+      // burst sent at once can pass the allowance by its own size, which for 128-bit codes still
+      // bounds load, the reason this limit exists.
+      // The answer to a failure waits for its count, so the client's next attempt sees it.
+      const end = res.end.bind(res) as (...args: unknown[]) => Response;
+      res.end = ((...args: unknown[]) => {
+        if (res.statusCode < 400) return end(...args);
+        this.count(req, 1)
+          .catch(() => undefined)
+          .finally(() => end(...args));
+        return res;
+      }) as Response['end'];
+      return next();
+    }
     if (wait > 0) {
       // failures-only: the route runs; the error handler turns a failure into the wait page.
       const locked: LockedOut = { what: this.what, retryAfterMs: wait };
@@ -173,8 +190,7 @@ export function createLimits(knex: Knex): Limits {
       { name: 'passphrase-election', points: 10, windowMs: 15 * MIN, key: electionOf },
       { name: 'passphrase-client', points: 50, windowMs: 15 * MIN, key: clientOf },
     ]).middleware,
-    receiptChecks: new AttemptLimit(knex, 'receipt checks', 'every', [
-      { name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf },
-    ]).middleware,
+    receiptChecks: new AttemptLimit(knex, 'receipt checks', 'every', [{ name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf }])
+      .middleware,
   };
 }
