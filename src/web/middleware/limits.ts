@@ -100,10 +100,11 @@ export class AttemptLimit {
   /** The longest wait among the limits this request has used up, or 0. */
   private async lockedFor(req: Request): Promise<number> {
     let wait = 0;
-    for (const { rule, store, key } of this.keys(req)) {
-      const r = await store.get(key);
-      if (r && r.consumedPoints >= rule.points) wait = Math.max(wait, r.msBeforeNext);
-    }
+    const keys = this.keys(req);
+    const seen = await Promise.all(keys.map(({ store, key }) => store.get(key)));
+    seen.forEach((r, i) => {
+      if (r && r.consumedPoints >= keys[i]!.rule.points) wait = Math.max(wait, r.msBeforeNext);
+    });
     return wait;
   }
 
@@ -128,6 +129,24 @@ export class AttemptLimit {
     }
     const wait = await this.lockedFor(req);
     if (wait > 0 && this.mode === 'refuse') return this.refuse(res, next, wait);
+    if (this.mode === 'failures-only') {
+      if (wait > 0) res.locals.lockedOut = { what: this.what, retryAfterMs: wait } satisfies LockedOut;
+      // Counted once known to have failed. Counting every attempt first and handing successes
+      // back made each cast write the same two rows (the election's, the meeting's address) twice
+      // more, so concurrent casts queued on those row locks (README, Performance). The cost: a
+      // burst sent at once can pass the allowance by its own size, which for 128-bit codes still
+      // bounds load, the reason this limit exists.
+      // The answer to a failure waits for its count, so the client's next attempt sees it.
+      const end = res.end.bind(res) as (...args: unknown[]) => Response;
+      res.end = ((...args: unknown[]) => {
+        if (res.statusCode < 400) return end(...args);
+        this.count(req, 1)
+          .catch(() => undefined)
+          .finally(() => end(...args));
+        return res;
+      }) as Response['end'];
+      return next();
+    }
     if (wait > 0) {
       // failures-only: the route runs; the error handler turns a failure into the wait page.
       const locked: LockedOut = { what: this.what, retryAfterMs: wait };
