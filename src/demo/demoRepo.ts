@@ -11,6 +11,7 @@ export interface DemoRecord {
   organiserEmail?: string;
   openElectionId?: string;
   publishedElectionId?: string;
+  publishedGroupId?: string;
   /**
    * Demo-only conveniences, kept so a second run can print them again: a few codes of the
    * sample open election, its tally passphrase and one receipt of the sample result.

@@ -3,6 +3,7 @@ import { castBallot } from '../elections/castBallot.ts';
 import { closeAndTally } from '../elections/closeAndTally.ts';
 import type { UseCaseContext } from '../elections/context.ts';
 import { createElection } from '../elections/createElection.ts';
+import { findElection } from '../elections/electionRepo.ts';
 import { issueCodes } from '../elections/issueCodes.ts';
 import { openElection } from '../elections/openElection.ts';
 import { publishResult } from '../elections/publishResult.ts';
@@ -22,7 +23,8 @@ export interface DemoSummary {
   created: boolean;
   organiser: { id: string; email: string; password: string | null };
   open: { id: string; title: string; voters: number; codes: number; unusedCodes: string[]; passphrase: string };
-  published: { id: string; title: string; receipt: string };
+  /** groupId: the member group whose privacy ledger the draw was charged to. */
+  published: { id: string; title: string; receipt: string; groupId: string | null };
 }
 
 export interface SeedOptions {
@@ -56,6 +58,7 @@ export async function seedDemo(ctx: UseCaseContext, options: SeedOptions = {}): 
     record.organiserEmail = organiser.email;
     const published = await seedPublished(ctx, organiser.organiserId, TENANTS, new Date(start.getTime() - 14 * DAY));
     record.publishedElectionId = published.id;
+    record.publishedGroupId = (await findElection(ctx.knex, published.id))?.groupId ?? undefined;
     record.sampleReceipt = published.receipt;
     const open = await seedOpen(ctx, organiser.organiserId, ROWING_CLUB, new Date(start.getTime() - 2 * DAY), start);
     Object.assign(record, {
@@ -102,7 +105,7 @@ function summaryOf(r: DemoRecord, password: string | null): DemoSummary {
       unusedCodes: r.unusedCodes ?? [],
       passphrase: r.openElectionPassphrase!,
     },
-    published: { id: r.publishedElectionId!, title: TENANTS.title, receipt: r.sampleReceipt! },
+    published: { id: r.publishedElectionId!, title: TENANTS.title, receipt: r.sampleReceipt!, groupId: r.publishedGroupId ?? null },
   };
 }
 
@@ -131,6 +134,7 @@ async function createSample(ctx: UseCaseContext, organiserId: string, s: DemoSce
       publishTurnout: false,
       retentionDays: null,
       expectedVoters: s.codes,
+      memberGroup: s.group,
     },
   });
   const { codes } = await issueCodes(ctx, { electionId, organiserId, count: s.codes });

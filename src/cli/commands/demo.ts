@@ -34,6 +34,8 @@ export function demoText(s: DemoSummary, publicUrl: string): string {
     `  8 options, 3 seats, ε = 1.5.`,
     `  Result:  ${publicUrl}/results/${s.published.id}`,
     `  A receipt to check on that page: ${s.published.receipt}`,
+    `  Signed statement: ${publicUrl}/results/${s.published.id}/statement.json (check it with \`veiltally verify\`)`,
+    ...(s.published.groupId ? [`  Privacy ledger of the tenants: ${publicUrl}/groups/${s.published.groupId}/ledger`] : []),
     '',
     'Demo organiser (a sample login, marked "demo" on every page):',
     `  Sign in: ${publicUrl}/organise/sign-in`,

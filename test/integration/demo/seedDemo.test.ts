@@ -7,6 +7,7 @@ import { castBallot } from '../../../src/elections/castBallot.ts';
 import { checkReceipt } from '../../../src/elections/checkReceipt.ts';
 import type { UseCaseContext } from '../../../src/elections/context.ts';
 import { findElection } from '../../../src/elections/electionRepo.ts';
+import { findGroupByName, listLedger } from '../../../src/elections/ledgerRepo.ts';
 import { seedDemo } from '../../../src/demo/seedDemo.ts';
 import { DemoRefused } from '../../../src/demo/errors.ts';
 import { ROWING_CLUB, TENANTS } from '../../../src/demo/scenarios.ts';
@@ -65,6 +66,11 @@ describe.each(engines)('demo seeding [%s]', (engine) => {
     expect(pub.seats).toBe(3);
     expect(pub.ownerId).toBe(open.ownerId);
     expect(await checkReceipt(ctx, { electionId: pub.id, receipt: s.published.receipt })).toBe(true);
+    // The draw was charged to the tenants' own group ledger, once.
+    const group = await findGroupByName(ctx.knex, TENANTS.group);
+    expect(group?.id).toBe(s.published.groupId);
+    expect(await listLedger(ctx.knex, group!.id)).toHaveLength(1);
+    expect((await findElection(ctx.knex, s.open.id))!.groupId).toBe((await findGroupByName(ctx.knex, ROWING_CLUB.group))!.id);
 
     const organiser = (await findOrganiser(ctx.knex, open.ownerId))!;
     expect(organiser).toMatchObject({ email: s.organiser.email, demo: true });
