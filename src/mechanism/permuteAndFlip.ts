@@ -22,12 +22,7 @@ import { uniformBelowSmall, type RandomSource } from './random.ts';
  * The number of coins still depends on the scores (a timing side channel in
  * principle), as for the exponential sampler; run it once, at tally time.
  */
-export function permuteAndFlipRound(
-  scores: readonly number[],
-  candidates: readonly number[],
-  scale: Rational,
-  random: RandomSource,
-): number {
+export function permuteAndFlipRound(scores: readonly number[], candidates: readonly number[], scale: Rational, random: RandomSource): number {
   const n = candidates.length;
   if (n === 0) throw new RangeError('permuteAndFlipRound needs at least one candidate');
   let max = 0;
@@ -47,12 +42,7 @@ export function permuteAndFlipRound(
 }
 
 /** k seats by peeling, as for the exponential mechanism: each round at the per-round scale. */
-export function permuteAndFlipSeats(
-  scores: readonly number[],
-  seats: number,
-  scale: Rational,
-  random: RandomSource,
-): number[] {
+export function permuteAndFlipSeats(scores: readonly number[], seats: number, scale: Rational, random: RandomSource): number[] {
   const remaining = scores.map((_, i) => i);
   const winners: number[] = [];
   for (let round = 0; round < seats; round += 1) {

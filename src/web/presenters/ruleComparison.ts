@@ -1,10 +1,4 @@
-import {
-  PLAUSIBLE_LEAD_FRACTION,
-  RULE_NAMES,
-  leadChance,
-  makeDraw,
-  type DrawRule,
-} from '../../mechanism/index.ts';
+import { PLAUSIBLE_LEAD_FRACTION, RULE_NAMES, leadChance, makeDraw, type DrawRule } from '../../mechanism/index.ts';
 
 /**
  * A lead of one voter in four: our own planning picture of a clear favourite (not a theorem),

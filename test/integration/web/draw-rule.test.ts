@@ -1,7 +1,8 @@
 import request from 'supertest';
 import { describe, expect, it } from 'vitest';
 import { findElection } from '../../../src/elections/electionRepo.ts';
-import { makeExponentialDraw, makePermuteAndFlipDraw } from '../../../src/mechanism/index.ts';
+import { verifyStatementText } from '../../../src/cli/commands/verify.ts';
+import { makeExponentialDraw, makePermuteAndFlipDraw, type StatementEnvelope } from '../../../src/mechanism/index.ts';
 import { engines } from '../../helpers/databases.ts';
 import { openElectionFixture } from '../../helpers/fixtures.ts';
 import { useMemberSuite } from '../../helpers/memberSuite.ts';
@@ -75,5 +76,20 @@ describe.each(engines)('draw rule: exponential mechanism or permute-and-flip [%s
     const pf = makePermuteAndFlipDraw({ epsilon: '0.5', options: 6, seats: 1, neighbour: 'replace-one' }).bounds(0.05);
     expect(Number(row![4])).toBe(pf.marginFor['0.95']);
     expect(Number(row![4])).toBeLessThan(Number(row![2]));
+  });
+
+  it('the signed statement of a permute-and-flip draw names the rule and `veiltally verify` passes it; relabelled, it fails', async () => {
+    const { f } = await s.decided([[0, 1], [1], [1, 2], [3]], { rule: 'permute-and-flip' });
+    const text = (await request(s.app).get(`/results/${f.id}/statement.json`).expect(200)).text;
+    const envelope = JSON.parse(text) as StatementEnvelope;
+    expect(envelope.statement.mechanism.rule).toBe('permute-and-flip');
+    const key = (await request(s.app).get(`/keys/${envelope.statement.keyId}.json`).expect(200)).text;
+    const ok = verifyStatementText(text, key, f.id);
+    expect(ok.lines.filter((l) => !l.ok)).toEqual([]);
+    expect(ok.passed).toBe(true);
+    // The rule is signed: changing it breaks the signature, and the recheck finds the other rule's bounds.
+    const relabelled = text.replace('"rule":"permute-and-flip"', '"rule":"exponential"');
+    expect(relabelled).not.toBe(text);
+    expect(verifyStatementText(relabelled, key, f.id).passed).toBe(false);
   });
 });

@@ -4,11 +4,7 @@ import { pfFirstSeatFloat } from '../mechanism/support/pfReference.ts';
 
 // A rowing club naming its boat (invented scenario); counts 31, 17 and 12 must never show.
 const names = ['Heron', 'Kingfisher', 'Otter'];
-const rows = [
-  ...Array.from({ length: 12 }, () => '1,1,1'),
-  ...Array.from({ length: 5 }, () => '1,1,'),
-  ...Array.from({ length: 14 }, () => '1,,'),
-];
+const rows = [...Array.from({ length: 12 }, () => '1,1,1'), ...Array.from({ length: 5 }, () => '1,1,'), ...Array.from({ length: 14 }, () => '1,,')];
 const csv = `${names.join(',')}\n${rows.join('\n')}\n`; // Heron 31, Kingfisher 17, Otter 12
 
 describe('--rule exponential|permute-and-flip on draw, simulate and bounds', () => {

@@ -76,7 +76,12 @@ describe('permute-and-flip: the reference itself', () => {
     const a = new D('0.5');
     const [top, other] = pfFirstSeatDecimal([7, 3], a);
     const x = D.exp(-2);
-    expect(top!.minus(new D(1).minus(x.div(2))).abs().lt('1e-40')).toBe(true);
+    expect(
+      top!
+        .minus(new D(1).minus(x.div(2)))
+        .abs()
+        .lt('1e-40'),
+    ).toBe(true);
     expect(other!.minus(x.div(2)).abs().lt('1e-40')).toBe(true);
   });
 
@@ -97,9 +102,20 @@ describe('permute-and-flip: the reference itself', () => {
       }
       rest.forEach((i, k) => visit([...prefix, i], [...rest.slice(0, k), ...rest.slice(k + 1)]));
     };
-    visit([], scores.map((_, i) => i));
+    visit(
+      [],
+      scores.map((_, i) => i),
+    );
     const bySubsets = pfFirstSeatDecimal(scores, a);
-    byOrders.forEach((x, i) => expect(x.div(720).minus(bySubsets[i] as Dec).abs().lt('1e-40')).toBe(true));
+    byOrders.forEach((x, i) =>
+      expect(
+        x
+          .div(720)
+          .minus(bySubsets[i] as Dec)
+          .abs()
+          .lt('1e-40'),
+      ).toBe(true),
+    );
   });
 
   it('equal scores give the uniform law; a sum over subsets adds to 1', () => {
@@ -118,7 +134,9 @@ describe('permute-and-flip: the reference itself', () => {
       expect(Math.abs(p - (app[i] as number))).toBeLessThan(1e-13);
     });
     const real = pfFirstSeatFloat(field, 0.025);
-    pfDraw(field, '0.05').exactProbabilities(field).forEach((p, i) => expect(Math.abs(p - (real[i] as number))).toBeLessThan(1e-12));
+    pfDraw(field, '0.05')
+      .exactProbabilities(field)
+      .forEach((p, i) => expect(Math.abs(p - (real[i] as number))).toBeLessThan(1e-12));
   });
 });
 
@@ -224,18 +242,16 @@ function worstRatio(d: number, seats: number, a: Dec, x: number[], y: number[]):
   return worst;
 }
 
-const setup = fc
-  .integer({ min: 2, max: 5 })
-  .chain((d) =>
-    fc.record({
-      d: fc.constant(d),
-      seats: fc.integer({ min: 1, max: Math.min(2, d - 1) }),
-      epsilon: fc.integer({ min: 1, max: 300 }).map((h) => (h / 100).toFixed(2)),
-      ballots: fc.array(fc.array(fc.boolean(), { minLength: d, maxLength: d }), { minLength: 1, maxLength: 10 }),
-      changed: fc.array(fc.boolean(), { minLength: d, maxLength: d }),
-      at: fc.nat(),
-    }),
-  );
+const setup = fc.integer({ min: 2, max: 5 }).chain((d) =>
+  fc.record({
+    d: fc.constant(d),
+    seats: fc.integer({ min: 1, max: Math.min(2, d - 1) }),
+    epsilon: fc.integer({ min: 1, max: 300 }).map((h) => (h / 100).toFixed(2)),
+    ballots: fc.array(fc.array(fc.boolean(), { minLength: d, maxLength: d }), { minLength: 1, maxLength: 10 }),
+    changed: fc.array(fc.boolean(), { minLength: d, maxLength: d }),
+    at: fc.nat(),
+  }),
+);
 type Setup = typeof setup extends fc.Arbitrary<infer T> ? T : never;
 
 const replaceOne = (s: Setup): [number[], number[]] => {
@@ -256,19 +272,33 @@ const runs = { numRuns: 120, seed: 20261202 };
 
 describe('permute-and-flip privacy: outcome ratio on neighbouring counts ≤ e^ε (McKenna & Sheldon 2020, Thm. 1)', () => {
   it('replace-one (a = ε/2k per round), one and two seats', () => {
-    fc.assert(fc.property(setup, (s) => holds(s, 'replace-one', replaceOne)), runs);
+    fc.assert(
+      fc.property(setup, (s) => holds(s, 'replace-one', replaceOne)),
+      runs,
+    );
   });
 
   it('add-remove (a = ε/k per round, monotone counts), one and two seats', () => {
-    fc.assert(fc.property(setup, (s) => holds(s, 'add-remove', addOne)), runs);
+    fc.assert(
+      fc.property(setup, (s) => holds(s, 'add-remove', addOne)),
+      runs,
+    );
   });
 
   it('add-remove setting under a changed ballot stays within e^(2ε), as the statement says', () => {
-    fc.assert(fc.property(setup, (s) => holds(s, 'add-remove', replaceOne, 2)), runs);
+    fc.assert(
+      fc.property(setup, (s) => holds(s, 'add-remove', replaceOne, 2)),
+      runs,
+    );
   });
 
   it('negative control: the scale a = ε/Δ under replace-one breaks e^ε, and the check finds it', () => {
-    expect(() => fc.assert(fc.property(setup, (s) => holds(s, 'add-remove', replaceOne)), runs)).toThrow(/Property failed/);
+    expect(() =>
+      fc.assert(
+        fc.property(setup, (s) => holds(s, 'add-remove', replaceOne)),
+        runs,
+      ),
+    ).toThrow(/Property failed/);
     // A concrete witness: a ballot approving options 0 and 1 becomes one approving only option 2.
     const ratio = worstRatio(3, 1, new D(1), [5, 5, 0], [4, 4, 1]);
     expect(ratio.gt(D.exp(1))).toBe(true);
@@ -278,16 +308,12 @@ describe('permute-and-flip privacy: outcome ratio on neighbouring counts ≤ e^�
 describe('permute-and-flip utility: expected shortfall never above the exponential mechanism’s (McKenna & Sheldon 2020)', () => {
   it('on random count vectors (d ≤ 8, exact decimal reference)', () => {
     fc.assert(
-      fc.property(
-        fc.array(fc.integer({ min: 0, max: 60 }), { minLength: 2, maxLength: 8 }),
-        fc.integer({ min: 1, max: 300 }),
-        (scores, h) => {
-          const a = new D(h).div(200); // ε = h/100, replace-one
-          const pf = pfFirstSeatDecimal(scores, a).map((p) => p.toNumber());
-          const em = firstSeatReference(scores, a).map((p) => p.toNumber());
-          return expectedShortfall(scores, pf) <= expectedShortfall(scores, em) + 1e-12;
-        },
-      ),
+      fc.property(fc.array(fc.integer({ min: 0, max: 60 }), { minLength: 2, maxLength: 8 }), fc.integer({ min: 1, max: 300 }), (scores, h) => {
+        const a = new D(h).div(200); // ε = h/100, replace-one
+        const pf = pfFirstSeatDecimal(scores, a).map((p) => p.toNumber());
+        const em = firstSeatReference(scores, a).map((p) => p.toNumber());
+        return expectedShortfall(scores, pf) <= expectedShortfall(scores, em) + 1e-12;
+      }),
       { numRuns: 200, seed: 7 },
     );
   });

@@ -30,12 +30,8 @@ describe('the statement names the draw rule', () => {
   });
 
   it('the member-facing text names the rule in plain words', () => {
-    const pf = describeStatement(
-      buildStatement({ draw: makePermuteAndFlipDraw(settings), optionLabels: labels, winners: [0, 1, 2], turnout: null }),
-    );
-    const em = describeStatement(
-      buildStatement({ draw: makeExponentialDraw(settings), optionLabels: labels, winners: [0, 1, 2], turnout: null }),
-    );
+    const pf = describeStatement(buildStatement({ draw: makePermuteAndFlipDraw(settings), optionLabels: labels, winners: [0, 1, 2], turnout: null }));
+    const em = describeStatement(buildStatement({ draw: makeExponentialDraw(settings), optionLabels: labels, winners: [0, 1, 2], turnout: null }));
     expect(pf.paragraphs.join(' ')).toContain('Draw rule: permute-and-flip.');
     expect(em.paragraphs.join(' ')).toContain('Draw rule: the exponential mechanism.');
   });
@@ -73,7 +69,12 @@ describe('the signed statement format names the rule and is rechecked with it', 
     expect(checks.every((c) => c.ok)).toBe(true);
     expect(checks.map((c) => c.what).join(' ')).toContain('permute-and-flip');
     const relabelled = { ...s, mechanism: { ...s.mechanism, rule: 'exponential' as const } };
-    expect(recheckStatement(relabelled).filter((c) => !c.ok).map((c) => c.what).join(' ')).toContain('margin table');
+    expect(
+      recheckStatement(relabelled)
+        .filter((c) => !c.ok)
+        .map((c) => c.what)
+        .join(' '),
+    ).toContain('margin table');
     // The shipped JSON Schema accepts it (signature value: a well-formed placeholder, not checked here).
     const envelope = { statement: s, signature: { alg: 'Ed25519', keyId: s.keyId, value: 'A'.repeat(86) } };
     expect(schemaProblems(JSON.parse(JSON.stringify(envelope)))).toEqual([]);

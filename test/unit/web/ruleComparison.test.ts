@@ -32,7 +32,11 @@ describe('ruleComparisonFor', () => {
   });
 
   it('asks for the electorate, and for valid settings, before showing figures', () => {
-    expect(ruleComparisonFor({ epsilon: '1', options: 3, seats: 1, neighbour: 'replace-one', expectedVoters: null, rule: 'exponential' }).ready).toBe(false);
-    expect(ruleComparisonFor({ epsilon: 'x', options: 3, seats: 1, neighbour: 'replace-one', expectedVoters: 10, rule: 'exponential' }).ready).toBe(false);
+    expect(ruleComparisonFor({ epsilon: '1', options: 3, seats: 1, neighbour: 'replace-one', expectedVoters: null, rule: 'exponential' }).ready).toBe(
+      false,
+    );
+    expect(ruleComparisonFor({ epsilon: 'x', options: 3, seats: 1, neighbour: 'replace-one', expectedVoters: 10, rule: 'exponential' }).ready).toBe(
+      false,
+    );
   });
 });

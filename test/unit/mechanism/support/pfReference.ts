@@ -20,9 +20,7 @@ export function pfFirstSeatDecimal(scores: readonly number[], a: Dec): Dec[] {
   const p = scores.map((s) => D.exp(a.times(s - max)));
   const factorial = [new D(1)];
   for (let k = 1; k <= d; k += 1) factorial.push((factorial[k - 1] as Dec).times(k));
-  const orderWeight = Array.from({ length: d }, (_, size) =>
-    (factorial[size] as Dec).times(factorial[d - 1 - size] as Dec).div(factorial[d] as Dec),
-  );
+  const orderWeight = Array.from({ length: d }, (_, size) => (factorial[size] as Dec).times(factorial[d - 1 - size] as Dec).div(factorial[d] as Dec));
   return p.map((pi, i) => {
     const others = p.filter((_, j) => j !== i).map((pj) => new D(1).minus(pj));
     const n = others.length;
