@@ -48,7 +48,10 @@ describe.each(engines)('help pages [%s]', (engine) => {
   });
 
   it('"Choosing ε" tabulates the leads the bounds give, for the settings asked for', async () => {
-    for (const [d, k] of [[6, 1], [8, 3]] as const) {
+    for (const [d, k] of [
+      [6, 1],
+      [8, 3],
+    ] as const) {
       const res = await request(app).get(`/help/choosing-epsilon?options=${d}&seats=${k}&epsilon=1`);
       expect(res.status).toBe(200);
       const rows = firstTableRows(res.text);
