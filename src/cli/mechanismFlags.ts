@@ -1,12 +1,12 @@
 import { z } from 'zod';
 import { InvalidInput } from '../errors.ts';
-import { EPSILON_RULE, MAX_OPTIONS, makeExponentialDraw, type ExponentialDraw, type Neighbour } from '../mechanism/index.ts';
+import { EPSILON_RULE, MAX_OPTIONS, makeDraw, type ExponentialDraw, type Neighbour } from '../mechanism/index.ts';
 
 /** Probabilities as the web shows them: a percentage with two decimals, e.g. 45.31%. */
 export const percent = (p: number): string => `${(p * 100).toFixed(2)}%`;
 
 /** Flags shared by draw, simulate and bounds. */
-export const mechanismFlagSpec = { epsilon: 'value', seats: 'value', neighbour: 'value', json: 'flag' } as const;
+export const mechanismFlagSpec = { epsilon: 'value', seats: 'value', neighbour: 'value', rule: 'value', json: 'flag' } as const;
 
 const wholeNumber = (flag: string, min: number, max: number) =>
   z
@@ -21,14 +21,21 @@ export const mechanismFlagSchema = {
   neighbour: z
     .enum(['replace', 'replace-one', 'add-remove'], { error: '--neighbour must be "replace" or "add-remove"' })
     .optional(),
+  rule: z
+    .enum(['exponential', 'permute-and-flip'], { error: '--rule must be "exponential" or "permute-and-flip"' })
+    .optional(),
   json: z.literal(true).optional(),
 };
+
+/** The --rule flag's line for each command's usage text. */
+export const RULE_USAGE = `  --rule R            exponential (default: the exponential mechanism) or permute-and-flip
+                      (McKenna & Sheldon 2020: same ε, never a larger expected shortfall)`;
 
 export { wholeNumber };
 
 /** Builds the checked draw, with CLI wording for the one mistake users make most: too many seats. */
 export function drawFromFlags(
-  flags: { epsilon: string; seats?: number | undefined; neighbour?: string | undefined },
+  flags: { epsilon: string; seats?: number | undefined; neighbour?: string | undefined; rule?: 'exponential' | 'permute-and-flip' | undefined },
   options: number,
 ): ExponentialDraw {
   const seats = flags.seats ?? 1;
@@ -37,5 +44,5 @@ export function drawFromFlags(
     throw new InvalidInput(`--seats must be smaller than the number of options (${options}); got ${seats}`);
   }
   const neighbour: Neighbour = flags.neighbour === 'add-remove' ? 'add-remove' : 'replace-one';
-  return makeExponentialDraw({ epsilon: flags.epsilon, options, seats, neighbour });
+  return makeDraw({ epsilon: flags.epsilon, options, seats, neighbour, rule: flags.rule ?? 'exponential' });
 }

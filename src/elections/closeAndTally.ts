@@ -7,7 +7,7 @@ import {
   unwrapElectionKey,
   wipe,
 } from '../custody/index.ts';
-import { buildStatement, makeExponentialDraw, type PrivacyStatement } from '../mechanism/index.ts';
+import { buildStatement, makeDraw, type PrivacyStatement } from '../mechanism/index.ts';
 import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
@@ -60,11 +60,12 @@ function assertTallyable(e: Election, now: Date): void {
 }
 
 function drawFor(e: Election) {
-  const draw = makeExponentialDraw({
+  const draw = makeDraw({
     epsilon: e.epsilon,
     options: e.options.length,
     seats: e.seats,
     neighbour: e.neighbour,
+    rule: e.rule,
   });
   const optionLabels = e.options.map((o) => o.label);
   buildStatement({ draw, optionLabels, winners: null, turnout: null, electionTitle: e.title }); // labels, title
@@ -119,7 +120,7 @@ export async function queueTally(
  * lock, and commits the result with its statement atomically, so a process that dies midway
  * has drawn nothing (the claim goes stale and the election is closed again). The sealed ballots
  * are counted (BallotUnreadable stops everything, nothing is skipped); the winners are drawn with
- * the exponential mechanism, at random and weighted toward the most approved options. The counts
+ * the election's draw rule (the exponential mechanism or permute-and-flip), at random and weighted toward the most approved options. The counts
  * never leave this function: they go to the mechanism and are wiped. The key is wiped at the end.
  * If the claim is no longer ours (another process took over a stale one) nothing happens. A
  * failure is recorded by its error code so the organiser can try again; then it is rethrown.

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { InvalidInput } from '../errors.ts';
-import { parseEpsilon } from '../mechanism/index.ts';
+import { DRAW_RULES, parseEpsilon, type DrawRule } from '../mechanism/index.ts';
 import type { Neighbour } from './electionRepo.ts';
 import { isTimeZone } from './time.ts';
 
@@ -14,6 +14,8 @@ export interface DraftInput {
   seats: number;
   epsilon: string;
   neighbour: Neighbour;
+  /** The draw rule adopted before voting; absent means the default, the exponential mechanism. */
+  rule?: DrawRule;
   opensAt: Date;
   closesAt: Date;
   timeZone: string;
@@ -64,6 +66,7 @@ export const draftSchema = z
     seats: z.number().int('Seats must be a whole number.').min(1, 'There must be at least 1 seat.'),
     epsilon: z.string(),
     neighbour: z.enum(['replace-one', 'add-remove']),
+    rule: z.enum(DRAW_RULES as [DrawRule, ...DrawRule[]]).default('exponential'),
     opensAt: z.date(),
     closesAt: z.date(),
     timeZone: z.string().refine(isTimeZone, 'Choose a time zone from the list.'),

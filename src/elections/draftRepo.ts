@@ -11,6 +11,7 @@ function draftColumns(d: DraftInput) {
     seats: d.seats,
     epsilon: d.epsilon,
     neighbour: d.neighbour,
+    draw_rule: d.rule ?? 'exponential',
     opens_at: d.opensAt,
     closes_at: d.closesAt,
     time_zone: d.timeZone,

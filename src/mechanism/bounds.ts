@@ -1,6 +1,7 @@
 import { decimalWithPrecision, type Dec } from './decimal.ts';
 import { InvalidMechanismConfig } from './errors.ts';
 import type { Rational } from './rational.ts';
+import type { DrawRule } from './rule.ts';
 
 /**
  * Guarantees that depend only on ε, d and k, never on ballots, so publishing
@@ -26,21 +27,61 @@ const Decimal = decimalWithPrecision(60);
 const NUDGE = new Decimal('1e-40');
 const MAX_TABLE_ROWS = 100;
 
-/** Dwork & Roth 2014, Cor. 3.12, for P(i) ∝ exp(a·sᵢ) over d options: OPT − (1/a)(ln d + ln(1/β)). */
+/**
+ * Dwork & Roth 2014, Cor. 3.12, for P(i) ∝ exp(a·sᵢ) over d options: OPT − (1/a)(ln d + ln(1/β)).
+ * The same margin holds for permute-and-flip, by the argument of D&R Thm. 3.11: under either rule
+ * P(option r drawn) ≤ exp(−a·(OPT − s_r)) (for permute-and-flip, r needs its own coin, which
+ * succeeds with exactly that probability; McKenna & Sheldon 2020, Algorithm 1), so
+ * P(shortfall ≥ T) ≤ (d − 1)·e^(−aT) ≤ β at T = (1/a)(ln d + ln(1/β)).
+ */
 function accuracyMargin(d: number, a: Dec, beta: Dec): Dec {
   return Decimal.ln(d).plus(Decimal.ln(new Decimal(1).div(beta))).div(a);
 }
 
 /** If the leader is ahead of all d − 1 others by ≥ m: P(leader) ≥ 1/(1 + (d − 1)·e^(−a·m)). */
-function leaderProbability(d: number, a: Dec, m: number): Dec {
+function leaderProbabilityExponential(d: number, a: Dec, m: number): Dec {
   return new Decimal(1).div(new Decimal(d - 1).times(Decimal.exp(a.times(m).neg())).plus(1));
 }
 
+/**
+ * Permute-and-flip, leader ahead of all d − 1 others by ≥ m, x = e^(−a·m):
+ * P(leader) ≥ (1/d)·Σ_{t=0}^{d−1} (1 − x)^t = (1 − (1 − x)^d)/(d·x).
+ * Proof (ours, from McKenna & Sheldon 2020, Algorithm 1): the leader's coin always succeeds, so
+ * it is drawn iff every option visited before it fails; each of those fails with probability
+ * ≥ 1 − x, independently, and the number visited before the leader is uniform on {0, …, d − 1}.
+ * Equality when the others are tied exactly m below. It is never below the exponential
+ * mechanism's bound: on that two-level profile the expected shortfall is m·(1 − P(leader)), and
+ * McKenna & Sheldon 2020 prove permute-and-flip's expected shortfall never exceeds the exponential
+ * mechanism's (abstract; the theorem number, Thm. 2, is from memory). Also checked on a grid in
+ * test/unit/mechanism/permuteAndFlip.test.ts.
+ */
+function leaderProbabilityPermuteAndFlip(d: number, a: Dec, m: number): Dec {
+  if (m === 0) return new Decimal(1).div(d);
+  const x = Decimal.exp(a.times(m).neg());
+  return new Decimal(1).minus(new Decimal(1).minus(x).pow(d)).div(x.times(d));
+}
+
+function leaderProbabilityFor(rule: DrawRule): (d: number, a: Dec, m: number) => Dec {
+  return rule === 'permute-and-flip' ? leaderProbabilityPermuteAndFlip : leaderProbabilityExponential;
+}
+
 /** Smallest whole margin whose guarantee reaches p, checked directly after a closed-form first guess. */
-function marginReaching(d: number, a: Dec, p: Dec): number {
+function marginReaching(d: number, a: Dec, p: Dec, rule: DrawRule): number {
+  const leaderProbability = leaderProbabilityFor(rule);
   const reaches = (m: number) => leaderProbability(d, a, m).minus(NUDGE).gte(p);
   const ratio = new Decimal(d - 1).times(p).div(new Decimal(1).minus(p));
+  // The exponential mechanism's closed form; permute-and-flip never needs more (see above).
   let m = ratio.lte(1) ? 0 : Decimal.ln(ratio).div(a).ceil().toNumber();
+  if (rule === 'permute-and-flip' && m > 0 && reaches(m)) {
+    // The guarantee grows with m, so bisect down: the margin can be far below the first guess.
+    let [lo, hi] = [-1, m];
+    while (hi - lo > 1) {
+      const mid = Math.floor((lo + hi) / 2);
+      if (mid >= 0 && reaches(mid)) hi = mid;
+      else lo = mid;
+    }
+    return hi;
+  }
   while (m > 0 && reaches(m - 1)) m -= 1;
   while (!reaches(m)) m += 1;
   return m;
@@ -65,16 +106,23 @@ export function validateBeta(beta: unknown): number {
   return beta;
 }
 
-export function computeBounds(d: number, scale: Rational, perRoundEpsilon: string, betaInput: unknown): Bounds {
+export function computeBounds(
+  d: number,
+  scale: Rational,
+  perRoundEpsilon: string,
+  betaInput: unknown,
+  rule: DrawRule = 'exponential',
+): Bounds {
   const beta = validateBeta(betaInput);
+  const leaderProbability = leaderProbabilityFor(rule);
   const a = new Decimal(scale.num.toString()).div(scale.den.toString());
   const within = accuracyMargin(d, a, new Decimal(beta)).plus(NUDGE).toDecimalPlaces(2, Decimal.ROUND_CEIL);
   const marginFor = {
-    '0.9': marginReaching(d, a, new Decimal('0.9')),
-    '0.95': marginReaching(d, a, new Decimal('0.95')),
-    '0.99': marginReaching(d, a, new Decimal('0.99')),
+    '0.9': marginReaching(d, a, new Decimal('0.9'), rule),
+    '0.95': marginReaching(d, a, new Decimal('0.95'), rule),
+    '0.99': marginReaching(d, a, new Decimal('0.99'), rule),
   };
-  const last = marginReaching(d, a, new Decimal('0.999'));
+  const last = marginReaching(d, a, new Decimal('0.999'), rule);
   const marginTable = tableMargins(last, [marginFor['0.9'], marginFor['0.95'], marginFor['0.99']]).map((m) => ({
     margin: m,
     // At m = 0 the bound is exactly 1/d, so it needs no nudge before rounding down.

@@ -1,5 +1,6 @@
 import { describeBounds } from './describeBounds.ts';
 import { InvalidMechanismConfig } from './errors.ts';
+import { RULE_SENTENCES } from './rule.ts';
 import type { PrivacyStatement } from './statement.ts';
 
 export interface StatementText {
@@ -21,12 +22,17 @@ function headlineOf(s: PrivacyStatement): string {
   return `${prefix}The ${s.seats} seats were drawn, in this order: ${s.winners.join(', ')}.`;
 }
 
+/** The draw rule in plain words, for members (see RULE_SENTENCES in rule.ts). */
+export function ruleSentence(s: Pick<PrivacyStatement, 'mechanism'>): string {
+  return s.mechanism === 'permute-and-flip' ? RULE_SENTENCES['permute-and-flip'] : RULE_SENTENCES.exponential;
+}
+
 function howDrawn(s: PrivacyStatement): string {
   const nobodySaw = 'Nobody, including the organiser, was shown how many approvals any option received.';
   if (s.seats === 1) {
-    return `The winner was drawn at random, weighted toward the most approved options: an option that more members approved was more likely to be drawn, but not certain to be. ${nobodySaw}`;
+    return `The winner was drawn at random, weighted toward the most approved options: an option that more members approved was more likely to be drawn, but not certain to be. ${ruleSentence(s)} ${nobodySaw}`;
   }
-  return `Each of the ${s.seats} seats was drawn in turn from the options not drawn yet, at random and weighted toward the most approved options: an option that more members approved was more likely to be drawn, but not certain to be. ${nobodySaw}`;
+  return `Each of the ${s.seats} seats was drawn in turn from the options not drawn yet, at random and weighted toward the most approved options: an option that more members approved was more likely to be drawn, but not certain to be. ${ruleSentence(s)} ${nobodySaw}`;
 }
 
 function privacyParagraph(s: PrivacyStatement): string {

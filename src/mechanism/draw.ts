@@ -2,8 +2,10 @@ import { computeBounds, type Bounds } from './bounds.ts';
 import { toEpsilon, type Epsilon } from './epsilon.ts';
 import { InvalidMechanismConfig, InvalidScores, quoteForMessage } from './errors.ts';
 import { drawSeats, firstSeatProbabilities } from './exponential.ts';
+import { PF_EXACT_MAX_OPTIONS, permuteAndFlipProbabilities, permuteAndFlipSeats } from './permuteAndFlip.ts';
 import { divideByInteger, multiplyByInteger, rational, rationalToNumber, rationalToText, type Rational } from './rational.ts';
 import type { RandomSource } from './random.ts';
+import { DRAW_RULES, type DrawRule } from './rule.ts';
 
 /**
  * replace-one: one member's ballot swapped for any other (covers whether and how they voted).
@@ -28,25 +30,38 @@ export interface PrivacyCost {
   composition: 'single-draw' | 'basic';
 }
 
-export interface ExponentialDraw {
+/** A checked draw for one election's settings, under either draw rule (see rule.ts). */
+export interface SeatDraw {
+  readonly rule: DrawRule;
   readonly epsilon: Epsilon;
   readonly options: number;
   readonly seats: number;
   readonly neighbour: Neighbour;
   readonly sensitivity: number;
-  /** a in P(i) ∝ exp(a·sᵢ), for each round: (ε/k)/(2Δ) for replace-one, (ε/k)/Δ for add-remove. */
+  /**
+   * a for each round: (ε/k)/(2Δ) for replace-one, (ε/k)/Δ for add-remove. The exponential mechanism
+   * draws i with P(i) ∝ exp(a·sᵢ); permute-and-flip flips coins exp(−a·(m − sᵢ)).
+   */
   readonly perRoundScale: Rational;
   readonly privacy: PrivacyCost;
   draw(scores: readonly number[], random: RandomSource): number[];
+  /**
+   * First-seat probabilities in floating point, for display and reports only. For
+   * permute-and-flip this costs O(d³) and is refused above PF_EXACT_MAX_OPTIONS options.
+   */
   exactProbabilities(scores: readonly number[]): number[];
   bounds(beta?: number): Bounds;
 }
+/** The name the exponential draw was first given; both rules share the interface. */
+export type ExponentialDraw = SeatDraw;
 
 interface DrawConfig {
   epsilon: string | Epsilon;
   options: number;
   seats: number;
   neighbour: Neighbour;
+  /** Default: the exponential mechanism. */
+  rule?: DrawRule;
 }
 
 function checkWholeNumber(name: string, value: unknown, min: number, max: number): number {
@@ -60,8 +75,23 @@ function checkWholeNumber(name: string, value: unknown, min: number, max: number
  * Checked constructor: every parameter is validated here, once, so a bad ε or
  * seat count fails before any ballot is counted, never in the middle of a draw.
  */
-export function makeExponentialDraw(cfg: DrawConfig): ExponentialDraw {
+export function makeExponentialDraw(cfg: Omit<DrawConfig, 'rule'>): SeatDraw {
   if (cfg === null || typeof cfg !== 'object') throw new InvalidMechanismConfig('mechanism settings are missing');
+  return makeDraw({ ...cfg, rule: 'exponential' });
+}
+
+/** Permute-and-flip (McKenna & Sheldon 2020) at the same ε, scale and peeling as the exponential draw. */
+export function makePermuteAndFlipDraw(cfg: Omit<DrawConfig, 'rule'>): SeatDraw {
+  if (cfg === null || typeof cfg !== 'object') throw new InvalidMechanismConfig('mechanism settings are missing');
+  return makeDraw({ ...cfg, rule: 'permute-and-flip' });
+}
+
+export function makeDraw(cfg: DrawConfig): SeatDraw {
+  if (cfg === null || typeof cfg !== 'object') throw new InvalidMechanismConfig('mechanism settings are missing');
+  const rule = cfg.rule ?? 'exponential';
+  if (!DRAW_RULES.includes(rule)) {
+    throw new InvalidMechanismConfig(`the draw rule must be "exponential" or "permute-and-flip" (got ${quoteForMessage(rule)})`);
+  }
   const epsilon = toEpsilon(cfg.epsilon);
   const options = checkWholeNumber('the number of options', cfg.options, 2, MAX_OPTIONS);
   const seats = checkWholeNumber('the number of seats', cfg.seats, 1, options - 1);
@@ -74,6 +104,12 @@ export function makeExponentialDraw(cfg: DrawConfig): ExponentialDraw {
   // Dwork & Roth 2014, Thm. 3.10 uses ε/(2Δ). When every score can only rise as a
   // ballot is added (approval counts are monotone), ε/Δ suffices for add/remove
   // neighbours (Dwork & Roth 2014, §3.4 remark on monotone utilities; cited from memory).
+  // Permute-and-flip takes the same scale: ε/(2Δ) is McKenna & Sheldon 2020, Thm. 1 (number from memory); for
+  // monotone scores ε/Δ follows from its equivalence with report-noisy-max with exponential
+  // noise of rate a (Ding, Kifer et al. 2021): the argument of Dwork & Roth 2014, Claim 3.9
+  // (report-noisy-max on monotone counts) needs only P(Z ≥ t + 1) ≥ e^(−a)·P(Z ≥ t) for every t,
+  // which exponential noise satisfies. Both scales are also checked on exact probabilities, one
+  // and two seats, in test/unit/mechanism/permuteAndFlip.test.ts.
   const perRoundScale = divideByInteger(perRound, BigInt(neighbour === 'replace-one' ? 2 * SENSITIVITY : SENSITIVITY));
   const perRoundEpsilon = rationalToText(perRound);
   const doubled = rationalToText(multiplyByInteger(total, 2n));
@@ -96,6 +132,7 @@ export function makeExponentialDraw(cfg: DrawConfig): ExponentialDraw {
   };
 
   return Object.freeze({
+    rule,
     epsilon: Object.freeze({ ...epsilon }),
     options,
     seats,
@@ -106,14 +143,22 @@ export function makeExponentialDraw(cfg: DrawConfig): ExponentialDraw {
     draw(scores: readonly number[], random: RandomSource): number[] {
       checkScores(scores);
       if (typeof random !== 'function') throw new InvalidMechanismConfig('a random source is required');
-      return drawSeats(scores, seats, perRoundScale, random);
+      return rule === 'permute-and-flip'
+        ? permuteAndFlipSeats(scores, seats, perRoundScale, random)
+        : drawSeats(scores, seats, perRoundScale, random);
     },
     exactProbabilities(scores: readonly number[]): number[] {
       checkScores(scores);
-      return firstSeatProbabilities(scores, rationalToNumber(perRoundScale));
+      if (rule === 'exponential') return firstSeatProbabilities(scores, rationalToNumber(perRoundScale));
+      if (options > PF_EXACT_MAX_OPTIONS) {
+        throw new InvalidMechanismConfig(
+          `exact permute-and-flip probabilities are computed for at most ${PF_EXACT_MAX_OPTIONS} options`,
+        );
+      }
+      return permuteAndFlipProbabilities(scores, rationalToNumber(perRoundScale));
     },
     bounds(beta = 0.05): Bounds {
-      return computeBounds(options, perRoundScale, perRoundEpsilon, beta);
+      return computeBounds(options, perRoundScale, perRoundEpsilon, beta, rule);
     },
   });
 }

@@ -59,21 +59,29 @@ function scaleOf(draw: ExponentialDraw): Dec {
 const floor4 = (x: Dec): number => x.toDecimalPlaces(4, Decimal.ROUND_FLOOR).toNumber();
 
 /**
- * The exponential mechanism's probability (Dwork & Roth 2014, Def. 3.4: P(i) ∝ exp(a·sᵢ)) that an option
- * leading every other by `lead` approvals is drawn, for this draw's ε, options and seats. Data-free: it
- * depends on the settings and the lead only.
+ * The probability that an option leading every other by `lead` approvals is drawn, for this draw's rule,
+ * ε, options and seats. Data-free: it depends on the settings and the lead only. With n options in play
+ * and w = e^(−a·lead), one round draws the leader with at least
+ * - exponential mechanism (Dwork & Roth 2014, Def. 3.4: P(i) ∝ exp(a·sᵢ)): 1/(1 + (n−1)·w);
+ * - permute-and-flip (McKenna & Sheldon 2020, Algorithm 1): (1 − (1 − w)^n)/(n·w), since the leader's coin
+ *   always succeeds, each other coin succeeds with probability ≤ w, and the number of options visited
+ *   before the leader is uniform on {0, …, n−1} (bounds.ts);
+ * both exact when every other option trails by exactly `lead`.
  */
 export function leadChance(draw: ExponentialDraw, lead: number): LeadChance {
   if (!Number.isSafeInteger(lead) || lead < 0) throw new InvalidMechanismConfig('a lead must be a whole number of approvals, at least 0');
   const w = Decimal.exp(scaleOf(draw).times(lead).neg());
+  const one = new Decimal(1);
+  const round = (n: number): Dec => {
+    if (draw.rule !== 'permute-and-flip') return one.div(new Decimal(n - 1).times(w).plus(1));
+    if (lead === 0) return one.div(n);
+    return one.minus(one.minus(w).pow(n)).div(w.times(n));
+  };
   const d = draw.options;
-  const first = new Decimal(1).div(new Decimal(d - 1).times(w).plus(1));
-  let missed = new Decimal(1);
-  for (let r = 1; r <= draw.seats; r++) {
-    const others = new Decimal(d - r).times(w);
-    missed = missed.times(others.div(others.plus(1)));
-  }
-  return { lead, firstSeat: floor4(first), anySeat: floor4(new Decimal(1).minus(missed)) };
+  const first = round(d);
+  let missed = one;
+  for (let r = 1; r <= draw.seats; r++) missed = missed.times(one.minus(round(d - r + 1)));
+  return { lead, firstSeat: floor4(first), anySeat: floor4(one.minus(missed)) };
 }
 
 /** Whether how a member voted is protected at an ε above WEAK_PROTECTION_EPSILON, and the factor e^ε it allows. */

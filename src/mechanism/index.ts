@@ -17,12 +17,17 @@ export { bernoulliRational, bernoulliExpMinus } from './bernoulli.ts';
 export {
   type Neighbour,
   type ExponentialDraw,
+  type SeatDraw,
   type PrivacyCost,
   NEIGHBOURS,
   MAX_OPTIONS,
   SENSITIVITY,
   makeExponentialDraw,
+  makePermuteAndFlipDraw,
+  makeDraw,
 } from './draw.ts';
+export { type DrawRule, DRAW_RULES, DEFAULT_DRAW_RULE, RULE_NAMES, RULE_SENTENCES } from './rule.ts';
+export { PF_EXACT_MAX_OPTIONS } from './permuteAndFlip.ts';
 export { type Bounds } from './bounds.ts';
 export {
   type ElectorateAssessment,
@@ -41,7 +46,7 @@ export {
   type NotReleased,
   buildStatement,
 } from './statement.ts';
-export { type StatementText, describeStatement, RANDOM_WINNER_CAUTION } from './describe.ts';
+export { type StatementText, describeStatement, ruleSentence, RANDOM_WINNER_CAUTION } from './describe.ts';
 export { describeBounds } from './describeBounds.ts';
 export { canonicalJson, canonicalStatementBytes } from './canonical.ts';
 export { canonicalBytes } from './canonical.ts';
@@ -62,10 +67,8 @@ export {
 export {
   type PublicStatement,
   type StatementEnvelope,
-  type DrawRule,
   type ParameterCheck,
   STATEMENT_FORMAT,
-  DRAW_RULES,
   buildPublicStatement,
   recheckStatement,
   unprotectedReleases,

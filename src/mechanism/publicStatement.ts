@@ -1,10 +1,11 @@
 import { isDeepStrictEqual } from 'node:util';
 import type { Bounds } from './bounds.ts';
 import type { ExponentialDraw, Neighbour } from './draw.ts';
-import { makeExponentialDraw } from './draw.ts';
+import { makeDraw } from './draw.ts';
 import { InvalidMechanismConfig } from './errors.ts';
 import { epsilonExceeds, type LedgerTotals, type UnprotectedRelease } from './ledger.ts';
 import { rationalToText } from './rational.ts';
+import { DRAW_RULES, type DrawRule } from './rule.ts';
 import { factorAtMost, type Protection } from './statement.ts';
 
 /**
@@ -16,8 +17,7 @@ import { factorAtMost, type Protection } from './statement.ts';
  * and the seats. schemas/statement-v1.schema.json describes it; bump FORMAT when a field changes meaning.
  */
 export const STATEMENT_FORMAT = 'veiltally-statement/1';
-export type DrawRule = 'exponential' | 'permute-and-flip';
-export const DRAW_RULES: readonly DrawRule[] = ['exponential', 'permute-and-flip'];
+export { DRAW_RULES, type DrawRule };
 
 export interface PublicStatement {
   format: typeof STATEMENT_FORMAT;
@@ -36,7 +36,10 @@ export interface PublicStatement {
     seats: number;
     composition: 'single-draw' | 'basic';
     perRoundEpsilon: string;
-    /** a in P(i) ∝ exp(a·sᵢ) for each round, exact ("1/4", "0.25"). */
+    /**
+     * a for each round, exact ("1/4", "0.25"): P(i) ∝ exp(a·sᵢ) under the exponential mechanism,
+     * coins exp(−a·(max − sᵢ)) under permute-and-flip.
+     */
     perRoundScale: string;
   };
   options: string[];
@@ -83,6 +86,9 @@ export function buildPublicStatement(input: {
   ledger: { groupId: string; groupName: string } & LedgerTotals;
 }): PublicStatement {
   const { draw } = input;
+  if (input.rule !== undefined && input.rule !== draw.rule) {
+    throw new InvalidMechanismConfig(`the statement's rule "${input.rule}" is not the draw's rule "${draw.rule}"`);
+  }
   if (input.optionLabels.length !== draw.options) throw new InvalidMechanismConfig(`expected ${draw.options} option labels`);
   const winners = input.winners ?? [];
   if (input.winners !== null && winners.length !== draw.seats) throw new InvalidMechanismConfig(`expected ${draw.seats} winners`);
@@ -98,7 +104,7 @@ export function buildPublicStatement(input: {
     drawSequence: input.drawSequence,
     drawnAt: input.drawnAt,
     mechanism: {
-      rule: input.rule ?? 'exponential',
+      rule: draw.rule,
       scoreFunction: 'approval-count',
       sensitivity: draw.sensitivity,
       epsilon: draw.epsilon.text,
@@ -144,7 +150,14 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
   const checks: ParameterCheck[] = [];
   let draw: ExponentialDraw;
   try {
-    draw = makeExponentialDraw({ epsilon: s.mechanism.epsilon, options: s.options.length, seats: s.mechanism.seats, neighbour: s.mechanism.neighbour });
+    if (!DRAW_RULES.includes(s.mechanism.rule)) throw new InvalidMechanismConfig(`unknown draw rule ${JSON.stringify(s.mechanism.rule)}`);
+    draw = makeDraw({
+      epsilon: s.mechanism.epsilon,
+      options: s.options.length,
+      seats: s.mechanism.seats,
+      neighbour: s.mechanism.neighbour,
+      rule: s.mechanism.rule,
+    });
   } catch (e) {
     return [{ ok: false, what: `the mechanism's parameters are not valid (${e instanceof Error ? e.message : String(e)})` }];
   }
@@ -153,8 +166,12 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
   add(m.sensitivity === draw.sensitivity, `sensitivity is ${draw.sensitivity} (one ballot changes each approval count by at most 1)`);
   add(m.composition === draw.privacy.composition && m.perRoundEpsilon === draw.privacy.perRoundEpsilon,
     `ε = ${m.epsilon} over ${m.seats} seat(s) gives ε = ${draw.privacy.perRoundEpsilon} per seat (${draw.privacy.composition === 'basic' ? 'basic composition' : 'a single draw'})`);
+  const scaleWhere =
+    draw.rule === 'permute-and-flip'
+      ? 'in each coin exp(−a · (top approvals − approvals)) of permute-and-flip (McKenna & Sheldon 2020)'
+      : 'in P(option) ∝ exp(a · approvals) of the exponential mechanism';
   add(m.perRoundScale === rationalToText(draw.perRoundScale),
-    `the draw's scale a = ${rationalToText(draw.perRoundScale)} in P(option) ∝ exp(a · approvals), for the "${m.neighbour}" neighbour relation`);
+    `the draw's scale a = ${rationalToText(draw.perRoundScale)} ${scaleWhere}, for the "${m.neighbour}" neighbour relation`);
   const published = s.released.turnout !== null;
   const how = { epsilon: draw.privacy.howVoted, factorAtMost: factorAtMost(draw.privacy.howVoted) };
   add(isDeepStrictEqual(s.privacy.howVoted, how), `how a member voted is protected at ε = ${how.epsilon} (odds change by at most ×${how.factorAtMost})`);
@@ -175,7 +192,7 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
   }
   add(bounds !== null && isDeepStrictEqual(s.bounds, bounds),
     bounds
-      ? `the accuracy bound (within ${bounds.withinApprovals} approvals of the top option with probability ≥ ${1 - bounds.beta}, Dwork & Roth 2014 Cor. 3.12) and all ${bounds.marginTable.length} rows of the margin table`
+      ? `the accuracy bound (within ${bounds.withinApprovals} approvals of the top option with probability ≥ ${1 - bounds.beta}, Dwork & Roth 2014 Cor. 3.12, which holds for both draw rules) and all ${bounds.marginTable.length} rows of the ${draw.rule === 'permute-and-flip' ? 'permute-and-flip ' : ''}margin table`
       : 'the bounds could not be recomputed');
   const l = s.ledger;
   add(!epsilonExceeds(draw.privacy.howVoted, l.howVotedEpsilon) && l.draws >= 1 && l.windowEnd === s.drawnAt,

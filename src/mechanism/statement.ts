@@ -25,8 +25,9 @@ export interface PrivacyStatement {
   /** Option labels in seat order; empty when no ballots were cast. */
   winners: string[];
   optionLabels: string[];
-  mechanism: 'exponential-mechanism';
-  sampler: 'exact-bigint-rejection';
+  /** The draw rule for each seat (see rule.ts); both are exact and share ε, scale and peeling. */
+  mechanism: 'exponential-mechanism' | 'permute-and-flip';
+  sampler: 'exact-bigint-rejection' | 'exact-bigint-permute-and-flip';
   scoreFunction: 'approval-count';
   sensitivity: number;
   epsilon: string;
@@ -113,8 +114,8 @@ export function buildStatement(input: {
     outcome: winners === null ? 'no-ballots' : 'winners',
     winners: winners === null ? [] : winners.map((i) => labels[i] as string),
     optionLabels: labels,
-    mechanism: 'exponential-mechanism',
-    sampler: 'exact-bigint-rejection',
+    mechanism: draw.rule === 'permute-and-flip' ? 'permute-and-flip' : 'exponential-mechanism',
+    sampler: draw.rule === 'permute-and-flip' ? 'exact-bigint-permute-and-flip' : 'exact-bigint-rejection',
     scoreFunction: 'approval-count',
     sensitivity: draw.sensitivity,
     epsilon: draw.epsilon.text,

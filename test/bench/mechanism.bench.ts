@@ -7,7 +7,7 @@
  */
 import { uniformInt } from 'pure-rand/distribution/uniformInt';
 import { xoroshiro128plus } from 'pure-rand/generator/xoroshiro128plus';
-import { cryptoRandom, makeExponentialDraw } from '../../src/mechanism/index.ts';
+import { cryptoRandom, makeExponentialDraw, makePermuteAndFlipDraw } from '../../src/mechanism/index.ts';
 import { figure, type BenchOptions, type Figure } from './support/figures.ts';
 
 interface Sampler {
@@ -21,6 +21,14 @@ const SAMPLERS: Sampler[] = [
     name: 'exponential (exact)',
     make(scores, seats) {
       const draw = makeExponentialDraw({ epsilon: '1', options: scores.length, seats, neighbour: 'replace-one' });
+      return () => draw.draw(scores, cryptoRandom);
+    },
+  },
+  {
+    // McKenna & Sheldon 2020: lazy Fisher–Yates and the same exact exp(−γ) coins, at most d per round.
+    name: 'permute-and-flip (exact)',
+    make(scores, seats) {
+      const draw = makePermuteAndFlipDraw({ epsilon: '1', options: scores.length, seats, neighbour: 'replace-one' });
       return () => draw.draw(scores, cryptoRandom);
     },
   },

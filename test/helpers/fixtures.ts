@@ -26,6 +26,7 @@ export interface FixtureOptions {
   seats?: number;
   epsilon?: string;
   neighbour?: 'replace-one' | 'add-remove';
+  rule?: 'exponential' | 'permute-and-flip';
   opensAt?: Date;
   closesAt?: Date;
   timeZone?: string;
@@ -69,6 +70,7 @@ export async function createDraft(ctx: UseCaseContext, organiserId: string, o: F
       seats: o.seats ?? 1,
       epsilon: o.epsilon ?? '1',
       neighbour: o.neighbour ?? 'replace-one',
+      ...(o.rule ? { rule: o.rule } : {}),
       opensAt,
       closesAt: o.closesAt ?? new Date(opensAt.getTime() + 7 * 24 * 3600_000),
       timeZone: o.timeZone ?? 'Europe/London',

@@ -3,7 +3,7 @@ import { buildStatement, cryptoRandom, parseEpsilon } from '../../mechanism/inde
 import { readBallotFile } from '../ballotFiles.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
-import { drawFromFlags, mechanismFlagSchema, mechanismFlagSpec } from '../mechanismFlags.ts';
+import { RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec } from '../mechanismFlags.ts';
 import { renderStatement } from '../statementText.ts';
 import { formatTable, jsonOut, wrap } from '../table.ts';
 
@@ -25,13 +25,14 @@ const schema = z.object({
 });
 
 const usage = `Usage: veiltally draw --ballots FILE --epsilon E [--seats K] [--neighbour replace|add-remove]
-                      [--title TEXT] [--publish-turnout] [--json]
+                      [--rule exponential|permute-and-flip] [--title TEXT] [--publish-turnout] [--json]
 
 Draws the winners of an approval vote collected on paper or elsewhere, with the
-exact exponential mechanism, and prints them with the privacy statement. You hold
-the ballots and can count them yourself; the output never prints the counts, so it
-can be shared as it is. Draw once: drawing again until you like the result breaks
-the promise the statement makes. Seats are numbered from 1 in the order drawn.
+exact exponential mechanism (or exact permute-and-flip with --rule), and prints them
+with the privacy statement. You hold the ballots and can count them yourself; the
+output never prints the counts, so it can be shared as it is. Draw once: drawing again
+until you like the result breaks the promise the statement makes. Seats are numbered
+from 1 in the order drawn.
 
   --ballots FILE      CSV (header row of option labels; one ballot per row; 1, yes or x
                       approves, 0 or empty does not) or PrefLib categorical (.cat)
@@ -39,6 +40,7 @@ the promise the statement makes. Seats are numbered from 1 in the order drawn.
   --seats K           number of seats, 1 to options − 1 (default 1)
   --neighbour N       replace (default: protects whether and how someone voted) or
                       add-remove (expert: ε for whether, 2ε for how)
+${RULE_USAGE}
   --title TEXT        election title shown in the statement
   --publish-turnout   include the exact number of ballots (then it is not protected)
   --json              print {"winners": [...], "statement": {...}}

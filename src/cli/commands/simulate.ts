@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { cryptoRandom, parseEpsilon } from '../../mechanism/index.ts';
+import { PF_EXACT_MAX_OPTIONS, RULE_NAMES, cryptoRandom, parseEpsilon } from '../../mechanism/index.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
-import { drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
+import { RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
 import { formatTable, jsonOut, wrap } from '../table.ts';
 
 export const MAX_RUNS = 1_000_000;
@@ -18,12 +18,15 @@ const schema = z.object({
 });
 
 const usage = `Usage: veiltally simulate --scores 40,35,20 --epsilon E [--seats K] [--neighbour replace|add-remove]
-                         --runs N [--json]
+                         [--rule exponential|permute-and-flip] --runs N [--json]
 
 Planning aid: runs the real exact sampler N times (N ≤ ${MAX_RUNS.toLocaleString('en-GB')}) on hypothetical
 approval counts and compares how often each option won the first seat with the exact
-probability (shown for single-seat draws only). Options are numbered from 1 in the order
-of --scores; probabilities are percentages (--json gives fractions).
+probability (shown for single-seat draws only; for permute-and-flip, up to ${PF_EXACT_MAX_OPTIONS} options).
+Options are numbered from 1 in the order of --scores; probabilities are percentages
+(--json gives fractions).
+
+${RULE_USAGE}
 
 The winner is drawn at random, weighted toward the most approved options.`;
 
@@ -34,7 +37,8 @@ export const simulateCommand: Command = {
     const flags = checkFlags(schema, parseFlags('simulate', args, spec));
     parseEpsilon(flags.epsilon);
     const draw = drawFromFlags(flags, flags.scores.length);
-    const exact = draw.seats === 1 ? draw.exactProbabilities(flags.scores) : null;
+    const exactKnown = draw.seats === 1 && (draw.rule === 'exponential' || draw.options <= PF_EXACT_MAX_OPTIONS);
+    const exact = exactKnown ? draw.exactProbabilities(flags.scores) : null;
     const wins = new Array<number>(draw.options).fill(0);
     for (let i = 0; i < flags.runs; i += 1) {
       const first = draw.draw(flags.scores, cryptoRandom)[0] as number;
@@ -48,12 +52,12 @@ export const simulateCommand: Command = {
       observedFrequency: (wins[index] as number) / flags.runs,
     }));
     if (flags.json) {
-      io.stdout(jsonOut({ runs: flags.runs, options }));
+      io.stdout(jsonOut({ rule: draw.rule, runs: flags.runs, options }));
       return 0;
     }
     const seatNote = draw.seats === 1 ? '' : ` Frequencies are of winning the first of ${draw.seats} seats.`;
     io.stdout(
-      wrap(`Simulated ${flags.runs} draws at ε = ${draw.epsilon.text} on hypothetical scores.${seatNote}`) +
+      wrap(`Simulated ${flags.runs} draws with ${RULE_NAMES[draw.rule]} at ε = ${draw.epsilon.text} on hypothetical scores.${seatNote}`) +
         '\n' +
         formatTable(
           ['Option', 'Score', 'Exact probability', 'Observed frequency'],

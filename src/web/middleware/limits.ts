@@ -58,7 +58,7 @@ const emailOf: KeyOf = (req) => {
  * How a limit acts once reached:
  * - 'refuse': every attempt is refused until the wait is over (passwords, passphrases).
  * - 'failures-only': a correct attempt still passes, only failures are answered "wait" (ballot codes:
- *   128 random bits cannot be guessed, so the limit bounds load and must never stop a real member).
+ *   80 random bits (128 in older codes) cannot be guessed, so the limit bounds load and must never stop a real member).
  * - 'every': every request counts, not only failures (receipt checks).
  */
 type Mode = 'refuse' | 'failures-only' | 'every';
@@ -150,6 +150,8 @@ export interface Limits {
   readonly signInAttempts: RequestHandler;
   readonly passphraseAttempts: RequestHandler;
   readonly receiptChecks: RequestHandler;
+  /** The home page's code box, which tries each code against every open election at once. */
+  readonly codeLookups: RequestHandler;
 }
 
 const MIN = 60_000;
@@ -175,6 +177,12 @@ export function createLimits(knex: Knex): Limits {
     ]).middleware,
     receiptChecks: new AttemptLimit(knex, 'receipt checks', 'every', [
       { name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf },
+    ]).middleware,
+    // One failed look-up is one guess against every open election, so the site-wide key gives the
+    // same bound per election as 'code-election' does on the ballot steps.
+    codeLookups: new AttemptLimit(knex, 'ballot code attempts', 'failures-only', [
+      { name: 'lookup-client', points: 300, windowMs: 10 * MIN, key: clientOf },
+      { name: 'lookup-site', points: 3000, windowMs: 10 * MIN, key: () => 'site' },
     ]).middleware,
   };
 }

@@ -150,6 +150,7 @@ export function dashboardView(d: Dashboard): DashboardView {
       { term: 'Seats', value: String(e.seats) },
       { term: 'Privacy level', value: `ε = ${e.epsilon}` },
       { term: 'What ε protects', value: protects },
+      { term: 'Draw rule', value: e.rule === 'permute-and-flip' ? 'Permute-and-flip' : 'The exponential mechanism' },
       { term: 'Expected voters', value: e.expectedVoters === null ? 'not given' : e.expectedVoters.toLocaleString('en') },
       ...timeSettings(d),
       { term: 'Turnout', value: e.publishTurnout ? 'Published as an exact, unprotected count' : 'Not published' },

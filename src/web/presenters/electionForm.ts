@@ -4,6 +4,7 @@ import { timeZones, utcToWallClockText, wallClockAt, formatWallClock } from '../
 import type { ElectionFormValues } from '../routes/organise/electionSchema.ts';
 import { summaryOf, type FieldErrors } from '../routes/organise/forms.ts';
 import { guidanceFor, type GuidanceView } from './guidance.ts';
+import { ruleComparisonFor, type RuleComparisonView } from './ruleComparison.ts';
 
 export const DEFAULT_ROWS = 4;
 export const DEFAULT_EPSILON = '1';
@@ -23,6 +24,7 @@ export function blankValues(now: Date, timeZone = 'UTC'): ElectionFormValues {
     seats: '1',
     epsilon: DEFAULT_EPSILON,
     neighbour: 'replace-one',
+    rule: 'exponential',
     expectedVoters: '',
     opensAt: at(1, 9),
     closesAt: at(8, 18),
@@ -43,6 +45,7 @@ export function valuesFromElection(e: Election, groupName = ''): ElectionFormVal
     seats: String(e.seats),
     epsilon: e.epsilon,
     neighbour: e.neighbour,
+    rule: e.rule,
     expectedVoters: e.expectedVoters === null ? '' : String(e.expectedVoters),
     opensAt: utcToWallClockText(e.opensAt, e.timeZone),
     closesAt: utcToWallClockText(e.closesAt, e.timeZone),
@@ -60,6 +63,7 @@ export function fieldAnchor(key: string): string {
   if (m) return `option-${Number(m[1]) + 1}-${m[2]}`;
   if (key === 'options') return 'option-1-label';
   if (key === 'neighbour') return 'neighbour-replace-one';
+  if (key === 'rule') return 'rule-exponential';
   return key;
 }
 
@@ -77,6 +81,7 @@ export interface ElectionFormView {
   summary: { href: string; message: string }[];
   zones: string[];
   guidance: GuidanceView;
+  ruleComparison: RuleComparisonView;
   ambiguous: string[];
   canAddRows: boolean;
   /** The group's privacy spending and what this election would add; null until a group and a valid ε are given. */
@@ -102,6 +107,7 @@ export function electionFormView(input: {
   const filled = values.options.filter((o) => o.label.trim() !== '').length;
   const seats = /^\d{1,6}$/.test(values.seats.trim()) ? Number(values.seats.trim()) : NaN;
   const voters = /^\d{1,9}$/.test(values.expectedVoters.trim()) ? Number(values.expectedVoters.trim()) : null;
+  const rule = values.rule === 'permute-and-flip' ? 'permute-and-flip' : 'exponential';
   const base = input.electionId === null ? '/organise/elections/new' : `/organise/elections/${input.electionId}`;
   return {
     mode: input.electionId === null ? 'new' : 'edit',
@@ -112,7 +118,8 @@ export function electionFormView(input: {
     summary: summaryOf(errors, fieldAnchor),
     // A stored zone the list does not show (an older tz name) is still offered, so it stays selected.
     zones: zoneChoices(values.timeZone),
-    guidance: guidanceFor({ epsilon: values.epsilon, options: filled, seats, neighbour: values.neighbour === 'add-remove' ? 'add-remove' : 'replace-one', expectedVoters: voters }),
+    guidance: guidanceFor({ epsilon: values.epsilon, options: filled, seats, neighbour: values.neighbour === 'add-remove' ? 'add-remove' : 'replace-one', expectedVoters: voters, rule }),
+    ruleComparison: ruleComparisonFor({ epsilon: values.epsilon, options: filled, seats, neighbour: values.neighbour === 'add-remove' ? 'add-remove' : 'replace-one', expectedVoters: voters, rule }),
     ambiguous: input.ambiguous ?? [],
     canAddRows: values.options.length < input.maxRows,
     budget: input.budget ?? null,

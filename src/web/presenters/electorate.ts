@@ -1,7 +1,7 @@
 import type { Election } from '../../elections/electionRepo.ts';
 import {
   assessElectorate,
-  makeExponentialDraw,
+  makeDraw,
   protectionStrength,
   WEAK_PROTECTION_EPSILON,
   type ElectorateLevel,
@@ -69,11 +69,11 @@ export function protectionWarning(draw: ExponentialDraw): ProtectionWarning | nu
   };
 }
 
-type Settings = Pick<Election, 'epsilon' | 'options' | 'seats' | 'neighbour' | 'expectedVoters'>;
+type Settings = Pick<Election, 'epsilon' | 'options' | 'seats' | 'neighbour' | 'expectedVoters'> & { rule?: Election['rule'] };
 
 function drawOf(e: Settings): ExponentialDraw | null {
   try {
-    return makeExponentialDraw({ epsilon: e.epsilon, options: e.options.length, seats: e.seats, neighbour: e.neighbour });
+    return makeDraw({ epsilon: e.epsilon, options: e.options.length, seats: e.seats, neighbour: e.neighbour, rule: e.rule });
   } catch {
     return null; // a stored draft always passed these checks; nothing to warn about otherwise
   }

@@ -1,4 +1,4 @@
-import { describeBounds, makeExponentialDraw, MAX_OPTIONS } from '../../mechanism/index.ts';
+import { describeBounds, makeExponentialDraw, makePermuteAndFlipDraw, MAX_OPTIONS } from '../../mechanism/index.ts';
 
 /** The ε values the comparison table walks through: from strong protection to weak. */
 export const EPSILON_STEPS = ['0.25', '0.5', '1', '1.5', '2', '3', '5'] as const;
@@ -10,6 +10,8 @@ export interface EpsilonRow {
   lead90: number;
   lead95: number;
   lead99: number;
+  /** The lead for 95% under the second draw rule, permute-and-flip (its own bound, bounds.ts). */
+  pfLead95: number;
 }
 
 export interface EpsilonHelpView {
@@ -39,6 +41,7 @@ export function epsilonHelpView(input: { options: number; seats: number; epsilon
       lead90: b.marginFor['0.9'],
       lead95: b.marginFor['0.95'],
       lead99: b.marginFor['0.99'],
+      pfLead95: makePermuteAndFlipDraw({ epsilon, options, seats, neighbour: 'replace-one' }).bounds(0.05).marginFor['0.95'],
     };
   });
   const chosen = makeExponentialDraw({ epsilon: input.epsilon, options, seats, neighbour: 'replace-one' }).bounds(0.05);

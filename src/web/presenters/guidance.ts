@@ -1,4 +1,4 @@
-import { makeExponentialDraw } from '../../mechanism/index.ts';
+import { makeDraw, type DrawRule } from '../../mechanism/index.ts';
 import { electorateFacts, noticeClass, plural, protectionWarning, type ElectorateWarning, type ProtectionWarning } from './electorate.ts';
 import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
 
@@ -8,6 +8,8 @@ export interface GuidanceInput {
   seats: number;
   neighbour: 'replace-one' | 'add-remove';
   expectedVoters: number | null;
+  /** The draw rule chosen on the form; the bounds follow it. Default: the exponential mechanism. */
+  rule?: DrawRule;
 }
 
 export type GuidanceView =
@@ -44,7 +46,7 @@ export function guidanceFor(input: GuidanceInput): GuidanceView {
   }
   let draw;
   try {
-    draw = makeExponentialDraw({ epsilon: input.epsilon.trim(), options: input.options, seats: input.seats, neighbour: input.neighbour });
+    draw = makeDraw({ epsilon: input.epsilon.trim(), options: input.options, seats: input.seats, neighbour: input.neighbour, rule: input.rule });
   } catch {
     return { ready: false, reason: 'Enter ε as a decimal from 0.01 to 10 (such as 0.5, 1 or 2.5) to see the guidance.' };
   }

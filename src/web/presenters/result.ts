@@ -2,7 +2,7 @@ import { z } from 'zod';
 import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
 import { resultHidden } from '../../elections/status.ts';
-import { describeStatement, makeExponentialDraw, type PrivacyStatement } from '../../mechanism/index.ts';
+import { RULE_NAMES, describeStatement, makeDraw, type PrivacyStatement } from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
@@ -17,6 +17,7 @@ const protection = z.object({ epsilon: z.string(), factorAtMost: z.number() });
 const statementShape = z
   .object({
     statementVersion: z.literal(1),
+    mechanism: z.enum(['exponential-mechanism', 'permute-and-flip']),
     outcome: z.enum(['winners', 'no-ballots']),
     winners: z.array(z.string()),
     optionLabels: z.array(z.string()),
@@ -77,6 +78,8 @@ export interface PublishedResultView {
     epsilon: string;
     seats: number;
     optionCount: number;
+    /** The draw rule in plain words, e.g. "permute-and-flip". */
+    ruleName: string;
     neighbourName: string;
     neighbourMeans: string;
     howVoted: { epsilon: string; factorAtMost: number };
@@ -127,10 +130,17 @@ function meaningOf(winners: string[], seats: number, noBallots: boolean): string
  * The chart on the result page, from the mechanism's data-free bounds for this election's ε, options,
  * seats and neighbour relation (Dwork & Roth 2014, §3.4): it depends on no count, so showing it costs no privacy.
  */
-function resultChart(s: { epsilon: string; optionLabels: string[]; seats: number; neighbour: 'replace-one' | 'add-remove' }): ResultChart | null {
+function resultChart(s: {
+  epsilon: string;
+  optionLabels: string[];
+  seats: number;
+  neighbour: 'replace-one' | 'add-remove';
+  mechanism: 'exponential-mechanism' | 'permute-and-flip';
+}): ResultChart | null {
   let draw;
   try {
-    draw = makeExponentialDraw({ epsilon: s.epsilon, options: s.optionLabels.length, seats: s.seats, neighbour: s.neighbour });
+    const rule = s.mechanism === 'permute-and-flip' ? 'permute-and-flip' : 'exponential';
+    draw = makeDraw({ epsilon: s.epsilon, options: s.optionLabels.length, seats: s.seats, neighbour: s.neighbour, rule });
   } catch {
     return null; // a stored statement always passed these checks; without them there is nothing honest to draw
   }
@@ -182,6 +192,7 @@ export function publishedResultView(stored: unknown): PublishedResultView {
       epsilon: statement.epsilon,
       seats: statement.seats,
       optionCount: statement.optionLabels.length,
+      ruleName: RULE_NAMES[statement.mechanism === 'permute-and-flip' ? 'permute-and-flip' : 'exponential'],
       neighbourName: neighbour.name,
       neighbourMeans: neighbour.means,
       howVoted: statement.protects.howVoted,

@@ -96,3 +96,18 @@ describe.each(engines)('home page for members [%s]', (engine) => {
     await s.post(agent, '/ballot', { code: f.codes[0]! }).expect(403);
   });
 });
+
+describe.each(engines)('home page code box limits [%s]', (engine) => {
+  const s = useMemberSuite(engine);
+  it('after 300 failed look-ups from one address, failures only say "wait", while a right code still finds its ballot', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const agent = request.agent(s.app);
+    const csrf = csrfFrom((await agent.get('/').expect(200)).text);
+    // 300 failed look-ups (malformed codes count as failures too).
+    for (let i = 0; i < 300; i++) await s.post(agent, '/ballot', { _csrf: csrf, code: 'hello' }).expect(400);
+    const locked = await s.post(agent, '/ballot', { _csrf: csrf, code: '0000-0000-0000-00000' }).expect(429);
+    expect(locked.text).not.toContain('No open ballot has this code');
+    expect(locked.headers['retry-after']).toBeDefined();
+    await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[0]! }).expect(200);
+  }, 120_000);
+});

@@ -8,6 +8,8 @@ import { verifyStatementText } from '../../../src/cli/commands/verify.ts';
 import { main } from '../../../src/cli/main.ts';
 import { publicKeyFromSeed, signingKeyId } from '../../../src/custody/index.ts';
 import { testApp } from '../../helpers/app.ts';
+import { openDatabase } from '../../../src/db/knex.ts';
+import { checkSecretsAgree, SecretsDisagree } from '../../../src/instanceCheck.ts';
 import { engines } from '../../helpers/databases.ts';
 import { castAll, openElectionFixture, tallyFixture } from '../../helpers/fixtures.ts';
 import { DAY, useMemberSuite } from '../../helpers/memberSuite.ts';
@@ -56,14 +58,31 @@ describe('veiltally key add', () => {
       const first = fs.readFileSync(seedFile, 'utf8').trim();
       expect(first).toMatch(/^[0-9a-f]{64}$/);
       expect((fs.statSync(seedFile).mode & 0o777).toString(8)).toBe('600');
+      // An instance starts with the first seed and stores its fingerprint.
+      const secretsWith = (seedHex: string) => ({ sessionSecret: 's'.repeat(40), codePepper: Buffer.alloc(32, 1), signingSeed: Buffer.from(seedHex, 'hex') });
+      let db = openDatabase({ engine: 'pglite', dataDir: dir });
+      await checkSecretsAgree(db.knex, secretsWith(first));
+      await db.close();
       expect(await main(['key', 'add'], io)).toBe(0);
       const second = fs.readFileSync(seedFile, 'utf8').trim();
       expect(second).not.toBe(first);
+      // The stored fingerprint moved with the seed: the new seed starts, an instance left on the old one does not.
+      db = openDatabase({ engine: 'pglite', dataDir: dir });
+      try {
+        await checkSecretsAgree(db.knex, secretsWith(second));
+        await expect(checkSecretsAgree(db.knex, secretsWith(first))).rejects.toBeInstanceOf(SecretsDisagree);
+      } finally {
+        await db.close();
+      }
       out.length = 0;
       expect(await main(['key', 'list'], io)).toBe(0);
       const listed = out.join('');
       for (const seed of [first, second]) expect(listed).toContain(signingKeyId(publicKeyFromSeed(Buffer.from(seed, 'hex'))));
       expect(await main(['key', 'remove'], io)).toBe(2);
+      process.env.VEILTALLY_SIGNING_SEED = 'ab'.repeat(32);
+      out.length = 0;
+      expect(await main(['key', 'add'], io)).toBe(2);
+      expect(out.join('')).toContain('key add --print');
     } finally {
       process.env = saved;
       fs.rmSync(dir, { recursive: true, force: true });

@@ -91,6 +91,7 @@ describe('veiltally bounds', () => {
     expect(code).toBe(0);
     const expected = makeExponentialDraw({ epsilon: '0.5', options: 17, seats: 2, neighbour: 'add-remove' }).bounds(0.1);
     expect(JSON.parse(stdout)).toEqual({
+      rule: 'exponential',
       withinApprovals: expected.withinApprovals,
       beta: 0.1,
       perRoundEpsilon: '0.25',

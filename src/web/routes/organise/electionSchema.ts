@@ -16,6 +16,8 @@ export interface ElectionFormValues {
   seats: string;
   epsilon: string;
   neighbour: string;
+  /** 'exponential' (the default) or 'permute-and-flip'. */
+  rule: string;
   expectedVoters: string;
   opensAt: string;
   closesAt: string;
@@ -43,6 +45,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
     seats: cut(field(body, 'seats'), 20),
     epsilon: cut(field(body, 'epsilon'), 20),
     neighbour: field(body, 'neighbour') === 'add-remove' ? 'add-remove' : 'replace-one',
+    rule: field(body, 'rule') === 'permute-and-flip' ? 'permute-and-flip' : 'exponential',
     expectedVoters: cut(field(body, 'expectedVoters'), 20),
     opensAt: cut(field(body, 'opensAt'), 40),
     closesAt: cut(field(body, 'closesAt'), 40),
@@ -96,6 +99,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     seats: seats ?? 1,
     epsilon: v.epsilon.trim(),
     neighbour: v.neighbour === 'add-remove' ? 'add-remove' : 'replace-one',
+    rule: v.rule === 'permute-and-flip' ? 'permute-and-flip' : 'exponential',
     opensAt: times.opensAt ?? new Date(0),
     closesAt: times.closesAt ?? new Date(1),
     timeZone: v.timeZone,

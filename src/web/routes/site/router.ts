@@ -6,6 +6,8 @@ import { findBallotByCode, listPublishedResults } from '../../../elections/findB
 import { findElection } from '../../../elections/electionRepo.ts';
 import { CodeMalformed, CodeTypo } from '../../../custody/errors.ts';
 import { noStore } from '../../middleware/security.ts';
+import type { LockedOut } from '../../middleware/limits.ts';
+import { TooManyAttempts } from '../../errors.ts';
 import { votingElectionView } from '../../presenters/ballot.ts';
 import { shownTime } from '../../presenters/publicTime.ts';
 import { ballotPathOf, findBallotForm } from './schema.ts';
@@ -23,11 +25,16 @@ export function siteRouter(deps: AppDeps): Router {
   });
 
   const { ctx } = deps;
-  // The same shared allowance as the ballot steps: only failed look-ups count, so a meeting on one
-  // address is never locked out.
-  const { codeAttempts } = deps.limits;
+  // Like the ballot steps: only failed look-ups count, so a meeting on one address is never locked out.
+  const codeAttempts = deps.limits.codeLookups;
 
   async function renderHome(res: Response, status: number, code: string, problem: string | null) {
+    // Past the look-up limit a failed look-up is not answered, only "wait" (limits.ts, failures-only).
+    const locked = res.locals.lockedOut as LockedOut | undefined;
+    if (status >= 400 && locked) {
+      res.set('Retry-After', String(Math.max(1, Math.ceil(locked.retryAfterMs / 1000))));
+      throw new TooManyAttempts(locked.what, locked.retryAfterMs);
+    }
     const results = (await listPublishedResults(ctx)).map((r) => ({ url: `/results/${r.id}`, title: r.title, publishedAt: shownTime(r.publishedAt, r.timeZone) }));
     res.status(status).render('site/home', { title: 'Private approval votes', code, problem, results });
   }

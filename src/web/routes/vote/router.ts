@@ -35,7 +35,7 @@ export interface MemberContext {
 export function voteRouter(deps: AppDeps): Router {
   const router = Router();
   const { ctx } = deps;
-  // Codes carry 128 bits, so this bounds load rather than guessing. A whole meeting may share one
+  // Codes carry 80 random bits (DEVELOPERS.md, "Ballot codes"), so this bounds load rather than guessing. A whole meeting may share one
   // address, so only failed steps use up the allowance: members who type their code right never do.
   const { codeAttempts } = deps.limits;
 
