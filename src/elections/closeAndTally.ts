@@ -137,7 +137,6 @@ export async function runQueuedTally(
       if (e.shreddedAt) throw new BallotsShredded();
       const { draw, optionLabels } = drawFor(e);
       let winners: number[] | null;
-      let ballots: number;
       await rewriteVotingRows(trx, e.id);
       const tally = await countApprovals(trx, {
         electionId: e.id,
@@ -146,7 +145,7 @@ export async function runQueuedTally(
         optionCount: e.options.length,
         threads: 'auto',
       });
-      ballots = tally.ballots;
+      const ballots = tally.ballots;
       try {
         if (tally.unreadable > 0) throw new BallotUnreadable(tally.unreadable, tally.ballots);
         const scores = Array.from(tally.counts);

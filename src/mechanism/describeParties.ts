@@ -49,7 +49,11 @@ export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyTe
         'Other members learn exactly what the public learns, below. Your receipt lets you, and only you, check that your ballot was counted; it does not show how you voted.',
       ],
     },
-    { party: 'public', heading: 'What anyone can learn from the published result', sentences: [howVoted, whetherVoted, liveForOthers, anyone, published] },
+    {
+      party: 'public',
+      heading: 'What anyone can learn from the published result',
+      sentences: [howVoted, whetherVoted, liveForOthers, anyone, published],
+    },
     {
       party: 'organiser',
       heading: 'What the organiser can learn',

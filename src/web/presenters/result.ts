@@ -2,7 +2,7 @@ import { z } from 'zod';
 import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
 import { resultHidden } from '../../elections/status.ts';
-import { RULE_NAMES, describeStatement, makeDraw, type PrivacyStatement } from '../../mechanism/index.ts';
+import { RULE_NAMES, describeParties, describeStatement, makeDraw, makeExponentialDraw, type PartyText, type PrivacyStatement } from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
@@ -59,6 +59,8 @@ export interface ResultChart {
 
 export interface PublishedResultView {
   headline: string;
+  /** What members, the public and the organiser could each learn (src/mechanism/describeParties.ts). */
+  parties: PartyText[];
   /** One short paragraph, in plain words, on what the announcement means. */
   meaning: string;
   /** For several seats: that the order is the draw order, not a ranking. */
@@ -171,8 +173,10 @@ export function publishedResultView(stored: unknown): PublishedResultView {
     if (at < 0) return null;
     return seats === 1 ? 'Drawn' : `Drawn ${ordinal(at + 1)}`;
   };
+  const privacy = makeExponentialDraw({ epsilon: statement.epsilon, options: statement.optionLabels.length, seats, neighbour: statement.neighbour }).privacy;
   return {
     headline: text.headline,
+    parties: describeParties(privacy, { neighbour: statement.neighbour, publishTurnout: statement.turnout !== null, previewHours: 48 }),
     meaning: meaningOf(statement.winners, seats, noBallots),
     orderNote:
       seats > 1 && !noBallots

@@ -56,7 +56,10 @@ describe.each(engines)('every draw is published; the tally leaves the request pa
   });
 
   it('a shorter configured preview is kept, a longer one is cut to 48 hours', async () => {
-    for (const [asked, kept] of [[3600_000, 3600_000], [100 * 3600_000, MAX_PREVIEW_MS]] as const) {
+    for (const [asked, kept] of [
+      [3600_000, 3600_000],
+      [100 * 3600_000, MAX_PREVIEW_MS],
+    ] as const) {
       const s = await closedWithBallots(1);
       await closeAndTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE, previewMs: asked });
       const e = (await findElection(db.knex, s.electionId))!;
@@ -111,7 +114,10 @@ describe.each(engines)('every draw is published; the tally leaves the request pa
       await trx('elections').where({ id: s.electionId }).forUpdate().first();
       const attempt = queueTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: 'not the passphrase at all' });
       const outcome = await Promise.race([
-        attempt.then(() => 'accepted', (err: unknown) => (err instanceof WrongPassphrase ? 'refused' : String(err))),
+        attempt.then(
+          () => 'accepted',
+          (err: unknown) => (err instanceof WrongPassphrase ? 'refused' : String(err)),
+        ),
         new Promise((r) => setTimeout(() => r('waited for the lock'), 5000)),
       ]);
       expect(outcome).toBe('refused');

@@ -19,7 +19,10 @@ import { startServer } from '../../helpers/server.ts';
 const ALLOWED_NUMBERS = new Set(['level', 'time', 'pid', 'status']);
 
 function cookiesOf(res: Response): string {
-  return res.headers.getSetCookie().map((c) => c.split(';')[0]!).join('; ');
+  return res.headers
+    .getSetCookie()
+    .map((c) => c.split(';')[0]!)
+    .join('; ');
 }
 
 describe.each(engines)('no draw duration in the logs at debug level [%s]', (engine: Engine) => {
@@ -56,7 +59,10 @@ describe.each(engines)('no draw duration in the logs at debug level [%s]', (engi
     cleanups.push(() => server.stop('SIGKILL'));
     const signIn = await fetch(`${server.url}/organise/sign-in`);
     let cookie = cookiesOf(signIn);
-    const csrf = () => fetch(`${server.url}/organise/elections/${f.id}/tally`, { headers: { cookie } }).then(async (r) => /name="_csrf" value="([^"]+)"/.exec(await r.text())![1]!);
+    const csrf = () =>
+      fetch(`${server.url}/organise/elections/${f.id}/tally`, { headers: { cookie } }).then(
+        async (r) => /name="_csrf" value="([^"]+)"/.exec(await r.text())![1]!,
+      );
     const token = /name="_csrf" value="([^"]+)"/.exec(await signIn.text())![1]!;
     const signedIn = await fetch(`${server.url}/organise/sign-in`, {
       method: 'POST',
@@ -82,7 +88,11 @@ describe.each(engines)('no draw duration in the logs at debug level [%s]', (engi
     expect((await check.knex('elections').where({ id: f.id }).first('state')).state).toBe('tallied'); // control: the draw ran
     if (engine === 'pglite') await check.close();
 
-    const lines = server.output().split('\n').filter((l) => l.trim().startsWith('{')).map((l) => JSON.parse(l) as Record<string, unknown>);
+    const lines = server
+      .output()
+      .split('\n')
+      .filter((l) => l.trim().startsWith('{'))
+      .map((l) => JSON.parse(l) as Record<string, unknown>);
     const requests = lines.filter((l) => l.msg === 'request');
     expect(requests.some((l) => l.method === 'POST' && String(l.path).endsWith('/tally'))).toBe(true); // control: debug lines were logged
     for (const line of lines) {

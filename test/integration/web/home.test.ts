@@ -15,8 +15,8 @@ describe.each(engines)('home page for members [%s]', (engine) => {
   }
 
   it('finds the ballot for a code typed in lower case with spaces, with the code only in the page body', async () => {
-    const f = await openElectionFixture(s.ctx, s.organiserId, { title: 'Name the river launch' });
-    const other = await openElectionFixture(s.ctx, s.organiserId, { title: 'Another vote' });
+    const f = await openElectionFixture(s.ctx, s.organiserId, { title: 'Name the river launch', epsilon: '0.5' });
+    const other = await openElectionFixture(s.ctx, s.organiserId, { title: 'Another vote', epsilon: '0.5' });
     const { agent, csrf } = await home();
     const typed = ` ${f.codes[1]!.toLowerCase().replace(/-/g, ' ')} `;
     const res = await s.post(agent, '/ballot', { _csrf: csrf, code: typed }).expect(200);
@@ -32,7 +32,7 @@ describe.each(engines)('home page for members [%s]', (engine) => {
   });
 
   it('finds the ballot whether or not the code was used (no code-status answer here)', async () => {
-    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const f = await openElectionFixture(s.ctx, s.organiserId, { epsilon: '0.5' });
     await castAll(s.ctx, f, [[0]]);
     const { agent, csrf } = await home();
     const used = await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[0]! }).expect(200);
@@ -42,7 +42,7 @@ describe.each(engines)('home page for members [%s]', (engine) => {
   });
 
   it('follows a pasted ballot link, long or short, to this site only', async () => {
-    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const f = await openElectionFixture(s.ctx, s.organiserId, { epsilon: '0.5' });
     const { agent, csrf } = await home();
     const long = await s.post(agent, '/ballot', { _csrf: csrf, code: `https://elsewhere.example/vote/${f.id.toUpperCase()}?x=1` }).expect(303);
     expect(long.headers.location).toBe(`/vote/${f.id}`);
@@ -55,7 +55,7 @@ describe.each(engines)('home page for members [%s]', (engine) => {
     ['a code with one slip', 'flip', 400, 'typing mistake'],
     ['a valid code no election issued', 'unknown', 404, 'No open ballot has this code'],
   ])('explains %s and keeps what was typed', async (_name, kind, status, message) => {
-    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const f = await openElectionFixture(s.ctx, s.organiserId, { epsilon: '0.5' });
     const real = f.codes[0]!;
     const slipped = real.slice(0, 2) + (real[2] === '7' ? '8' : '7') + real.slice(3);
     const typed = kind === 'flip' ? slipped : kind === 'unknown' ? '0000-0000-0000-00000' : kind;
@@ -67,7 +67,7 @@ describe.each(engines)('home page for members [%s]', (engine) => {
 
   it('a code of a scheduled election leads to its ballot link, which says when voting opens', async () => {
     const opensAt = new Date(Date.parse(SUITE_START) + DAY);
-    const f = await openElectionFixture(s.ctx, s.organiserId, { opensAt, closesAt: new Date(opensAt.getTime() + DAY) });
+    const f = await openElectionFixture(s.ctx, s.organiserId, { opensAt, closesAt: new Date(opensAt.getTime() + DAY), epsilon: '0.5' });
     const { agent, csrf } = await home();
     const res = await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[0]! }).expect(303);
     expect(res.headers.location).toBe(`/vote/${f.id}`);
@@ -80,8 +80,8 @@ describe.each(engines)('home page for members [%s]', (engine) => {
   });
 
   it('lists published results, newest first, and nothing unpublished', async () => {
-    const { f } = await s.decided([[0], [1]], { title: 'Published boat name' });
-    await s.decided([[0]], { title: 'Drawn but not yet published' }, false);
+    const { f } = await s.decided([[0], [1]], { title: 'Published boat name', epsilon: '0.5' });
+    await s.decided([[0]], { title: 'Drawn but not yet published', epsilon: '0.5' }, false);
     const { html } = await home();
     expect(html).toContain('Published results');
     expect(html).toContain(`href="/results/${f.id}"`);
@@ -90,7 +90,7 @@ describe.each(engines)('home page for members [%s]', (engine) => {
   });
 
   it('needs a CSRF token', async () => {
-    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const f = await openElectionFixture(s.ctx, s.organiserId, { epsilon: '0.5' });
     const agent = request.agent(s.app);
     await agent.get('/');
     await s.post(agent, '/ballot', { code: f.codes[0]! }).expect(403);
@@ -100,7 +100,7 @@ describe.each(engines)('home page for members [%s]', (engine) => {
 describe.each(engines)('home page code box limits [%s]', (engine) => {
   const s = useMemberSuite(engine);
   it('after 300 failed look-ups from one address, failures only say "wait", while a right code still finds its ballot', async () => {
-    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const f = await openElectionFixture(s.ctx, s.organiserId, { epsilon: '0.5' });
     const agent = request.agent(s.app);
     const csrf = csrfFrom((await agent.get('/').expect(200)).text);
     // 300 failed look-ups (malformed codes count as failures too).

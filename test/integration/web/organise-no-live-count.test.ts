@@ -45,11 +45,17 @@ describe.each(engines)('no exact turnout for the organiser before the draw [%s]'
 
   async function page(id: string, step: string) {
     const res = await agent.get(`/organise/elections/${id}${step}`);
-    const body = res.text.split(id).join('ID').replace(/name="_csrf" value="[^"]+"/g, '');
+    const body = res.text
+      .split(id)
+      .join('ID')
+      .replace(/name="_csrf" value="[^"]+"/g, '');
     return { status: res.status, body };
   }
 
-  for (const [phase, when] of [['while voting is open', '2026-06-10T12:30:00Z'], ['after close, before the draw', '2026-06-12T17:30:00Z']] as const) {
+  for (const [phase, when] of [
+    ['while voting is open', '2026-06-10T12:30:00Z'],
+    ['after close, before the draw', '2026-06-12T17:30:00Z'],
+  ] as const) {
     it(`every organiser page is the same with 0 and with 3 ballots cast, ${phase}`, async () => {
       clock.set(when);
       agent = await signedIn(app, me.email);

@@ -60,6 +60,11 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     expect(html).toMatch(/<dt>Seats<\/dt>\s*<dd>1<\/dd>/);
     expect(html).toMatch(/<dt>Options on the ballot<\/dt>\s*<dd>4<\/dd>/);
     expect(html).toContain('Replace one ballot.');
+    // The statement says what each party could learn, separately.
+    for (const heading of ['What other members can learn about you', 'What anyone can learn from the published result', 'What the organiser can learn']) {
+      expect(html).toContain(heading);
+    }
+    expect(html).toContain('never how many ballots were cast');
     expect(html).not.toContain('id="turnout"');
     const timeline = [...html.matchAll(/<span class="timeline-label">([^<]+)<\/span>/g)].map((m) => m[1]);
     expect(timeline).toEqual([

@@ -20,8 +20,10 @@ describe.each(engines)('ballot step is no code-status oracle [%s]', (engine) => 
     const { agent, csrf } = await begin(f);
     const res = await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code, approve: step === 'confirm' ? ['1'] : undefined });
     const body = res.text
-      .split(csrf).join('CSRF')
-      .split(code).join('CODE')
+      .split(csrf)
+      .join('CSRF')
+      .split(code)
+      .join('CODE')
       .replace(/name="castToken" value="[^"]*"/g, 'name="castToken" value="TOKEN"');
     return { status: res.status, body };
   }
@@ -66,7 +68,11 @@ describe.each(engines)('ballot step is no code-status oracle [%s]', (engine) => 
     const { agent, csrf, html } = await begin(f);
     const ballot = await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code: f.codes[0]! }).expect(200);
     for (const page of [html, ballot.text]) {
-      for (const heading of ['What other members can learn about you', 'What anyone can learn from the published result', 'What the organiser can learn']) {
+      for (const heading of [
+        'What other members can learn about you',
+        'What anyone can learn from the published result',
+        'What the organiser can learn',
+      ]) {
         expect(page).toContain(heading);
       }
       expect(page).toContain('never how many ballots were cast');

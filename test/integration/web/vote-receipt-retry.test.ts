@@ -80,7 +80,9 @@ describe.each(engines)('a member can always get their receipt [%s]', (engine) =>
     const rows = await s.ctx.knex('cast_tokens').where({ election_id: f.id });
     expect(rows).toHaveLength(1);
     expect(Object.keys(rows[0]).sort()).toEqual(['election_id', 'sealed_receipt', 'token_hash']);
-    const text = JSON.stringify(rows.map((r) => ({ ...r, h: Buffer.from(r.token_hash).toString('latin1'), r: Buffer.from(r.sealed_receipt).toString('latin1') })));
+    const text = JSON.stringify(
+      rows.map((r) => ({ ...r, h: Buffer.from(r.token_hash).toString('latin1'), r: Buffer.from(r.sealed_receipt).toString('latin1') })),
+    );
     expect(text).not.toContain(receipt);
     expect(text).not.toContain(m.fields.castToken);
     expect(text).not.toContain(Buffer.from(m.fields.castToken, 'base64url').toString('latin1'));

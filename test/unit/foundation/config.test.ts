@@ -33,6 +33,13 @@ describe('config', () => {
     fs.rmSync(dir, { recursive: true });
   });
 
+  it('keeps the preview of a drawn result to at most 48 hours (every draw is published)', () => {
+    expect(loadConfig({}).previewMs).toBe(48 * 3600_000);
+    expect(loadConfig({ VEILTALLY_PREVIEW_HOURS: '2' }).previewMs).toBe(2 * 3600_000);
+    expect(() => loadConfig({ VEILTALLY_PREVIEW_HOURS: '49' })).toThrow(/VEILTALLY_PREVIEW_HOURS: must be at most 48/);
+    expect(() => loadConfig({ VEILTALLY_PREVIEW_HOURS: '-1' })).toThrow(/VEILTALLY_PREVIEW_HOURS/);
+  });
+
   it('has working defaults and is frozen', () => {
     const c = loadConfig({});
     expect(c.port).toBe(3000);

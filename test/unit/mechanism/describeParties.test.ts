@@ -14,7 +14,11 @@ const cases = [
   { epsilon: '0.5', neighbour: 'add-remove', how: 'e^(2ε) ≈ 2.72', whether: 'e^ε ≈ 1.65' },
 ] as const;
 
-const table = cases.flatMap((c) => [1, 3].flatMap((seats) => [false, true].flatMap((publishTurnout) => [24, 48].map((previewHours) => ({ ...c, seats, publishTurnout, previewHours })))));
+const table = cases.flatMap((c) =>
+  [1, 3].flatMap((seats) =>
+    [false, true].flatMap((publishTurnout) => [24, 48].map((previewHours) => ({ ...c, seats, publishTurnout, previewHours }))),
+  ),
+);
 
 describe('what each party can learn, for every combination of settings', () => {
   it.each(table)('ε=$epsilon $neighbour, $seats seat(s), turnout published: $publishTurnout, preview $previewHours h', (c) => {
@@ -34,7 +38,9 @@ describe('what each party can learn, for every combination of settings', () => {
       expect(pub).not.toContain(c.whether + '. The turnout is never published');
     } else {
       expect(pub).toContain(`at most a factor of ${c.whether}. The turnout is never published.`);
-      expect(pub).toContain(c.neighbour === 'replace-one' ? 'not voting looks the same as a ballot with nothing ticked' : 'Whether a member voted: the chance');
+      expect(pub).toContain(
+        c.neighbour === 'replace-one' ? 'not voting looks the same as a ballot with nothing ticked' : 'Whether a member voted: the chance',
+      );
     }
     expect(pub).toContain('nothing about who has voted, or how many, is shown');
     expect(pub).toContain('Whether anyone voted at all is shown');
@@ -63,7 +69,10 @@ describe('the accuracy sentence with k seats gives the all-seats guarantee as a 
       expect(text).not.toMatch(/the winner had|was drawn with/);
       // Union bound (Boole's inequality): P(every seat within the margin) ≥ 1 − kβ.
       if (seats === 1) expect(text).not.toContain('seats together');
-      else if (seats < 20) expect(text).toContain(`For all ${seats} seats together, the same holds with probability at least ${Math.round((1 - seats * 0.05) * 100)}% (that is 1 − ${seats}β, by the union bound)`);
+      else if (seats < 20)
+        expect(text).toContain(
+          `For all ${seats} seats together, the same holds with probability at least ${Math.round((1 - seats * 0.05) * 100)}% (that is 1 − ${seats}β, by the union bound)`,
+        );
       else expect(text).toContain('no useful guarantee');
     }
   });

@@ -113,7 +113,7 @@ export function voteRouter(deps: AppDeps): Router {
   router.post('/vote/:id/cast', codeAttempts, async (req, res) => {
     const e = await memberElection(req.params.id);
     const form = ballotForm.parse(req.body ?? {});
-    const election = remember(res, e, 'cast', form.code);
+    remember(res, e, 'cast', form.code);
     const approvals = parseApprovals(form.approve, e.options.length);
     (res.locals.member as MemberContext).approvals = approvals;
     const { receipt } = await castBallot(ctx, { electionId: e.id, code: form.code, approvals, castToken: form.castToken }).catch(
