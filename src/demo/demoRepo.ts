@@ -24,11 +24,7 @@ export interface DemoRecord {
 
 /** Elections owned by organisers who are not the demo's sample login. */
 export async function countRealElections(db: Db): Promise<number> {
-  const row = await db('elections as e')
-    .join('organisers as o', 'o.id', 'e.owner_id')
-    .where('o.demo', false)
-    .count({ n: '*' })
-    .first();
+  const row = await db('elections as e').join('organisers as o', 'o.id', 'e.owner_id').where('o.demo', false).count({ n: '*' }).first();
   return toCount(row?.n ?? 0);
 }
 
@@ -49,5 +45,7 @@ export async function readDemo(db: Db): Promise<DemoRecord | null> {
 }
 
 export async function saveDemo(db: Db, record: DemoRecord): Promise<void> {
-  await db('instance_settings').where({ name: DEMO_SETTING }).update({ value: JSON.stringify(record) });
+  await db('instance_settings')
+    .where({ name: DEMO_SETTING })
+    .update({ value: JSON.stringify(record) });
 }

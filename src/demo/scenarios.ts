@@ -26,7 +26,7 @@ export const ROWING_CLUB: DemoScenario = {
     { label: 'Second Wind', description: 'For the last five hundred metres.', share: 0.44 },
     { label: 'Mayfly', description: 'Light, and out on the water at dawn.', share: 0.3 },
     { label: "Otter's Wake", description: '', share: 0.22 },
-    { label: 'Ninth Stroke', description: 'After the club\'s first race, which took nine strokes to lose.', share: 0.12 },
+    { label: 'Ninth Stroke', description: "After the club's first race, which took nine strokes to lose.", share: 0.12 },
   ],
   seats: 1,
   epsilon: '1',
@@ -37,9 +37,9 @@ export const ROWING_CLUB: DemoScenario = {
 export const TENANTS: DemoScenario = {
   title: 'Which three repairs first? (sample election)',
   description:
-    'The tenants\' association can fund three repairs this year. Tick every repair you think should come first; ' +
+    "The tenants' association can fund three repairs this year. Tick every repair you think should come first; " +
     'three are drawn. This is a sample election made by the demo.',
-  group: 'Tenants\' association members (sample)',
+  group: "Tenants' association members (sample)",
   options: [
     { label: 'Fix the lift in block B', description: 'Out of order twice a month since March.', share: 0.72 },
     { label: 'New locks on the entrance doors', description: '', share: 0.58 },

@@ -143,7 +143,11 @@ async function createSample(ctx: UseCaseContext, organiserId: string, s: DemoSce
 
 /** Casts the invented ballots one by one through castBallot, spread over the voting period. */
 async function castSample(ctx: UseCaseContext, electionId: string, s: DemoScenario, codes: string[], from: number, to: number) {
-  const ballots = inventBallots(`${BALLOT_SEED}/${s.title}`, s.options.map((o) => o.share), s.voters);
+  const ballots = inventBallots(
+    `${BALLOT_SEED}/${s.title}`,
+    s.options.map((o) => o.share),
+    s.voters,
+  );
   const receipts: string[] = [];
   for (const [i, approvals] of ballots.entries()) {
     const t = from + Math.floor(((i + 1) * (to - from)) / (ballots.length + 1));

@@ -40,9 +40,7 @@ export function demoText(s: DemoSummary, publicUrl: string): string {
     'Demo organiser (a sample login, marked "demo" on every page):',
     `  Sign in: ${publicUrl}/organise/sign-in`,
     `  Email:    ${s.organiser.email}`,
-    s.organiser.password
-      ? `  Password: ${s.organiser.password}   (shown only this once)`
-      : '  Password: shown only when the demo first ran.',
+    s.organiser.password ? `  Password: ${s.organiser.password}   (shown only this once)` : '  Password: shown only when the demo first ran.',
     `  Tally passphrase of the open election: ${s.open.passphrase}`,
     '',
     'Start the server with `npm start` and open these addresses.',

@@ -57,7 +57,11 @@ describe.each(engines)('demo seeding [%s]', (engine) => {
     expect(await count(db, 'ballot_codes', { election_id: open.id, spent: true })).toBe(25);
     expect(await count(db, 'ballots', { election_id: open.id })).toBe(25);
     // Real sealed ballots: opening them with the printed passphrase gives back the invented electorate.
-    const expected = inventBallots(`veiltally demo ballots v1/${ROWING_CLUB.title}`, ROWING_CLUB.options.map((o) => o.share), 25);
+    const expected = inventBallots(
+      `veiltally demo ballots v1/${ROWING_CLUB.title}`,
+      ROWING_CLUB.options.map((o) => o.share),
+      25,
+    );
     expect(await openAll(ctx, open.id, s.open.passphrase)).toEqual(expected.map((b) => b.join(',')).sort());
 
     const pub = (await findElection(ctx.knex, s.published.id))!;

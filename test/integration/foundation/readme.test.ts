@@ -106,8 +106,13 @@ describe('README', () => {
   it('gives the figures of its ε table as the mechanism computes them', () => {
     const rows = section('Choosing ε')
       .split('\n')
-      .filter((l) => /^\| \d+, \d+ \|/.test(l))
-      .map((l) => l.split('|').slice(1, -1).map((c) => c.trim()));
+      .filter((l) => /^\| \d+, \d+\s+\|/.test(l))
+      .map((l) =>
+        l
+          .split('|')
+          .slice(1, -1)
+          .map((c) => c.trim()),
+      );
     expect(rows.length).toBeGreaterThanOrEqual(5);
     for (const [dk, epsilon, l90, l95, l99, within] of rows) {
       const [options, seats] = dk!.split(', ').map(Number);

@@ -55,7 +55,13 @@ describe.each(engines)('first-run "explore with sample elections" [%s]', (engine
     expect(await count(db, 'organisers')).toBe(1);
 
     // Each submission has its own signed-in session; exactly one of them is shown the password, once.
-    const pages = await Promise.all([a, b].map((r) => request(app).get('/organise/demo').set('Cookie', r.headers['set-cookie'] as unknown as string[])));
+    const pages = await Promise.all(
+      [a, b].map((r) =>
+        request(app)
+          .get('/organise/demo')
+          .set('Cookie', r.headers['set-cookie'] as unknown as string[]),
+      ),
+    );
     const shown = pages.map((p) => /Password: <code>([^<]+)<\/code>/.exec(p.text)?.[1]).filter(Boolean);
     expect(shown).toHaveLength(1);
     demoPassword = shown[0]!;

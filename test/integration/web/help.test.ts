@@ -23,6 +23,19 @@ function leadFor(d: number, epsilon: number, seats: number, p: number): number {
   return Math.max(0, Math.ceil(Math.log(((d - 1) * p) / (1 - p)) / a));
 }
 
+/**
+ * Permute-and-flip's lead for p, in floating point from its leader bound: the leader's coin always succeeds
+ * and each option before it fails with probability ≥ 1 − x, x = e^(−a·m), over a uniformly random order
+ * (McKenna & Sheldon 2020, Algorithm 1), so P(leader) ≥ (1 − (1 − x)^d)/(d·x). Smallest whole m reaching p.
+ */
+function pfLeadFor(d: number, epsilon: number, seats: number, p: number): number {
+  const a = epsilon / seats / 2;
+  for (let m = 0; ; m++) {
+    const x = Math.exp(-a * m);
+    if ((1 - (1 - x) ** d) / (d * x) >= p) return m;
+  }
+}
+
 describe.each(engines)('help pages [%s]', (engine) => {
   let db: TestDatabase;
   let ctx: UseCaseContext;
@@ -48,7 +61,10 @@ describe.each(engines)('help pages [%s]', (engine) => {
   });
 
   it('"Choosing ε" tabulates the leads the bounds give, for the settings asked for', async () => {
-    for (const [d, k] of [[6, 1], [8, 3]] as const) {
+    for (const [d, k] of [
+      [6, 1],
+      [8, 3],
+    ] as const) {
       const res = await request(app).get(`/help/choosing-epsilon?options=${d}&seats=${k}&epsilon=1`);
       expect(res.status).toBe(200);
       const rows = firstTableRows(res.text);
@@ -57,6 +73,7 @@ describe.each(engines)('help pages [%s]', (engine) => {
         const eps = Number(r[0]);
         const leads = r.slice(k > 1 ? 2 : 1, k > 1 ? 5 : 4).map(Number);
         expect(leads).toEqual([leadFor(d, eps, k, 0.9), leadFor(d, eps, k, 0.95), leadFor(d, eps, k, 0.99)]);
+        expect(Number(r[k > 1 ? 5 : 4])).toBe(pfLeadFor(d, eps, k, 0.95));
         // Dwork & Roth 2014, Cor. 3.12 per seat, β = 0.05: (2k/ε)(ln d + ln 20), shown rounded up to a tenth.
         const within = ((2 * k) / eps) * (Math.log(d) + Math.log(20));
         expect(Number(r[r.length - 1])).toBeGreaterThanOrEqual(within - 1e-9);

@@ -7,7 +7,14 @@ export const HELP_DRAWN_PATH = '/help/how-the-result-is-drawn';
 export const HELP_EPSILON_PATH = '/help/choosing-epsilon';
 
 const whole = (min: number, max: number, fallback: number) =>
-  z.preprocess((v) => (v === undefined || v === '' ? String(fallback) : v), z.string().regex(/^[0-9]{1,3}$/).transform(Number).pipe(z.number().int().min(min).max(max)));
+  z.preprocess(
+    (v) => (v === undefined || v === '' ? String(fallback) : v),
+    z
+      .string()
+      .regex(/^[0-9]{1,3}$/)
+      .transform(Number)
+      .pipe(z.number().int().min(min).max(max)),
+  );
 
 /** The settings a reader may try on the ε page; anything else falls back to a message and the defaults. */
 const epsilonQuery = z.object({
