@@ -16,7 +16,6 @@ import { decodeQr } from '../test/helpers/qr.ts';
  * change one's password). axe on each page; screenshots in e2e/artifacts/.
  */
 const env = useMemberBrowser();
-const HOUR = 3600_000;
 
 async function newPage(viewport: { width: number; height: number } = DESKTOP): Promise<{ context: BrowserContext; page: Page }> {
   const context = await env.browser.newContext({ viewport, isMobile: viewport.width < 600, hasTouch: viewport.width < 600 });
@@ -126,7 +125,9 @@ describe('organiser basics', () => {
   it('moves the closing time later, corrects the description during voting, shares, and both show where they should', async () => {
     const { ctx, organiserId } = env.server;
     const f = await openElectionFixture(ctx, organiserId, { title: 'Winter training nights', closesAt: new Date('2026-06-03T17:00:00Z') });
-    await (await import('../src/accounts/addOrganiser.ts')).addOrganiser(ctx, { organiserId, email: 'coach@rowing.example', password: 'coach password long enough' });
+    await (
+      await import('../src/accounts/addOrganiser.ts')
+    ).addOrganiser(ctx, { organiserId, email: 'coach@rowing.example', password: 'coach password long enough' });
     const { context, page } = await newPage();
     await signIn(page);
     await page.goto(`${env.server.url}/organise/elections/${f.id}`);

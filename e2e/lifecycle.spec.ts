@@ -116,7 +116,9 @@ it('runs an election from first-run setup to a published result, entirely throug
   const winners = await result.locator('.announce-name').allInnerTexts();
   expect(winners).toHaveLength(1);
   expect(OPTIONS).toContain(winners[0]);
-  expect(await result.locator('.meaning p').first().innerText()).toContain(`${winners[0]} was drawn by a lottery weighted toward the options more members approved.`);
+  expect(await result.locator('.meaning p').first().innerText()).toContain(
+    `${winners[0]} was drawn by a lottery weighted toward the options more members approved.`,
+  );
   await result.getByLabel('Receipt', { exact: true }).fill(receipts[2]!);
   await result.getByRole('button', { name: 'Check receipt' }).click();
   expect(await result.getByRole('status').filter({ hasText: 'This receipt is among the ballots counted.' }).count()).toBe(1);

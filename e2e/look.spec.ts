@@ -3,14 +3,7 @@ import type { BrowserContext, Page } from 'playwright-core';
 import { screenshot } from './browser.ts';
 import { DESKTOP, PHONE, focusRing, seriousViolations, tabTo } from './audit.ts';
 import { useMemberBrowser } from './memberServer.ts';
-import {
-  FIXTURE_PASSWORD,
-  castAll,
-  createDraft,
-  openElectionFixture,
-  tallyFixture,
-  type ElectionFixture,
-} from '../test/helpers/fixtures.ts';
+import { FIXTURE_PASSWORD, castAll, createDraft, openElectionFixture, tallyFixture, type ElectionFixture } from '../test/helpers/fixtures.ts';
 
 /**
  * The pages whose look, result layout and guidance this project restyled, in a real Chromium:
@@ -94,7 +87,8 @@ describe('the look, in Chromium', () => {
     await audit(page, 'form-errors');
     // The guidance in numbers, for 12 voters, 4 options and ε = 0.5; the page comes back at the guidance.
     await page.getByLabel('Title', { exact: true }).fill('Name the new coxed four');
-    for (const [i, label] of ['Heron', 'Kingfisher', 'Otter', 'Swift'].entries()) await page.getByLabel(`Option ${i + 1} label`, { exact: true }).fill(label);
+    for (const [i, label] of ['Heron', 'Kingfisher', 'Otter', 'Swift'].entries())
+      await page.getByLabel(`Option ${i + 1} label`, { exact: true }).fill(label);
     await page.getByLabel('Privacy level ε', { exact: true }).fill('0.5');
     await page.getByLabel('Expected number of voters (optional)', { exact: true }).fill('12');
     await page.getByLabel('Passphrase', { exact: true }).fill('rowing club boat naming');

@@ -54,7 +54,9 @@ async function voteThrough(page: Page, f: ElectionFixture, code: string, tick: s
 
 it('the axe check itself reports an unlabelled field (control: the audit can fail)', async () => {
   const { context, page } = await newPage(DESKTOP);
-  await page.setContent('<!doctype html><html lang="en"><head><title>Control</title></head><body><main><h1>Form</h1><input type="text"></main></body></html>');
+  await page.setContent(
+    '<!doctype html><html lang="en"><head><title>Control</title></head><body><main><h1>Form</h1><input type="text"></main></body></html>',
+  );
   expect((await seriousViolations(page)).some((v) => v.includes(' label:'))).toBe(true);
   await context.close();
 });
@@ -65,7 +67,12 @@ describe('member pages in Chromium', () => {
 
   it('code entry, ballot, confirmation and receipt pass axe on desktop and phone', async () => {
     f = await openElectionFixture(env.server.ctx, env.server.organiserId, { ...CHOIR, codes: 8 });
-    for (const [i, [size, viewport]] of ([['desktop', DESKTOP], ['phone', PHONE]] as const).entries()) {
+    for (const [i, [size, viewport]] of (
+      [
+        ['desktop', DESKTOP],
+        ['phone', PHONE],
+      ] as const
+    ).entries()) {
       const { context, page } = await newPage(viewport);
       receipts.push(await voteThrough(page, f, f.codes[i]!, i === 0 ? ['Folk lullaby', 'Sea shanties medley'] : [], size));
       await context.close();

@@ -82,9 +82,7 @@ export async function up(knex: Knex): Promise<void> {
     const now = new Date();
     await knex('member_groups').insert({ id: groupId, name: 'Members', name_key: 'members', created_at: now });
     await knex('elections').update({ group_id: groupId });
-    const drawn = await knex('elections')
-      .whereNotNull('tallied_at')
-      .select('id', 'epsilon', 'neighbour', 'seats', 'tallied_at', 'publish_turnout');
+    const drawn = await knex('elections').whereNotNull('tallied_at').select('id', 'epsilon', 'neighbour', 'seats', 'tallied_at', 'publish_turnout');
     for (const e of drawn) {
       const options = Number((await knex('options').where({ election_id: e.id }).count<{ n: string | number }[]>({ n: '*' }))[0]?.n);
       const draw = makeExponentialDraw({ epsilon: e.epsilon, options: Math.max(options, e.seats + 1), seats: e.seats, neighbour: e.neighbour });

@@ -89,7 +89,10 @@ function parseTrustProxy(raw: string): TrustProxy {
     if (n < 1 || n > 10) throw new ConfigError('TRUST_PROXY', 'a hop count must be from 1 to 10');
     return n;
   }
-  const items = v.split(',').map((x) => x.trim()).filter(Boolean);
+  const items = v
+    .split(',')
+    .map((x) => x.trim())
+    .filter(Boolean);
   for (const item of items) {
     const [address, bits, extra] = item.split('/');
     const family = net.isIP(address ?? '');
@@ -125,7 +128,10 @@ function withSecretFiles(env: NodeJS.ProcessEnv): NodeJS.ProcessEnv {
 }
 
 export class ConfigError extends Error {
-  constructor(readonly variable: string, detail: string) {
+  constructor(
+    readonly variable: string,
+    detail: string,
+  ) {
     super(`${variable}: ${detail}`);
     this.name = 'ConfigError';
   }
@@ -144,7 +150,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     // Without it the app thinks every request is plain http: no Secure cookie is ever set and every form fails.
     throw new ConfigError(
       'TRUST_PROXY',
-      'PUBLIC_URL is https://, so a TLS proxy sits in front of this server: set TRUST_PROXY to that proxy\'s address (for example loopback, or 10.0.0.5) or its hop count',
+      "PUBLIC_URL is https://, so a TLS proxy sits in front of this server: set TRUST_PROXY to that proxy's address (for example loopback, or 10.0.0.5) or its hop count",
     );
   }
   return Object.freeze({

@@ -42,11 +42,7 @@ export function loadSecrets(config: Config): AllSecrets {
   const dir = path.join(config.dataDir, 'secrets');
   return Object.freeze({
     sessionSecret: config.sessionSecret ?? readOrCreate(dir, 'session-secret', 32).toString('hex'),
-    codePepper: config.codePepperHex
-      ? Buffer.from(config.codePepperHex, 'hex')
-      : readOrCreate(dir, 'code-pepper', 32),
-    signingSeed: config.signingSeedHex
-      ? Buffer.from(config.signingSeedHex, 'hex')
-      : readOrCreate(dir, SIGNING_SEED_FILE, 32),
+    codePepper: config.codePepperHex ? Buffer.from(config.codePepperHex, 'hex') : readOrCreate(dir, 'code-pepper', 32),
+    signingSeed: config.signingSeedHex ? Buffer.from(config.signingSeedHex, 'hex') : readOrCreate(dir, SIGNING_SEED_FILE, 32),
   });
 }

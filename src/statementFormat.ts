@@ -10,7 +10,7 @@ import addFormatsImport from 'ajv-formats';
 export const STATEMENT_SCHEMA_FILE = fileURLToPath(new URL('../schemas/statement-v1.schema.json', import.meta.url));
 export const STATEMENT_SCHEMA_URL = '/schemas/statement-v1.schema.json';
 
-let validator: ((value: unknown) => boolean) & { errors?: { instancePath: string; message?: string }[] | null } | null = null;
+let validator: (((value: unknown) => boolean) & { errors?: { instancePath: string; message?: string }[] | null }) | null = null;
 
 export function statementSchemaText(): string {
   return fs.readFileSync(STATEMENT_SCHEMA_FILE, 'utf8');

@@ -38,10 +38,7 @@ export function parseCredentials(input: { email: string; password: string }): { 
  * first-run posts one inserts it and the other finds it taken and gets FirstRunDone.
  * On PostgreSQL the second insert waits for the first transaction and then sees the conflict.
  */
-export async function createFirstOrganiser(
-  ctx: UseCaseContext,
-  input: { email: string; password: string },
-): Promise<{ organiserId: string }> {
+export async function createFirstOrganiser(ctx: UseCaseContext, input: { email: string; password: string }): Promise<{ organiserId: string }> {
   const { email, password } = parseCredentials(input);
   if (!(await isFirstRunOpen(ctx.knex))) throw new FirstRunDone();
   const passwordHash = await hashPassword(password, ctx.passwordKdf ?? OWASP_PASSWORD_KDF, ctx.random);

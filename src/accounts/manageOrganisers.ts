@@ -51,7 +51,11 @@ export async function resetOrganiserPassword(
     await updatePasswordHash(trx, target.id, hash);
     await deleteSessionsOf(trx, target.id);
     // organiserId null: done by the operator on the command line.
-    await recordEvent(trx, { electionId: null, organiserId: input.organiserId, action: 'organiser-password-reset', detail: { email: target.email } }, ctx.now());
+    await recordEvent(
+      trx,
+      { electionId: null, organiserId: input.organiserId, action: 'organiser-password-reset', detail: { email: target.email } },
+      ctx.now(),
+    );
   });
   return { email: target.email };
 }
@@ -73,10 +77,7 @@ export async function removeOrganiser(ctx: UseCaseContext, input: { organiserId:
     const orphans = await trx('elections as e')
       .where('e.owner_id', target.id)
       .whereNotExists(
-        trx('election_organisers as s')
-          .join('organisers as o', 'o.id', 's.organiser_id')
-          .whereRaw('s.election_id = e.id')
-          .whereNull('o.removed_at'),
+        trx('election_organisers as s').join('organisers as o', 'o.id', 's.organiser_id').whereRaw('s.election_id = e.id').whereNull('o.removed_at'),
       )
       .select('e.id');
     for (const { id } of orphans) {
@@ -84,7 +85,11 @@ export async function removeOrganiser(ctx: UseCaseContext, input: { organiserId:
         .insert({ election_id: id, organiser_id: input.organiserId, added_by: input.organiserId, added_at: now })
         .onConflict(['election_id', 'organiser_id'])
         .ignore();
-      await recordEvent(trx, { electionId: id, organiserId: input.organiserId, action: 'shared', detail: { with: 'you, as its organiser was removed' } }, now);
+      await recordEvent(
+        trx,
+        { electionId: id, organiserId: input.organiserId, action: 'shared', detail: { with: 'you, as its organiser was removed' } },
+        now,
+      );
     }
     await recordEvent(trx, { electionId: null, organiserId: input.organiserId, action: 'organiser-removed', detail: { email: target.email } }, now);
   });

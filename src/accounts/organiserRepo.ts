@@ -34,7 +34,10 @@ export async function countRealOrganisers(db: Db): Promise<number> {
 }
 
 export async function findCredentials(db: Db, email: string): Promise<OrganiserCredentials | null> {
-  const row = await db('organisers').where({ email: normaliseEmail(email) }).whereNull('removed_at').first('id', 'email', 'password_hash', 'demo');
+  const row = await db('organisers')
+    .where({ email: normaliseEmail(email) })
+    .whereNull('removed_at')
+    .first('id', 'email', 'password_hash', 'demo');
   return row ? { id: row.id, email: row.email, passwordHash: row.password_hash, demo: row.demo === true } : null;
 }
 

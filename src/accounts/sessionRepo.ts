@@ -10,7 +10,10 @@ export async function readSession(db: Db, sid: string, now: Date): Promise<unkno
 
 /** The session's data and when its row expires, or null when there is none or it has expired. */
 export async function readSessionRow(db: Db, sid: string, now: Date): Promise<{ data: unknown; expiresAt: Date } | null> {
-  const row = await db('sessions').where({ sid_hash: key(sid) }).andWhere('expires_at', '>', now).first('data', 'expires_at');
+  const row = await db('sessions')
+    .where({ sid_hash: key(sid) })
+    .andWhere('expires_at', '>', now)
+    .first('data', 'expires_at');
   if (!row) return null;
   return { data: typeof row.data === 'string' ? JSON.parse(row.data) : row.data, expiresAt: new Date(row.expires_at) };
 }
@@ -23,11 +26,15 @@ export async function writeSession(db: Db, sid: string, data: unknown, expiresAt
 }
 
 export async function touchSession(db: Db, sid: string, expiresAt: Date): Promise<void> {
-  await db('sessions').where({ sid_hash: key(sid) }).update({ expires_at: expiresAt });
+  await db('sessions')
+    .where({ sid_hash: key(sid) })
+    .update({ expires_at: expiresAt });
 }
 
 export async function deleteSession(db: Db, sid: string): Promise<void> {
-  await db('sessions').where({ sid_hash: key(sid) }).delete();
+  await db('sessions')
+    .where({ sid_hash: key(sid) })
+    .delete();
 }
 
 export async function deleteExpiredSessions(db: Db, now: Date): Promise<number> {

@@ -10,7 +10,9 @@ export const mechanismFlagSpec = { epsilon: 'value', seats: 'value', neighbour: 
 
 const wholeNumber = (flag: string, min: number, max: number) =>
   z
-    .string({ error: (issue) => (issue.input === undefined ? `--${flag} is missing: give a whole number from ${min} to ${max}` : `--${flag} needs a value`) })
+    .string({
+      error: (issue) => (issue.input === undefined ? `--${flag} is missing: give a whole number from ${min} to ${max}` : `--${flag} needs a value`),
+    })
     .regex(/^[0-9]+$/, { error: `--${flag} must be a whole number from ${min} to ${max}` })
     .transform(Number)
     .refine((n) => n >= min && n <= max, { error: `--${flag} must be a whole number from ${min} to ${max}` });
@@ -18,12 +20,8 @@ const wholeNumber = (flag: string, min: number, max: number) =>
 export const mechanismFlagSchema = {
   epsilon: z.string({ error: `--epsilon is missing: ${EPSILON_RULE}` }),
   seats: wholeNumber('seats', 1, MAX_OPTIONS - 1).optional(),
-  neighbour: z
-    .enum(['replace', 'replace-one', 'add-remove'], { error: '--neighbour must be "replace" or "add-remove"' })
-    .optional(),
-  rule: z
-    .enum(['exponential', 'permute-and-flip'], { error: '--rule must be "exponential" or "permute-and-flip"' })
-    .optional(),
+  neighbour: z.enum(['replace', 'replace-one', 'add-remove'], { error: '--neighbour must be "replace" or "add-remove"' }).optional(),
+  rule: z.enum(['exponential', 'permute-and-flip'], { error: '--rule must be "exponential" or "permute-and-flip"' }).optional(),
   json: z.literal(true).optional(),
 };
 

@@ -61,16 +61,20 @@ export function makeOrganiserCommand(open: ContextOpener = openConfigured): Comm
       const [action, ...rest] = args;
       if (action !== 'list' && action !== 'reset-password') {
         throw new InvalidInput(
-          action === undefined ? 'say what to do: `list` or `reset-password --email EMAIL`' : `unknown action "${action.slice(0, 40)}": use \`list\` or \`reset-password\``,
+          action === undefined
+            ? 'say what to do: `list` or `reset-password --email EMAIL`'
+            : `unknown action "${action.slice(0, 40)}": use \`list\` or \`reset-password\``,
         );
       }
-      const flags = action === 'list' ? (parseFlags('organiser', rest, {}), null) : checkFlags(resetFlags, parseFlags('organiser', rest, { email: 'value' }));
+      const flags =
+        action === 'list' ? (parseFlags('organiser', rest, {}), null) : checkFlags(resetFlags, parseFlags('organiser', rest, { email: 'value' }));
       const { ctx, close } = await open();
       try {
         if (action === 'list') {
           const organisers = await listOrganisers(ctx.knex);
           if (organisers.length === 0) io.stdout('No organisers yet: open the site and follow the first-run page.\n');
-          for (const o of organisers) io.stdout(`${o.email}\tadded ${o.createdAt.toISOString().slice(0, 10)}${o.demo ? '\tdemo sample login' : ''}\n`);
+          for (const o of organisers)
+            io.stdout(`${o.email}\tadded ${o.createdAt.toISOString().slice(0, 10)}${o.demo ? '\tdemo sample login' : ''}\n`);
           return 0;
         }
         const email = flags!.email.trim().toLowerCase();

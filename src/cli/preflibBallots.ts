@@ -15,7 +15,13 @@ function parseCategories(body: string, line: number): number[][] {
     pattern.lastIndex = at;
     const m = pattern.exec(body);
     if (!m) throw new InvalidInput(`line ${line}: cannot read the categories`);
-    const members = m[1] !== undefined ? m[1].split(',').map((s) => s.trim()).filter(Boolean) : [m[2] as string];
+    const members =
+      m[1] !== undefined
+        ? m[1]
+            .split(',')
+            .map((s) => s.trim())
+            .filter(Boolean)
+        : [m[2] as string];
     if (!members.every((s) => /^[0-9]+$/.test(s))) throw new InvalidInput(`line ${line}: alternatives must be numbers`);
     categories.push(members.map(Number));
     at = pattern.lastIndex;

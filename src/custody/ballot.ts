@@ -46,12 +46,7 @@ export function sealBallot(publicKey: Uint8Array, plaintext: Uint8Array): Buffer
   return c;
 }
 
-export function encodeAndSeal(
-  publicKey: Uint8Array,
-  electionId: string,
-  optionCount: number,
-  approvals: readonly number[],
-): Buffer {
+export function encodeAndSeal(publicKey: Uint8Array, electionId: string, optionCount: number, approvals: readonly number[]): Buffer {
   const plain = encodeBallot(electionId, optionCount, approvals);
   try {
     return sealBallot(publicKey, plain);

@@ -25,9 +25,7 @@ export class BallotUnreadable extends VeiltallyError {
     readonly unreadable = 1,
     readonly examined = 1,
   ) {
-    super(
-      `${unreadable} of ${examined} stored ballots could not be opened, so the tally was stopped and nothing was drawn.`,
-    );
+    super(`${unreadable} of ${examined} stored ballots could not be opened, so the tally was stopped and nothing was drawn.`);
   }
 }
 

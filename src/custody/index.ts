@@ -6,22 +6,8 @@ export { createElectionKeys, unwrapElectionKey, rewrapElectionKey, parseWrappedK
 export type { WrappedKey } from './keys.ts';
 export { deriveKey, kdfParamsSchema, ARGON2_VERSION } from './kdf.ts';
 export type { KdfParams, KdfExtras } from './kdf.ts';
-export {
-  tallyPassphraseSchema,
-  checkTallyPassphrase,
-  TALLY_PASSPHRASE_MIN,
-  TALLY_PASSPHRASE_NOTICE,
-} from './passphrase.ts';
-export {
-  normaliseCode,
-  formatCode,
-  generateCode,
-  codeBytes,
-  generateReceipt,
-  normaliseReceipt,
-  CODE_SYMBOLS,
-  RECEIPT_SYMBOLS,
-} from './codes.ts';
+export { tallyPassphraseSchema, checkTallyPassphrase, TALLY_PASSPHRASE_MIN, TALLY_PASSPHRASE_NOTICE } from './passphrase.ts';
+export { normaliseCode, formatCode, generateCode, codeBytes, generateReceipt, normaliseReceipt, CODE_SYMBOLS, RECEIPT_SYMBOLS } from './codes.ts';
 export type { BallotCode } from './codes.ts';
 export { codeFromSeed, codesFromSeed, encodeBatchSeed, decodeBatchSeed, BATCH_SEED_BYTES } from './codeBatch.ts';
 export {
@@ -42,12 +28,5 @@ export { codeHash, receiptHash, hmacSha256 } from './keyedHash.ts';
 export { signStatement, verifyStatement, publicKeyFromSeed, signingKeyId, keyFingerprint } from './signing.ts';
 export { uuidBytes, randomUuid } from './ids.ts';
 export { sodiumRandom, wipe } from './sodium.ts';
-export {
-  WrongPassphrase,
-  BallotUnreadable,
-  CodeTypo,
-  CodeMalformed,
-  ReceiptMalformed,
-  WrappedKeyInvalid,
-} from './errors.ts';
+export { WrongPassphrase, BallotUnreadable, CodeTypo, CodeMalformed, ReceiptMalformed, WrappedKeyInvalid } from './errors.ts';
 export { generateCastToken, parseCastToken, castTokenHash, sealReceiptForToken, openReceiptForToken, CAST_TOKEN_BYTES } from './castToken.ts';

@@ -13,7 +13,11 @@ export interface KdfParams {
  */
 export const kdfParamsSchema = z
   .object({
-    memoryKiB: z.number().int().min(8).max(4 * 1024 * 1024),
+    memoryKiB: z
+      .number()
+      .int()
+      .min(8)
+      .max(4 * 1024 * 1024),
     iterations: z.number().int().min(1).max(64),
     parallelism: z.number().int().min(1).max(64),
   })
@@ -36,12 +40,7 @@ export interface KdfExtras {
  * RFC 9106 §5.3 test vector exercises exactly the code that protects election keys.
  * The caller owns the returned buffer and should wipe it after use.
  */
-export async function deriveKey(
-  password: Buffer,
-  salt: Buffer,
-  params: KdfParams,
-  extras: KdfExtras = {},
-): Promise<Buffer> {
+export async function deriveKey(password: Buffer, salt: Buffer, params: KdfParams, extras: KdfExtras = {}): Promise<Buffer> {
   const p = kdfParamsSchema.parse(params);
   return argon2.hash(password, {
     type: argon2.argon2id,

@@ -29,13 +29,7 @@ export function parseWrappedKey(value: unknown): WrappedKey {
   return r.data;
 }
 
-async function wrap(
-  secretKey: Uint8Array,
-  passphrase: string,
-  electionId: string,
-  kdf: KdfParams,
-  random: RandomBytes,
-): Promise<WrappedKey> {
+async function wrap(secretKey: Uint8Array, passphrase: string, electionId: string, kdf: KdfParams, random: RandomBytes): Promise<WrappedKey> {
   const salt = Buffer.from(random(SALT_BYTES));
   const nonce = Buffer.from(random(sodium.crypto_aead_xchacha20poly1305_ietf_NPUBBYTES));
   const pw = passphraseBytes(passphrase);

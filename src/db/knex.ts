@@ -22,8 +22,7 @@ pg.types.setTypeParser(pg.types.builtins.INT8, (v) => Number(v));
 export const DEFAULT_POOL_MAX = 10;
 
 export type DatabaseOptions =
-  | { engine: 'postgres'; url: string; searchPath?: string; poolMax?: number }
-  | { engine: 'pglite'; dataDir: string | null };
+  { engine: 'postgres'; url: string; searchPath?: string; poolMax?: number } | { engine: 'pglite'; dataDir: string | null };
 
 /**
  * Builds knex for the embedded PGlite (a directory, or memory when dataDir is null)

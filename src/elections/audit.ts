@@ -31,15 +31,14 @@ export interface AuditRow {
   organiserEmail: string | null;
 }
 
-export async function listEvents(
-  db: Db,
-  electionId: string,
-  options: { publicOnly: boolean },
-): Promise<AuditRow[]> {
+export async function listEvents(db: Db, electionId: string, options: { publicOnly: boolean }): Promise<AuditRow[]> {
   const q = db('audit_events as a')
     .leftJoin('organisers as o', 'o.id', 'a.organiser_id')
     .where('a.election_id', electionId)
-    .orderBy([{ column: 'a.at', order: 'asc' }, { column: 'a.id', order: 'asc' }])
+    .orderBy([
+      { column: 'a.at', order: 'asc' },
+      { column: 'a.id', order: 'asc' },
+    ])
     .select('a.action', 'a.detail', 'a.at', 'o.email as organiser_email');
   if (options.publicOnly) q.andWhere('a.public', true);
   const rows = await q;

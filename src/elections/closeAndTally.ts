@@ -1,12 +1,4 @@
-import {
-  BallotUnreadable,
-  WrappedKeyInvalid,
-  parseWrappedKey,
-  publicKeyOf,
-  randomUuid,
-  unwrapElectionKey,
-  wipe,
-} from '../custody/index.ts';
+import { BallotUnreadable, WrappedKeyInvalid, parseWrappedKey, publicKeyOf, randomUuid, unwrapElectionKey, wipe } from '../custody/index.ts';
 import { buildStatement, makeDraw, type PrivacyStatement } from '../mechanism/index.ts';
 import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
@@ -126,10 +118,7 @@ export async function queueTally(
  * failure is recorded by its error code so the organiser can try again; then it is rethrown.
  * Nothing here logs or stores how long the count took.
  */
-export async function runQueuedTally(
-  ctx: UseCaseContext,
-  q: QueuedTally,
-): Promise<{ winners: string[]; statement: PrivacyStatement } | null> {
+export async function runQueuedTally(ctx: UseCaseContext, q: QueuedTally): Promise<{ winners: string[]; statement: PrivacyStatement } | null> {
   try {
     const outcome = await ctx.knex.transaction(async (trx) => {
       const e = await ownedElection(trx, q.electionId, q.organiserId, { lock: true });
@@ -172,17 +161,19 @@ export async function runQueuedTally(
       const drawnAt = now <= q.revealAt ? q.revealAt : revealMinute(new Date(now.getTime() - 60_000));
       // The ledger is charged and the statement signed in this transaction, published or not.
       await chargeAndSign(trx, ctx, { election: e, draw, winners, ballots, at: drawnAt });
-      await trx('elections').where({ id: e.id }).update({
-        state: 'tallied',
-        result: JSON.stringify(result),
-        ballots_counted: ballots,
-        tallied_at: drawnAt,
-        result_visible_at: drawnAt,
-        publish_due_at: new Date(drawnAt.getTime() + q.previewMs),
-        tally_started_at: null,
-        tally_claim: null,
-        updated_at: now,
-      });
+      await trx('elections')
+        .where({ id: e.id })
+        .update({
+          state: 'tallied',
+          result: JSON.stringify(result),
+          ballots_counted: ballots,
+          tallied_at: drawnAt,
+          result_visible_at: drawnAt,
+          publish_due_at: new Date(drawnAt.getTime() + q.previewMs),
+          tally_started_at: null,
+          tally_claim: null,
+          updated_at: now,
+        });
       // Public timeline: no detail, since the ballot count is turnout and may be unpublished.
       await recordEvent(trx, { electionId: e.id, organiserId: q.organiserId, action: 'tallied' }, drawnAt);
       return { winners: labels, statement };
@@ -192,7 +183,8 @@ export async function runQueuedTally(
     return outcome;
   } catch (err) {
     const code = err instanceof Error && 'code' in err && typeof err.code === 'string' ? err.code : 'TallyFailed';
-    await ctx.knex('elections')
+    await ctx
+      .knex('elections')
       .where({ id: q.electionId, tally_claim: q.claim })
       .update({ tally_failure: code.slice(0, 64), tally_claim: null, tally_started_at: null, result_visible_at: null })
       .catch(() => undefined);

@@ -27,11 +27,7 @@ export async function spendCode(db: Db, electionId: string, codeHash: Buffer): P
   return rows.length === 1;
 }
 
-export async function findCode(
-  db: Db,
-  electionId: string,
-  codeHash: Buffer,
-): Promise<{ spent: boolean; revoked: boolean } | null> {
+export async function findCode(db: Db, electionId: string, codeHash: Buffer): Promise<{ spent: boolean; revoked: boolean } | null> {
   const row = await db('ballot_codes').where({ election_id: electionId, code_hash: codeHash }).first('spent', 'revoked');
   return row ? { spent: row.spent as boolean, revoked: row.revoked as boolean } : null;
 }

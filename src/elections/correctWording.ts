@@ -24,7 +24,9 @@ const L = DRAFT_LIMITS;
 const wording = z.object({
   title: z.string().trim().min(1, 'Give the election a title.').max(L.titleMax, `Keep the title to ${L.titleMax} characters or fewer.`),
   description: z.string().trim().max(L.descriptionMax, `Keep the description to ${L.descriptionMax} characters or fewer.`),
-  optionDescriptions: z.array(z.string().trim().max(L.optionDescriptionMax, `Keep the description to ${L.optionDescriptionMax} characters or fewer.`)),
+  optionDescriptions: z.array(
+    z.string().trim().max(L.optionDescriptionMax, `Keep the description to ${L.optionDescriptionMax} characters or fewer.`),
+  ),
 });
 
 export interface WordingInput {

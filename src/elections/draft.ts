@@ -59,10 +59,7 @@ export const draftSchema = z
     title: z.string().trim().min(1, 'Give the election a title.').max(L.titleMax, `Keep the title to ${L.titleMax} characters or fewer.`),
     description: z.string().trim().max(L.descriptionMax, `Keep the description to ${L.descriptionMax} characters or fewer.`),
     contact: z.string().trim().max(L.contactMax, `Keep the contact line to ${L.contactMax} characters or fewer.`).optional(),
-    options: z
-      .array(option)
-      .min(L.optionsMin, `Give at least ${L.optionsMin} options.`)
-      .max(L.optionsMax, `Give at most ${L.optionsMax} options.`),
+    options: z.array(option).min(L.optionsMin, `Give at least ${L.optionsMin} options.`).max(L.optionsMax, `Give at most ${L.optionsMax} options.`),
     seats: z.number().int('Seats must be a whole number.').min(1, 'There must be at least 1 seat.'),
     epsilon: z.string(),
     neighbour: z.enum(['replace-one', 'add-remove']),
@@ -94,16 +91,29 @@ export const draftSchema = z
     const seen = new Map<string, number>();
     d.options.forEach((o, i) => {
       const k = labelKey(o.label);
-      if (seen.has(k)) issue.addIssue({ code: 'custom', path: ['options', i, 'label'], message: `This label repeats option ${seen.get(k)! + 1}. Each option needs its own label.` });
+      if (seen.has(k))
+        issue.addIssue({
+          code: 'custom',
+          path: ['options', i, 'label'],
+          message: `This label repeats option ${seen.get(k)! + 1}. Each option needs its own label.`,
+        });
       else seen.set(k, i);
     });
     if (d.options.length >= L.optionsMin && d.seats > d.options.length - 1) {
-      issue.addIssue({ code: 'custom', path: ['seats'], message: `With ${d.options.length} options there can be at most ${d.options.length - 1} seats.` });
+      issue.addIssue({
+        code: 'custom',
+        path: ['seats'],
+        message: `With ${d.options.length} options there can be at most ${d.options.length - 1} seats.`,
+      });
     }
     try {
       parseEpsilon(d.epsilon);
     } catch {
-      issue.addIssue({ code: 'custom', path: ['epsilon'], message: 'ε must be a decimal from 0.01 to 10 with at most 4 decimal places, such as 0.5, 1 or 2.5.' });
+      issue.addIssue({
+        code: 'custom',
+        path: ['epsilon'],
+        message: 'ε must be a decimal from 0.01 to 10 with at most 4 decimal places, such as 0.5, 1 or 2.5.',
+      });
     }
     if (!(d.closesAt.getTime() > d.opensAt.getTime())) {
       issue.addIssue({ code: 'custom', path: ['closesAt'], message: 'The closing time must be after the opening time.' });

@@ -41,7 +41,9 @@ export async function insertDraft(
 
 export async function updateDraftRow(db: Db, id: string, draft: DraftInput, at: Date): Promise<void> {
   const group = draft.memberGroup === undefined ? {} : { group_id: await groupIdFor(db, draft.memberGroup, at) };
-  await db('elections').where({ id, state: 'draft' }).update({ ...draftColumns(draft), ...group, updated_at: at });
+  await db('elections')
+    .where({ id, state: 'draft' })
+    .update({ ...draftColumns(draft), ...group, updated_at: at });
   await db('options').where({ election_id: id }).delete();
   await writeOptions(db, id, draft.options);
 }
@@ -71,7 +73,20 @@ export async function listOwnElections(db: Db, ownerId: string): Promise<(Electi
     .where({ owner_id: ownerId })
     .orWhereIn('id', db('election_organisers').where({ organiser_id: ownerId }).select('election_id'))
     .orderBy([{ column: 'created_at', order: 'desc' }, { column: 'id' }])
-    .select('id', 'owner_id', 'title', 'state', 'opens_at', 'closes_at', 'opened_at', 'closed_at', 'time_zone', 'created_at', 'tally_started_at', 'result_visible_at');
+    .select(
+      'id',
+      'owner_id',
+      'title',
+      'state',
+      'opens_at',
+      'closes_at',
+      'opened_at',
+      'closed_at',
+      'time_zone',
+      'created_at',
+      'tally_started_at',
+      'result_visible_at',
+    );
   return rows.map((r) => ({
     id: r.id,
     title: r.title,

@@ -7,12 +7,7 @@ import { ElectionNotFound, ElectionNotOpen, TallyKeyMissing, type NotOpenReason 
  * An election this organiser runs (their own, or one shared with them), optionally locked for
  * the transaction. Anyone else's election answers exactly like a missing one, so ids cannot be probed.
  */
-export async function ownedElection(
-  db: Db,
-  electionId: string,
-  organiserId: string | null,
-  options: { lock: boolean },
-): Promise<Election> {
+export async function ownedElection(db: Db, electionId: string, organiserId: string | null, options: { lock: boolean }): Promise<Election> {
   const e = options.lock ? await lockElection(db, electionId) : await findElection(db, electionId);
   if (!e) throw new ElectionNotFound();
   if (organiserId !== null && e.ownerId !== organiserId && !(await isSharedWith(db, e.id, organiserId))) throw new ElectionNotFound();

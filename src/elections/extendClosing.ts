@@ -21,17 +21,25 @@ export async function extendClosing(
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
     const now = ctx.now();
     if (e.state !== 'open' || now >= e.closesAt) {
-      throw new ElectionStateConflict('The closing time can only be moved while voting is open or scheduled. Voting has ended, and it is not reopened.');
+      throw new ElectionStateConflict(
+        'The closing time can only be moved while voting is open or scheduled. Voting has ended, and it is not reopened.',
+      );
     }
     const to = input.closesAt;
     const issue = (message: string) => new InvalidInput(message, [{ path: 'closesAt', message }]);
     if (!(to instanceof Date) || Number.isNaN(to.getTime())) throw issue('Enter a date and time, for example 2026-05-14T18:30.');
-    if (to.getTime() <= e.closesAt.getTime()) throw issue('Choose a time after the current closing time. To end voting sooner, use “Close voting now”.');
+    if (to.getTime() <= e.closesAt.getTime())
+      throw issue('Choose a time after the current closing time. To end voting sooner, use “Close voting now”.');
     if (to.getTime() > now.getTime() + EXTEND_MAX_DAYS * 86_400_000) throw issue(`Choose a time at most ${EXTEND_MAX_DAYS} days from now.`);
     await trx('elections').where({ id: e.id, state: 'open' }).update({ closes_at: to, updated_at: now });
     await recordEvent(
       trx,
-      { electionId: e.id, organiserId: input.organiserId, action: 'closing-extended', detail: { from: e.closesAt.toISOString(), closesAt: to.toISOString() } },
+      {
+        electionId: e.id,
+        organiserId: input.organiserId,
+        action: 'closing-extended',
+        detail: { from: e.closesAt.toISOString(), closesAt: to.toISOString() },
+      },
       now,
     );
     return { from: e.closesAt, to };

@@ -22,8 +22,12 @@ export async function findBallotByCode(ctx: UseCaseContext, input: { code: strin
 }
 
 /** Published results for the home page, newest first. Only what the result pages show anyway. */
-export async function listPublishedResults(ctx: UseCaseContext, limit = 20): Promise<{ id: string; title: string; publishedAt: Date; timeZone: string }[]> {
-  const rows = await ctx.knex('elections')
+export async function listPublishedResults(
+  ctx: UseCaseContext,
+  limit = 20,
+): Promise<{ id: string; title: string; publishedAt: Date; timeZone: string }[]> {
+  const rows = await ctx
+    .knex('elections')
     .where({ state: 'published' })
     .orderBy([{ column: 'published_at', order: 'desc' }, { column: 'id' }])
     .limit(limit)

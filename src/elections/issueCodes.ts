@@ -42,11 +42,7 @@ export async function issueCodes(
       hashes.push(codeHash(ctx.secrets.codePepper, e.id, c.canonical));
     }
     await insertCodeHashes(trx, e.id, hashes);
-    await recordEvent(
-      trx,
-      { electionId: e.id, organiserId: input.organiserId, action: 'codes-issued', detail: { count: input.count } },
-      now,
-    );
+    await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'codes-issued', detail: { count: input.count } }, now);
     return { codes, batch: encodeBatchSeed(seed) };
   });
 }

@@ -20,10 +20,7 @@ export const groupKey = (name: string): string => name.trim().normalize('NFC').t
 /** The group with this name, created on first use. */
 export async function groupIdFor(db: Db, name: string, at: Date): Promise<string> {
   const key = groupKey(name);
-  await db('member_groups')
-    .insert({ id: crypto.randomUUID(), name: name.trim(), name_key: key, created_at: at })
-    .onConflict('name_key')
-    .ignore();
+  await db('member_groups').insert({ id: crypto.randomUUID(), name: name.trim(), name_key: key, created_at: at }).onConflict('name_key').ignore();
   const row = await db('member_groups').where({ name_key: key }).first('id');
   return row.id as string;
 }
@@ -35,7 +32,9 @@ export async function findGroup(db: Db, id: string): Promise<MemberGroup | null>
 }
 
 export async function findGroupByName(db: Db, name: string): Promise<MemberGroup | null> {
-  const row = await db('member_groups').where({ name_key: groupKey(name) }).first('id', 'name');
+  const row = await db('member_groups')
+    .where({ name_key: groupKey(name) })
+    .first('id', 'name');
   return row ? { id: row.id, name: row.name } : null;
 }
 
@@ -83,7 +82,11 @@ export async function chargeDraw(
 }
 
 /** Elections of the group that are open or closed but not yet drawn: each will be charged at its draw. */
-export async function pendingDraws(db: Db, groupId: string, exceptElectionId?: string): Promise<{ epsilon: string; neighbour: string; seats: number }[]> {
+export async function pendingDraws(
+  db: Db,
+  groupId: string,
+  exceptElectionId?: string,
+): Promise<{ epsilon: string; neighbour: string; seats: number }[]> {
   const q = db('elections').where({ group_id: groupId }).whereIn('state', ['open', 'closed']);
   if (exceptElectionId) q.whereNot({ id: exceptElectionId });
   return q.select('epsilon', 'neighbour', 'seats');

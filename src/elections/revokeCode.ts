@@ -12,10 +12,7 @@ import { AlreadyTallied, CodeUnknown } from './errors.ts';
  * marked withdrawn too (its ballot, sealed and unlinked, still counts), so the withdrawn
  * count on the dashboard says nothing either. Revoking twice changes nothing.
  */
-export async function revokeCode(
-  ctx: UseCaseContext,
-  input: { electionId: string; organiserId: string; code: string },
-): Promise<void> {
+export async function revokeCode(ctx: UseCaseContext, input: { electionId: string; organiserId: string; code: string }): Promise<void> {
   const canonical = normaliseCode(input.code); // CodeMalformed / CodeTypo before any lookup
   await ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: false });

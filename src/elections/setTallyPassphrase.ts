@@ -9,10 +9,7 @@ import { ElectionStateConflict } from './errors.ts';
  * (DESIGN §5). Only in draft: once voting opens the key is fixed, since ballots are
  * sealed to it. The passphrase itself is never stored and cannot be recovered.
  */
-export async function setTallyPassphrase(
-  ctx: UseCaseContext,
-  input: { electionId: string; organiserId: string; passphrase: string },
-): Promise<void> {
+export async function setTallyPassphrase(ctx: UseCaseContext, input: { electionId: string; organiserId: string; passphrase: string }): Promise<void> {
   await ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
     if (e.state !== 'draft') {

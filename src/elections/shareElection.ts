@@ -11,7 +11,12 @@ import { ownedElection } from './electionAccess.ts';
  * passphrase is never shared by the site: the owner passes it on privately if they wish.
  */
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
-const emailField = z.string().trim().toLowerCase().min(1, 'Enter the email of an organiser of this site.').max(254, 'That email address is too long.');
+const emailField = z
+  .string()
+  .trim()
+  .toLowerCase()
+  .min(1, 'Enter the email of an organiser of this site.')
+  .max(254, 'That email address is too long.');
 
 export interface ElectionOrganiser {
   id: string;
@@ -67,6 +72,7 @@ export async function unshareElection(
     const target = await trx('organisers').where({ id: input.withOrganiserId }).first('id', 'email');
     if (!target) return;
     const removed = await trx('election_organisers').where({ election_id: e.id, organiser_id: target.id }).delete();
-    if (removed > 0) await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'unshared', detail: { with: target.email } }, ctx.now());
+    if (removed > 0)
+      await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'unshared', detail: { with: target.email } }, ctx.now());
   });
 }

@@ -23,16 +23,14 @@ export const retentionDaysSchema = z
  * versions in the table pages until the table is rewritten, so every caller runs
  * rewriteShreddedTables after committing (and housekeeping retries it if that failed).
  */
-export async function shredInTransaction(
-  trx: Db,
-  electionId: string,
-  organiserId: string | null,
-  now: Date,
-): Promise<void> {
+export async function shredInTransaction(trx: Db, electionId: string, organiserId: string | null, now: Date): Promise<void> {
   await deleteBallots(trx, electionId);
   await trx('elections').where({ id: electionId }).update({ wrapped_key: null, shredded_at: now, updated_at: now });
   await recordEvent(trx, { electionId, organiserId, action: 'shredded' }, now);
-  await trx('instance_settings').insert({ name: REWRITE_DUE, value: JSON.stringify(true) }).onConflict('name').ignore();
+  await trx('instance_settings')
+    .insert({ name: REWRITE_DUE, value: JSON.stringify(true) })
+    .onConflict('name')
+    .ignore();
 }
 
 const REWRITE_DUE = 'shred-rewrite-due';
@@ -56,7 +54,11 @@ export async function rewriteShreddedTables(db: Db, waitMs = 10_000): Promise<'d
   } finally {
     // Not clear: a transaction older than the shred could still see the old row versions, and
     // VACUUM FULL copies every version some snapshot may need. Housekeeping tries again.
-    if (!clear) await db('instance_settings').insert({ name: REWRITE_DUE, value: JSON.stringify(true) }).onConflict('name').ignore();
+    if (!clear)
+      await db('instance_settings')
+        .insert({ name: REWRITE_DUE, value: JSON.stringify(true) })
+        .onConflict('name')
+        .ignore();
   }
   return clear ? 'done' : 'deferred';
 }
@@ -89,10 +91,7 @@ async function olderSnapshotsGone(db: Db, waitMs: number): Promise<boolean> {
  * made again in a new election with the same options (a re-roll costing every member ε more).
  * Already shredded: no change.
  */
-export async function shredElection(
-  ctx: UseCaseContext,
-  input: { electionId: string; organiserId: string | null },
-): Promise<void> {
+export async function shredElection(ctx: UseCaseContext, input: { electionId: string; organiserId: string | null }): Promise<void> {
   await ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
     if (e.shreddedAt) return;

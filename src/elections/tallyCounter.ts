@@ -45,9 +45,10 @@ export function chooseThreads(threads: CountRequest['threads'], ballots: number)
 /** Streams the sealed ballots (memory O(d + batch)) and counts them, in this thread or in workers. */
 export async function countApprovals(db: Db, req: CountRequest): Promise<ApprovalTally> {
   const batchSize = req.batchSize ?? DEFAULT_BATCH;
-  const threads = req.threads === undefined || req.threads === 'auto'
-    ? chooseThreads('auto', await countStoredBallots(db, req.electionId))
-    : chooseThreads(req.threads, 0);
+  const threads =
+    req.threads === undefined || req.threads === 'auto'
+      ? chooseThreads('auto', await countStoredBallots(db, req.electionId))
+      : chooseThreads(req.threads, 0);
   if (threads === 0) return countHere(db, req, batchSize);
 
   const pool = new TallyPool(

@@ -3,9 +3,7 @@ import { wipe } from '../custody/index.ts';
 import type { FromWorker, ToWorker, WorkerSetup } from './tallyWorker.ts';
 
 // Compiled (dist/), the worker is plain JavaScript; from the sources it needs tsx's loader (tallyWorker.mjs).
-const ENTRY = import.meta.url.endsWith('.js')
-  ? new URL('./tallyWorker.js', import.meta.url)
-  : new URL('./tallyWorker.mjs', import.meta.url);
+const ENTRY = import.meta.url.endsWith('.js') ? new URL('./tallyWorker.js', import.meta.url) : new URL('./tallyWorker.mjs', import.meta.url);
 const IN_FLIGHT = 2; // batches queued per worker: keeps workers busy while memory stays O(batch)
 
 interface Slot {

@@ -17,9 +17,7 @@ export interface WorkerSetup {
   optionCount: number;
 }
 export type ToWorker = { type: 'batch'; data: Uint8Array; lengths: Uint32Array } | { type: 'finish' };
-export type FromWorker =
-  | { type: 'done' }
-  | { type: 'result'; counts: Uint32Array; ballots: number; unreadable: number };
+export type FromWorker = { type: 'done' } | { type: 'result'; counts: Uint32Array; ballots: number; unreadable: number };
 
 const port = parentPort!;
 const setup = workerData as WorkerSetup;

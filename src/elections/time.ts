@@ -18,9 +18,7 @@ export interface WallClock {
   minute: number;
 }
 
-export type ZonedResult =
-  | { ok: true; utc: Date; ambiguous: boolean }
-  | { ok: false; reason: 'malformed' | 'unknown-zone' | 'gap'; message: string };
+export type ZonedResult = { ok: true; utc: Date; ambiguous: boolean } | { ok: false; reason: 'malformed' | 'unknown-zone' | 'gap'; message: string };
 
 const formatters = new Map<string, Intl.DateTimeFormat>();
 
@@ -80,7 +78,11 @@ export function isTimeZone(zone: string): boolean {
 
 /** The wall clock shown in `zone` at `instant` (seconds dropped). */
 export function wallClockAt(instant: Date, zone: string): WallClock {
-  const parts = Object.fromEntries(formatter(zone).formatToParts(instant).map((p) => [p.type, p.value]));
+  const parts = Object.fromEntries(
+    formatter(zone)
+      .formatToParts(instant)
+      .map((p) => [p.type, p.value]),
+  );
   return {
     year: Number(parts.year),
     month: Number(parts.month),
@@ -131,10 +133,7 @@ export function zonedToUtc(text: string, zone: string): ZonedResult {
     return { ok: false, reason: 'malformed', message: 'Enter a date and time, for example 2026-05-14T18:30.' };
   }
   const naive = Date.UTC(wall.year, wall.month - 1, wall.day, wall.hour, wall.minute);
-  const offsets = new Set([
-    offsetMinutesAt(new Date(naive - DAY_MS), zone),
-    offsetMinutesAt(new Date(naive + DAY_MS), zone),
-  ]);
+  const offsets = new Set([offsetMinutesAt(new Date(naive - DAY_MS), zone), offsetMinutesAt(new Date(naive + DAY_MS), zone)]);
   const matches = [...offsets]
     .map((o) => naive - o * 60_000)
     .filter((t) => sameWall(wallClockAt(new Date(t), zone), wall))

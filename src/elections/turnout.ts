@@ -10,10 +10,7 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
  * exist. Never anything per option. Ballots are counted from receipts, which survive
  * shredding, so the figure does not drop to zero after publication.
  */
-export async function countTurnout(
-  db: Db,
-  electionId: string,
-): Promise<{ ballotsCast: number; codesIssued: number; codesRevoked: number }> {
+export async function countTurnout(db: Db, electionId: string): Promise<{ ballotsCast: number; codesIssued: number; codesRevoked: number }> {
   if (!UUID.test(electionId)) throw new ElectionNotFound();
   const ballotsCast = await countReceipts(db, electionId);
   const codes = await countCodes(db, electionId);

@@ -7,10 +7,7 @@ import { ElectionLocked } from './errors.ts';
 import { isEditable } from './status.ts';
 
 /** Changes a draft's settings. Once opened, everything is locked (ElectionLocked). */
-export async function updateDraft(
-  ctx: UseCaseContext,
-  input: { electionId: string; organiserId: string; draft: DraftInput },
-): Promise<void> {
+export async function updateDraft(ctx: UseCaseContext, input: { electionId: string; organiserId: string; draft: DraftInput }): Promise<void> {
   const draft = checkDraft(input.draft);
   await ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });

@@ -35,7 +35,9 @@ const MAX_TABLE_ROWS = 100;
  * P(shortfall ≥ T) ≤ (d − 1)·e^(−aT) ≤ β at T = (1/a)(ln d + ln(1/β)).
  */
 function accuracyMargin(d: number, a: Dec, beta: Dec): Dec {
-  return Decimal.ln(d).plus(Decimal.ln(new Decimal(1).div(beta))).div(a);
+  return Decimal.ln(d)
+    .plus(Decimal.ln(new Decimal(1).div(beta)))
+    .div(a);
 }
 
 /** If the leader is ahead of all d − 1 others by ≥ m: P(leader) ≥ 1/(1 + (d − 1)·e^(−a·m)). */
@@ -106,13 +108,7 @@ export function validateBeta(beta: unknown): number {
   return beta;
 }
 
-export function computeBounds(
-  d: number,
-  scale: Rational,
-  perRoundEpsilon: string,
-  betaInput: unknown,
-  rule: DrawRule = 'exponential',
-): Bounds {
+export function computeBounds(d: number, scale: Rational, perRoundEpsilon: string, betaInput: unknown, rule: DrawRule = 'exponential'): Bounds {
   const beta = validateBeta(betaInput);
   const leaderProbability = leaderProbabilityFor(rule);
   const a = new Decimal(scale.num.toString()).div(scale.den.toString());

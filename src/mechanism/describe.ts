@@ -93,9 +93,7 @@ export function describeStatement(s: PrivacyStatement): StatementText {
   if (s.outcome === 'no-ballots') {
     return {
       headline: headlineOf(s),
-      paragraphs: [
-        'No ballots were cast, so nothing was counted and no winner was drawn. The result shows that nobody voted, and nothing more.',
-      ],
+      paragraphs: ['No ballots were cast, so nothing was counted and no winner was drawn. The result shows that nobody voted, and nothing more.'],
       boundsSentence: boundsSentenceOf(s),
       caution: RANDOM_WINNER_CAUTION,
     };

@@ -151,9 +151,7 @@ export function makeDraw(cfg: DrawConfig): SeatDraw {
       checkScores(scores);
       if (rule === 'exponential') return firstSeatProbabilities(scores, rationalToNumber(perRoundScale));
       if (options > PF_EXACT_MAX_OPTIONS) {
-        throw new InvalidMechanismConfig(
-          `exact permute-and-flip probabilities are computed for at most ${PF_EXACT_MAX_OPTIONS} options`,
-        );
+        throw new InvalidMechanismConfig(`exact permute-and-flip probabilities are computed for at most ${PF_EXACT_MAX_OPTIONS} options`);
       }
       return permuteAndFlipProbabilities(scores, rationalToNumber(perRoundScale));
     },

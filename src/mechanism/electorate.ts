@@ -90,7 +90,9 @@ export function protectionStrength(draw: ExponentialDraw): { weak: boolean; howV
   return {
     weak: eps.gt(WEAK_PROTECTION_EPSILON),
     howVotedEpsilon: draw.privacy.howVoted,
-    factor: Decimal.exp(eps).toDecimalPlaces(eps.gt(3) ? 0 : 2, Decimal.ROUND_HALF_UP).toNumber(),
+    factor: Decimal.exp(eps)
+      .toDecimalPlaces(eps.gt(3) ? 0 : 2, Decimal.ROUND_HALF_UP)
+      .toNumber(),
   };
 }
 

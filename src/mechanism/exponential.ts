@@ -27,12 +27,7 @@ import { uniformBelowSmall, type RandomSource } from './random.ts';
  * (a timing side channel in principle); callers should not expose the draw's
  * duration, e.g. by running it once at tally time rather than per request.
  */
-export function drawOneRound(
-  scores: readonly number[],
-  candidates: readonly number[],
-  scale: Rational,
-  random: RandomSource,
-): number {
+export function drawOneRound(scores: readonly number[], candidates: readonly number[], scale: Rational, random: RandomSource): number {
   const n = candidates.length;
   if (n === 0) throw new RangeError('drawOneRound needs at least one candidate');
   let max = 0;
@@ -60,12 +55,7 @@ export function drawOneRound(
  * Thm. 3.16) gives the total privacy cost as the sum of the rounds' costs; it
  * holds although each round depends on the earlier winners (adaptive composition).
  */
-export function drawSeats(
-  scores: readonly number[],
-  seats: number,
-  scale: Rational,
-  random: RandomSource,
-): number[] {
+export function drawSeats(scores: readonly number[], seats: number, scale: Rational, random: RandomSource): number[] {
   const remaining = scores.map((_, i) => i);
   const winners: number[] = [];
   for (let round = 0; round < seats; round += 1) {

@@ -3,14 +3,7 @@
  * data-free bounds and the privacy statement. Pure: no I/O, randomness passed in.
  */
 export { type RandomSource, cryptoRandom, uniformBelow, uniformBelowSmall } from './random.ts';
-export {
-  type Epsilon,
-  parseEpsilon,
-  EPSILON_RULE,
-  EPSILON_MIN_TEXT,
-  EPSILON_MAX_TEXT,
-  EPSILON_MAX_DECIMALS,
-} from './epsilon.ts';
+export { type Epsilon, parseEpsilon, EPSILON_RULE, EPSILON_MIN_TEXT, EPSILON_MAX_TEXT, EPSILON_MAX_DECIMALS } from './epsilon.ts';
 export { InvalidEpsilon, InvalidMechanismConfig, InvalidScores } from './errors.ts';
 export type { Rational } from './rational.ts';
 export { bernoulliRational, bernoulliExpMinus } from './bernoulli.ts';
@@ -39,13 +32,7 @@ export {
   leadChance,
   protectionStrength,
 } from './electorate.ts';
-export {
-  type PrivacyStatement,
-  type Protection,
-  type Released,
-  type NotReleased,
-  buildStatement,
-} from './statement.ts';
+export { type PrivacyStatement, type Protection, type Released, type NotReleased, buildStatement } from './statement.ts';
 export { type StatementText, describeStatement, ruleSentence, RANDOM_WINNER_CAUTION } from './describe.ts';
 export { describeBounds } from './describeBounds.ts';
 export { canonicalJson, canonicalStatementBytes } from './canonical.ts';

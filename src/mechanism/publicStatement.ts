@@ -92,7 +92,8 @@ export function buildPublicStatement(input: {
   if (input.optionLabels.length !== draw.options) throw new InvalidMechanismConfig(`expected ${draw.options} option labels`);
   const winners = input.winners ?? [];
   if (input.winners !== null && winners.length !== draw.seats) throw new InvalidMechanismConfig(`expected ${draw.seats} winners`);
-  if (!Number.isSafeInteger(input.drawSequence) || input.drawSequence < 1) throw new InvalidMechanismConfig('the draw sequence must be a whole number ≥ 1');
+  if (!Number.isSafeInteger(input.drawSequence) || input.drawSequence < 1)
+    throw new InvalidMechanismConfig('the draw sequence must be a whole number ≥ 1');
   const turnout = input.publishedTurnout;
   if (turnout !== null && (!Number.isSafeInteger(turnout) || turnout < 0)) throw new InvalidMechanismConfig('turnout must be a whole number ≥ 0');
   const published = turnout !== null;
@@ -164,38 +165,59 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
   const add = (ok: boolean, what: string) => checks.push({ ok, what });
   const m = s.mechanism;
   add(m.sensitivity === draw.sensitivity, `sensitivity is ${draw.sensitivity} (one ballot changes each approval count by at most 1)`);
-  add(m.composition === draw.privacy.composition && m.perRoundEpsilon === draw.privacy.perRoundEpsilon,
-    `ε = ${m.epsilon} over ${m.seats} seat(s) gives ε = ${draw.privacy.perRoundEpsilon} per seat (${draw.privacy.composition === 'basic' ? 'basic composition' : 'a single draw'})`);
+  add(
+    m.composition === draw.privacy.composition && m.perRoundEpsilon === draw.privacy.perRoundEpsilon,
+    `ε = ${m.epsilon} over ${m.seats} seat(s) gives ε = ${draw.privacy.perRoundEpsilon} per seat (${draw.privacy.composition === 'basic' ? 'basic composition' : 'a single draw'})`,
+  );
   const scaleWhere =
     draw.rule === 'permute-and-flip'
       ? 'in each coin exp(−a · (top approvals − approvals)) of permute-and-flip (McKenna & Sheldon 2020)'
       : 'in P(option) ∝ exp(a · approvals) of the exponential mechanism';
-  add(m.perRoundScale === rationalToText(draw.perRoundScale),
-    `the draw's scale a = ${rationalToText(draw.perRoundScale)} ${scaleWhere}, for the "${m.neighbour}" neighbour relation`);
+  add(
+    m.perRoundScale === rationalToText(draw.perRoundScale),
+    `the draw's scale a = ${rationalToText(draw.perRoundScale)} ${scaleWhere}, for the "${m.neighbour}" neighbour relation`,
+  );
   const published = s.released.turnout !== null;
   const how = { epsilon: draw.privacy.howVoted, factorAtMost: factorAtMost(draw.privacy.howVoted) };
-  add(isDeepStrictEqual(s.privacy.howVoted, how), `how a member voted is protected at ε = ${how.epsilon} (odds change by at most ×${how.factorAtMost})`);
+  add(
+    isDeepStrictEqual(s.privacy.howVoted, how),
+    `how a member voted is protected at ε = ${how.epsilon} (odds change by at most ×${how.factorAtMost})`,
+  );
   const whether = published ? null : { epsilon: draw.privacy.whetherVoted, factorAtMost: factorAtMost(draw.privacy.whetherVoted) };
-  add(isDeepStrictEqual(s.privacy.whetherVoted, whether),
-    whether ? `whether a member voted is protected at ε = ${whether.epsilon}` : 'whether a member voted is not protected, because an exact turnout was published');
-  add(isDeepStrictEqual([...s.privacy.unprotected].sort(), unprotectedReleases(published).sort()),
-    `the unprotected releases are listed: ${unprotectedReleases(published).join(', ')}`);
-  add(s.released.anyoneVoted === (s.released.winners.length > 0) && (s.released.winners.length === 0 || s.released.winners.length === m.seats),
-    s.released.anyoneVoted ? `${m.seats} winner(s) named, one per seat` : 'no ballots were cast, so no winner is named');
-  add(s.released.winners.every((w) => s.options.includes(w)) && new Set(s.released.winners).size === s.released.winners.length,
-    'every winner is a distinct option of this election');
+  add(
+    isDeepStrictEqual(s.privacy.whetherVoted, whether),
+    whether
+      ? `whether a member voted is protected at ε = ${whether.epsilon}`
+      : 'whether a member voted is not protected, because an exact turnout was published',
+  );
+  add(
+    isDeepStrictEqual([...s.privacy.unprotected].sort(), unprotectedReleases(published).sort()),
+    `the unprotected releases are listed: ${unprotectedReleases(published).join(', ')}`,
+  );
+  add(
+    s.released.anyoneVoted === s.released.winners.length > 0 && (s.released.winners.length === 0 || s.released.winners.length === m.seats),
+    s.released.anyoneVoted ? `${m.seats} winner(s) named, one per seat` : 'no ballots were cast, so no winner is named',
+  );
+  add(
+    s.released.winners.every((w) => s.options.includes(w)) && new Set(s.released.winners).size === s.released.winners.length,
+    'every winner is a distinct option of this election',
+  );
   let bounds: Bounds | null;
   try {
     bounds = draw.bounds(s.bounds?.beta);
   } catch {
     bounds = null;
   }
-  add(bounds !== null && isDeepStrictEqual(s.bounds, bounds),
+  add(
+    bounds !== null && isDeepStrictEqual(s.bounds, bounds),
     bounds
       ? `the accuracy bound (within ${bounds.withinApprovals} approvals of the top option with probability ≥ ${1 - bounds.beta}, Dwork & Roth 2014 Cor. 3.12, which holds for both draw rules) and all ${bounds.marginTable.length} rows of the ${draw.rule === 'permute-and-flip' ? 'permute-and-flip ' : ''}margin table`
-      : 'the bounds could not be recomputed');
+      : 'the bounds could not be recomputed',
+  );
   const l = s.ledger;
-  add(!epsilonExceeds(draw.privacy.howVoted, l.howVotedEpsilon) && l.draws >= 1 && l.windowEnd === s.drawnAt,
-    `the group's ledger at this draw includes this draw (${l.draws} draw(s) in the 12 months to ${l.windowEnd})`);
+  add(
+    !epsilonExceeds(draw.privacy.howVoted, l.howVotedEpsilon) && l.draws >= 1 && l.windowEnd === s.drawnAt,
+    `the group's ledger at this draw includes this draw (${l.draws} draw(s) in the 12 months to ${l.windowEnd})`,
+  );
   return checks;
 }

@@ -122,9 +122,7 @@ export function buildStatement(input: {
     neighbour: draw.neighbour,
     protects: {
       howVoted: { epsilon: draw.privacy.howVoted, factorAtMost: factorAtMost(draw.privacy.howVoted) },
-      whetherVoted: published
-        ? null
-        : { epsilon: draw.privacy.whetherVoted, factorAtMost: factorAtMost(draw.privacy.whetherVoted) },
+      whetherVoted: published ? null : { epsilon: draw.privacy.whetherVoted, factorAtMost: factorAtMost(draw.privacy.whetherVoted) },
     },
     seats: draw.seats,
     composition: draw.privacy.composition,

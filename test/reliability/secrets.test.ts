@@ -85,7 +85,13 @@ describe.runIf(process.env.TEST_DATABASE_URL)('secrets stay out of logs and dump
       .split(/\r?\n/)
       .slice(1)
       .map((line) => line.split(',')[0]!.replace(/"/g, ''));
-    expect(codes, csv.text.replace(/<[^>]+>/g, " ").replace(/\s+/g, " ").slice(0, 700)).toHaveLength(6);
+    expect(
+      codes,
+      csv.text
+        .replace(/<[^>]+>/g, ' ')
+        .replace(/\s+/g, ' ')
+        .slice(0, 700),
+    ).toHaveLength(6);
     expect((await postForm(agent, `/organise/elections/${id}/open`, `/organise/elections/${id}/open`, { mode: 'now' })).status).toBe(303);
 
     const receipts: string[] = [];

@@ -68,7 +68,12 @@ export const drawCommand: Command = {
       return 0;
     }
     if (winners !== null) {
-      io.stdout(formatTable(['Seat', 'Winner'], statement.winners.map((w, i) => [i + 1, w])) + '\n');
+      io.stdout(
+        formatTable(
+          ['Seat', 'Winner'],
+          statement.winners.map((w, i) => [i + 1, w]),
+        ) + '\n',
+      );
     }
     io.stdout(renderStatement(statement));
     io.stdout('\n' + wrap(HOLDER_NOTE));

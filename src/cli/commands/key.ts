@@ -45,7 +45,9 @@ export const keyCommand: Command = {
         return 0;
       }
       if (!flags.print && config.signingSeedHex !== undefined) {
-        throw new InvalidInput('the signing seed is given by VEILTALLY_SIGNING_SEED (or its _FILE): run `veiltally key add --print`, put the printed seed there on every instance, and restart them');
+        throw new InvalidInput(
+          'the signing seed is given by VEILTALLY_SIGNING_SEED (or its _FILE): run `veiltally key add --print`, put the printed seed there on every instance, and restart them',
+        );
       }
       const seed = crypto.randomBytes(32);
       const key = await registerSigningKey(db.knex, seed, new Date());
@@ -61,8 +63,10 @@ export const keyCommand: Command = {
         fs.renameSync(tmp, file);
       }
       seed.fill(0);
-      io.stderr(`added signing key ${key.keyId}, fingerprint ${keyFingerprint(key.publicKey)}\n` +
-        'restart the server (every instance) to sign new statements with it.\n');
+      io.stderr(
+        `added signing key ${key.keyId}, fingerprint ${keyFingerprint(key.publicKey)}\n` +
+          'restart the server (every instance) to sign new statements with it.\n',
+      );
       return 0;
     } finally {
       await db.close();

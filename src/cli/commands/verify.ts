@@ -70,7 +70,11 @@ interface Line {
 }
 
 /** All the checks, pure apart from the inputs given: the statement text, the key text and the expected election. */
-export function verifyStatementText(statementText: string, keyText: string | null, election: string | null): { lines: Line[]; passed: boolean; envelope: StatementEnvelope | null } {
+export function verifyStatementText(
+  statementText: string,
+  keyText: string | null,
+  election: string | null,
+): { lines: Line[]; passed: boolean; envelope: StatementEnvelope | null } {
   const lines: Line[] = [];
   const add = (ok: boolean, text: string) => lines.push({ ok, text });
   let doc: unknown;
@@ -81,43 +85,66 @@ export function verifyStatementText(statementText: string, keyText: string | nul
     return { lines, passed: false, envelope: null };
   }
   const problems = schemaProblems(doc);
-  add(problems.length === 0, problems.length === 0
-    ? `The statement matches the format ${STATEMENT_FORMAT} (JSON Schema, draft 2020-12).`
-    : `The statement does not match the format ${STATEMENT_FORMAT}: ${problems.slice(0, 5).join('; ')}.`);
+  add(
+    problems.length === 0,
+    problems.length === 0
+      ? `The statement matches the format ${STATEMENT_FORMAT} (JSON Schema, draft 2020-12).`
+      : `The statement does not match the format ${STATEMENT_FORMAT}: ${problems.slice(0, 5).join('; ')}.`,
+  );
   if (problems.length > 0) return { lines, passed: false, envelope: null };
   const envelope = doc as StatementEnvelope;
   const s = envelope.statement;
   const canonical = canonicalJson(envelope);
-  add(statementText.replace(/\n$/, '') === canonical,
+  add(
+    statementText.replace(/\n$/, '') === canonical,
     statementText.replace(/\n$/, '') === canonical
       ? 'The file is in RFC 8785 canonical form, exactly as the instance published it.'
-      : 'The file is not in RFC 8785 canonical form: it was edited or reformatted after it was published.');
-  add(envelope.signature.keyId === s.keyId, envelope.signature.keyId === s.keyId
-    ? `The statement and its signature name the same key, ${s.keyId}.`
-    : `The signature names key ${envelope.signature.keyId} but the statement names key ${s.keyId}.`);
+      : 'The file is not in RFC 8785 canonical form: it was edited or reformatted after it was published.',
+  );
+  add(
+    envelope.signature.keyId === s.keyId,
+    envelope.signature.keyId === s.keyId
+      ? `The statement and its signature name the same key, ${s.keyId}.`
+      : `The signature names key ${envelope.signature.keyId} but the statement names key ${s.keyId}.`,
+  );
   if (keyText === null) {
-    add(false, `The signature was NOT checked: no key was given. Download key ${s.keyId} from the instance's /keys page, compare its fingerprint, and run again with --key.`);
+    add(
+      false,
+      `The signature was NOT checked: no key was given. Download key ${s.keyId} from the instance's /keys page, compare its fingerprint, and run again with --key.`,
+    );
   } else {
     const { publicKey, claimedKeyId } = readPublicKey(keyText);
     const id = signingKeyId(publicKey);
-    add(claimedKeyId === null || claimedKeyId === id, claimedKeyId === null || claimedKeyId === id
-      ? `The key file holds key ${id}.`
-      : `The key file says it is key ${claimedKeyId}, but its public key has id ${id}.`);
+    add(
+      claimedKeyId === null || claimedKeyId === id,
+      claimedKeyId === null || claimedKeyId === id
+        ? `The key file holds key ${id}.`
+        : `The key file says it is key ${claimedKeyId}, but its public key has id ${id}.`,
+    );
     add(id === s.keyId, id === s.keyId ? 'It is the key the statement names.' : `It is not the key the statement names (${s.keyId}).`);
     const valid = verifyStatement(new TextEncoder().encode(canonicalJson(s)), Buffer.from(envelope.signature.value, 'base64url'), publicKey);
-    add(valid, valid
-      ? 'The Ed25519 signature over the statement is valid for this key: nobody changed the statement after it was signed.'
-      : 'The Ed25519 signature does NOT match: the statement was changed after signing, or it was signed with another key.');
+    add(
+      valid,
+      valid
+        ? 'The Ed25519 signature over the statement is valid for this key: nobody changed the statement after it was signed.'
+        : 'The Ed25519 signature does NOT match: the statement was changed after signing, or it was signed with another key.',
+    );
   }
   if (election !== null) {
     const same = s.electionId.toLowerCase() === election.toLowerCase();
-    add(same, same ? `The statement is about election ${s.electionId}, the one you asked about.` : `The statement is about election ${s.electionId}, not ${election}.`);
+    add(
+      same,
+      same
+        ? `The statement is about election ${s.electionId}, the one you asked about.`
+        : `The statement is about election ${s.electionId}, not ${election}.`,
+    );
   }
   for (const c of recheckStatement(s)) add(c.ok, c.ok ? `Recomputed: ${c.what}.` : `Does NOT match when recomputed: ${c.what}.`);
   return { lines, passed: lines.every((l) => l.ok), envelope };
 }
 
 /** Text from the statement is shown in a terminal: control characters (escape sequences) become "?". */
+// eslint-disable-next-line no-control-regex -- matching control characters is the point: they must not reach the terminal
 const shown = (text: string): string => text.replace(/[\u0000-\u001f\u007f-\u009f]/g, '?');
 
 function summary(e: StatementEnvelope): string {
@@ -130,7 +157,9 @@ function summary(e: StatementEnvelope): string {
     `Released: winners ${winners}; turnout ${turnout}; whether anyone voted (not protected).`,
     `Rule: ${s.mechanism.rule}, ε = ${s.mechanism.epsilon}, ${s.mechanism.seats} seat(s), ${s.mechanism.neighbour} neighbours. How a member voted: ε = ${s.privacy.howVoted.epsilon}; whether: ${whether}.`,
     `Group "${shown(s.ledger.groupName)}" over the 12 months to this draw: ${s.ledger.draws} draw(s), ε = ${s.ledger.howVotedEpsilon} for how members voted, ε = ${s.ledger.whetherVotedEpsilon} for whether (basic composition, Dwork & Roth 2014, Thm 3.16).`,
-  ].map((l) => wrap(l)).join('');
+  ]
+    .map((l) => wrap(l))
+    .join('');
 }
 
 export const verifyCommand: Command = {
@@ -138,7 +167,8 @@ export const verifyCommand: Command = {
   usage,
   async run(args, io) {
     const [file, ...rest] = args;
-    if (file === undefined || file.startsWith('--')) throw new InvalidInput('give the statement file first: veiltally verify STATEMENT.json --key KEY_FILE');
+    if (file === undefined || file.startsWith('--'))
+      throw new InvalidInput('give the statement file first: veiltally verify STATEMENT.json --key KEY_FILE');
     const flags = checkFlags(flagSchema, parseFlags('verify', rest, spec));
     const statementText = readText(file, 'statement');
     const keyText = flags.key === undefined ? null : readText(flags.key, 'key');

@@ -47,7 +47,8 @@ export function errorHandler(logger: Logger, recoveries: readonly Recovery[] = [
     else if (err instanceof ZodError) error = new InvalidInput('Some of what was sent could not be read. Go back, reload the page and try again.');
     else if (e?.type === 'entity.too.large' || e?.type === 'parameters.too.many') error = new PayloadTooLarge();
     // body-parser's other client errors (unsupported charset 415, unreadable body 400) carry their own status.
-    else if (typeof e?.type === 'string' && e.expose === true && typeof e.status === 'number' && e.status >= 400 && e.status < 500) error = new UnreadableForm(e.status);
+    else if (typeof e?.type === 'string' && e.expose === true && typeof e.status === 'number' && e.status >= 400 && e.status < 500)
+      error = new UnreadableForm(e.status);
 
     // A client past a failures-only limit (ballot codes): a correct attempt went through, a failed one waits.
     const locked = res.locals.lockedOut as LockedOut | undefined;
@@ -66,7 +67,14 @@ export function errorHandler(logger: Logger, recoveries: readonly Recovery[] = [
 
     if (!isVeiltallyError(error)) {
       // Only the error's class and the route are logged: never the body, query or headers.
-      logger.error({ err: { name: (err as Error)?.name, message: (err as Error)?.message, stack: (err as Error)?.stack }, method: req.method, route: req.route?.path ?? req.path }, 'unexpected error');
+      logger.error(
+        {
+          err: { name: (err as Error)?.name, message: (err as Error)?.message, stack: (err as Error)?.stack },
+          method: req.method,
+          route: req.route?.path ?? req.path,
+        },
+        'unexpected error',
+      );
       res.status(500);
       return renderSafely(res, logger, 'errors/problem', {
         title: 'Something went wrong on our side',

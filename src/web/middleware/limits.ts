@@ -192,9 +192,8 @@ export function createLimits(knex: Knex): Limits {
       { name: 'passphrase-election', points: 10, windowMs: 15 * MIN, key: electionOf },
       { name: 'passphrase-client', points: 50, windowMs: 15 * MIN, key: clientOf },
     ]).middleware,
-    receiptChecks: new AttemptLimit(knex, 'receipt checks', 'every', [
-      { name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf },
-    ]).middleware,
+    receiptChecks: new AttemptLimit(knex, 'receipt checks', 'every', [{ name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf }])
+      .middleware,
     // One failed look-up is one guess against every open election, so the site-wide key gives the
     // same bound per election as 'code-election' does on the ballot steps.
     codeLookups: new AttemptLimit(knex, 'ballot code attempts', 'failures-only', [

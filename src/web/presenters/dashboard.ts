@@ -3,7 +3,15 @@ import type { AuditRow } from '../../elections/audit.ts';
 import { STATUS_LABELS, canCloseEarly, canTally, isEditable } from '../../elections/status.ts';
 import { describeDuration, describeInstant, shortInstant } from '../../elections/timeText.ts';
 import { votingTimes } from '../../elections/votingTimes.ts';
-import { drawWarning, electorateWarning, noticeClass, protectionWarning, type DrawWarning, type ElectorateWarning, type ProtectionWarning } from './electorate.ts';
+import {
+  drawWarning,
+  electorateWarning,
+  noticeClass,
+  protectionWarning,
+  type DrawWarning,
+  type ElectorateWarning,
+  type ProtectionWarning,
+} from './electorate.ts';
 import { makeExponentialDraw } from '../../mechanism/index.ts';
 
 const plural = (n: number, word: string) => `${n.toLocaleString('en')} ${word}${n === 1 ? '' : 's'}`;
@@ -36,26 +44,40 @@ function timeNote(d: Dashboard): string {
 export function eventText(ev: AuditRow, zone: string): string {
   const d = ev.detail as Record<string, unknown>;
   switch (ev.action) {
-    case 'created': return 'Created the election';
-    case 'draft-edited': return 'Edited the draft';
-    case 'tally-key-set': return 'Set the tally passphrase';
-    case 'codes-issued': return `Issued ${plural(Number(d.count ?? 0), 'ballot code')}`;
-    case 'code-revoked': return 'Withdrew a ballot code';
+    case 'created':
+      return 'Created the election';
+    case 'draft-edited':
+      return 'Edited the draft';
+    case 'tally-key-set':
+      return 'Set the tally passphrase';
+    case 'codes-issued':
+      return `Issued ${plural(Number(d.count ?? 0), 'ballot code')}`;
+    case 'code-revoked':
+      return 'Withdrew a ballot code';
     case 'opened':
       return d.scheduled && typeof d.opensAt === 'string'
         ? `Locked the settings; voting opens ${describeInstant(new Date(d.opensAt), zone)}`
         : 'Opened voting and locked the settings';
-    case 'closed': return d.early ? 'Closed voting early' : 'Closed voting';
-    case 'tallied': return 'Unlocked the tally and drew the result';
-    case 'published': return 'Published the result';
-    case 'shredded': return 'Shredded the election key and the sealed ballots';
+    case 'closed':
+      return d.early ? 'Closed voting early' : 'Closed voting';
+    case 'tallied':
+      return 'Unlocked the tally and drew the result';
+    case 'published':
+      return 'Published the result';
+    case 'shredded':
+      return 'Shredded the election key and the sealed ballots';
     case 'closing-extended':
       return typeof d.closesAt === 'string' ? `Moved the closing time to ${describeInstant(new Date(d.closesAt), zone)}` : 'Moved the closing time';
-    case 'description-edited': return 'Changed the description during voting (shown on the public timeline)';
-    case 'wording-corrected': return `Corrected the wording before voting (${String(d.changed ?? '')})`;
-    case 'shared': return `Shared the election with ${String(d.with ?? 'another organiser')}`;
-    case 'unshared': return `Stopped sharing with ${String(d.with ?? 'an organiser')}`;
-    default: return ev.action.replace(/-/g, ' ');
+    case 'description-edited':
+      return 'Changed the description during voting (shown on the public timeline)';
+    case 'wording-corrected':
+      return `Corrected the wording before voting (${String(d.changed ?? '')})`;
+    case 'shared':
+      return `Shared the election with ${String(d.with ?? 'another organiser')}`;
+    case 'unshared':
+      return `Stopped sharing with ${String(d.with ?? 'an organiser')}`;
+    default:
+      return ev.action.replace(/-/g, ' ');
   }
 }
 
@@ -83,7 +105,8 @@ function timeSettings(d: Dashboard): { term: string; value: string }[] {
  * it is part of the result, seen by the organiser in the preview and by everyone on publication.
  */
 function turnoutNote(e: Dashboard['election']): string {
-  const live = 'Nobody is shown how many members have voted, you included, while voting runs or before the result is drawn: a live count would tell you whether a member you are watching has voted.';
+  const live =
+    'Nobody is shown how many members have voted, you included, while voting runs or before the result is drawn: a live count would tell you whether a member you are watching has voted.';
   return e.publishTurnout
     ? `${live} You chose to publish the turnout: the exact number of ballots is part of the drawn result, shown to you in the preview and to everyone once published, marked as exact and not protected.`
     : `${live} You chose not to publish the turnout, so nobody will ever be shown it; the result says only whether anyone voted.`;
@@ -110,8 +133,17 @@ export interface DashboardView {
   beforeDraw: DrawWarning | null;
   protection: ProtectionWarning | null;
   can: {
-    edit: boolean; issueCodes: boolean; open: boolean; close: boolean; tally: boolean; publish: boolean; seeResult: boolean; drawing: boolean;
-    deleteDraft: boolean; extendClosing: boolean; correctWording: boolean;
+    edit: boolean;
+    issueCodes: boolean;
+    open: boolean;
+    close: boolean;
+    tally: boolean;
+    publish: boolean;
+    seeResult: boolean;
+    drawing: boolean;
+    deleteDraft: boolean;
+    extendClosing: boolean;
+    correctWording: boolean;
   };
   events: { iso: string; when: string; who: string; what: string }[];
   resultsPath: string;
@@ -131,9 +163,13 @@ export function dashboardView(d: Dashboard): DashboardView {
   const t = d.codes;
   const warning = electorateWarning(e);
   // What the drawn result reveals; what the organiser sees besides is said in the turnout note.
-  const protects = e.neighbour === 'replace-one'
-    ? `In the drawn result: whether and how each member voted, both at ε = ${e.epsilon}` + (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '')
-    : `In the drawn result: whether a member voted at ε = ${e.epsilon}` + (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '') + '; how they voted at 2ε (expert choice)';
+  const protects =
+    e.neighbour === 'replace-one'
+      ? `In the drawn result: whether and how each member voted, both at ε = ${e.epsilon}` +
+        (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '')
+      : `In the drawn result: whether a member voted at ε = ${e.epsilon}` +
+        (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '') +
+        '; how they voted at 2ε (expert choice)';
   return {
     id: e.id,
     title: e.title,
@@ -154,7 +190,11 @@ export function dashboardView(d: Dashboard): DashboardView {
       { term: 'Expected voters', value: e.expectedVoters === null ? 'not given' : e.expectedVoters.toLocaleString('en') },
       ...timeSettings(d),
       { term: 'Turnout', value: e.publishTurnout ? 'Published as an exact, unprotected count' : 'Not published' },
-      { term: 'After publication', value: e.retentionDays === null ? 'Key and sealed ballots shredded at once' : `Kept sealed for ${plural(e.retentionDays, 'day')}, then shredded` },
+      {
+        term: 'After publication',
+        value:
+          e.retentionDays === null ? 'Key and sealed ballots shredded at once' : `Kept sealed for ${plural(e.retentionDays, 'day')}, then shredded`,
+      },
     ],
     options: e.options.map((o) => ({ label: o.label, description: o.description })),
     electorate: warning ? { ...warning, className: noticeClass(warning.level) } : null,

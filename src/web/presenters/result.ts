@@ -2,7 +2,15 @@ import { z } from 'zod';
 import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
 import { resultHidden } from '../../elections/status.ts';
-import { RULE_NAMES, describeParties, describeStatement, makeDraw, makeExponentialDraw, type PartyText, type PrivacyStatement } from '../../mechanism/index.ts';
+import {
+  RULE_NAMES,
+  describeParties,
+  describeStatement,
+  makeDraw,
+  makeExponentialDraw,
+  type PartyText,
+  type PrivacyStatement,
+} from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
@@ -173,7 +181,12 @@ export function publishedResultView(stored: unknown): PublishedResultView {
     if (at < 0) return null;
     return seats === 1 ? 'Drawn' : `Drawn ${ordinal(at + 1)}`;
   };
-  const privacy = makeExponentialDraw({ epsilon: statement.epsilon, options: statement.optionLabels.length, seats, neighbour: statement.neighbour }).privacy;
+  const privacy = makeExponentialDraw({
+    epsilon: statement.epsilon,
+    options: statement.optionLabels.length,
+    seats,
+    neighbour: statement.neighbour,
+  }).privacy;
   return {
     headline: text.headline,
     parties: describeParties(privacy, { neighbour: statement.neighbour, publishTurnout: statement.turnout !== null, previewHours: 48 }),

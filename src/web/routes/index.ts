@@ -8,4 +8,11 @@ import { helpRouter } from './help/router.ts';
 import { statementsRouter } from './statements/router.ts';
 
 /** Every router of the site, one per audience. Order matters only for overlapping paths. */
-export const routers: ReadonlyArray<(deps: AppDeps) => Router> = [siteRouter, helpRouter, voteRouter, statementsRouter, resultsRouter, organiseRouter];
+export const routers: ReadonlyArray<(deps: AppDeps) => Router> = [
+  siteRouter,
+  helpRouter,
+  voteRouter,
+  statementsRouter,
+  resultsRouter,
+  organiseRouter,
+];

@@ -6,7 +6,8 @@ import type { TestDatabase } from '../../helpers/databases.ts';
  * from information_schema, so a table added later is scanned too.
  */
 export async function allRowsAsText(db: TestDatabase): Promise<string> {
-  const tables = await db.knex('information_schema.tables')
+  const tables = await db
+    .knex('information_schema.tables')
     .whereRaw('table_schema = current_schema()')
     .andWhere('table_type', 'BASE TABLE')
     .pluck('table_name');

@@ -70,9 +70,7 @@ describe.each(engines)('ballot codes: issue, check, revoke [%s]', (engine) => {
     await expect(revokeCode(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, code: a! })).resolves.toBeUndefined();
     // At the cast, withdrawn comes first, so a used-then-withdrawn code answers like a withdrawn unused one.
     await expect(castBallot(s.ctx, { electionId: s.electionId, code: a!, approvals: [] })).rejects.toBeInstanceOf(CodeRevoked);
-    await expect(revokeCode(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, code: foreign! })).rejects.toBeInstanceOf(
-      CodeUnknown,
-    );
+    await expect(revokeCode(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, code: foreign! })).rejects.toBeInstanceOf(CodeUnknown);
     await expect(countTurnout(db.knex, s.electionId)).resolves.toEqual({ ballotsCast: 1, codesIssued: 2, codesRevoked: 2 });
   });
 
@@ -88,23 +86,15 @@ describe.each(engines)('ballot codes: issue, check, revoke [%s]', (engine) => {
   it('guards issuing codes: owner only, 1..100000, not after close, and needs a tally key to cast', async () => {
     const s = await scene(db);
     const stranger = await insertOrganiser(db);
-    await expect(issueCodes(s.ctx, { electionId: s.electionId, organiserId: stranger, count: 1 })).rejects.toBeInstanceOf(
-      ElectionNotFound,
-    );
+    await expect(issueCodes(s.ctx, { electionId: s.electionId, organiserId: stranger, count: 1 })).rejects.toBeInstanceOf(ElectionNotFound);
     for (const count of [0, 100_001, 1.5]) {
-      await expect(issueCodes(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, count })).rejects.toBeInstanceOf(
-        InvalidInput,
-      );
+      await expect(issueCodes(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, count })).rejects.toBeInstanceOf(InvalidInput);
     }
     s.clock.set('2026-06-08T08:00:00Z');
-    await expect(issueCodes(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, count: 1 })).rejects.toBeInstanceOf(
-      ElectionStateConflict,
-    );
+    await expect(issueCodes(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, count: 1 })).rejects.toBeInstanceOf(ElectionStateConflict);
     const keyless = await scene(db, { withKey: false });
     const [c] = (await issueCodes(keyless.ctx, { electionId: keyless.electionId, organiserId: keyless.organiserId, count: 1 })).codes;
-    await expect(castBallot(keyless.ctx, { electionId: keyless.electionId, code: c!, approvals: [] })).rejects.toBeInstanceOf(
-      TallyKeyMissing,
-    );
+    await expect(castBallot(keyless.ctx, { electionId: keyless.electionId, code: c!, approvals: [] })).rejects.toBeInstanceOf(TallyKeyMissing);
     await expect(castBallot(s.ctx, { electionId: 'not-a-uuid', code: c!, approvals: [] })).rejects.toBeInstanceOf(ElectionNotFound);
   });
 

@@ -26,9 +26,7 @@ describe.each(engines)('casting ballots [%s]', (engine) => {
     await expect(checkReceipt(s.ctx, { electionId: s.electionId, receipt: receipt.toLowerCase() })).resolves.toBe(true);
     await expect(checkReceipt(s.ctx, { electionId: s.electionId, receipt: '0000000000' })).resolves.toBe(false);
 
-    await expect(castBallot(s.ctx, { electionId: s.electionId, code: codes[0]!, approvals: [1] })).rejects.toBeInstanceOf(
-      CodeAlreadySpent,
-    );
+    await expect(castBallot(s.ctx, { electionId: s.electionId, code: codes[0]!, approvals: [1] })).rejects.toBeInstanceOf(CodeAlreadySpent);
     await castBallot(s.ctx, { electionId: s.electionId, code: codes[1]!.toLowerCase().replace(/-/g, ' '), approvals: [] });
     const rows = await db.knex('ballots').where({ election_id: s.electionId });
     expect(rows).toHaveLength(2);
@@ -44,7 +42,10 @@ describe.each(engines)('casting ballots [%s]', (engine) => {
     const codes = (await issueCodes(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, count: 1 })).codes;
     const cast = () => castBallot(s.ctx, { electionId: s.electionId, code: codes[0]!, approvals: [] });
     const reason = async (p: Promise<unknown>) => {
-      const e = await p.then(() => null, (x: unknown) => x);
+      const e = await p.then(
+        () => null,
+        (x: unknown) => x,
+      );
       expect(e).toBeInstanceOf(ElectionNotOpen);
       return (e as ElectionNotOpen).reason;
     };
@@ -70,5 +71,4 @@ describe.each(engines)('casting ballots [%s]', (engine) => {
     }
     await castBallot(s.ctx, { electionId: s.electionId, code: c!, approvals: [0, 1, 2, 3, 4] });
   });
-
 });

@@ -39,7 +39,10 @@ describe.each(engines)('no plaintext at rest [%s]', (engine) => {
     await closeAndTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE });
     await publishResult(s.ctx, { electionId: s.electionId, organiserId: s.organiserId });
 
-    const secrets: Array<[string, string | Buffer]> = [['passphrase', PASSPHRASE], ['election secret key', sk]];
+    const secrets: Array<[string, string | Buffer]> = [
+      ['passphrase', PASSPHRASE],
+      ['election secret key', sk],
+    ];
     secrets.push(['code pepper', s.ctx.secrets.codePepper], ['signing seed', s.ctx.secrets.signingSeed]);
     for (const code of codes) {
       const canonical = normaliseCode(code);

@@ -28,7 +28,11 @@ describe.each(engines)('a receipt points to no ballot [%s]', (engine) => {
       const { receipt } = await castBallot(s.ctx, { electionId: s.electionId, code, approvals: [i] });
       hashes.push(receiptHash(s.ctx.secrets.codePepper, s.electionId, receipt).toString('hex'));
     }
-    const linesOf = (text: string, table: string) => text.split('\n').filter((l) => l.startsWith(`${table}: `)).join('\n');
+    const linesOf = (text: string, table: string) =>
+      text
+        .split('\n')
+        .filter((l) => l.startsWith(`${table}: `))
+        .join('\n');
     const check = async () => {
       const text = await allRowsAsText(db);
       // Control: the receipts table does hold each hash, so the scan can see one.

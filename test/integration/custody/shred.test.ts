@@ -41,7 +41,12 @@ describe.each(engines)('shredding [%s]', (engine) => {
     // Control: before shredding, what is stored (wrapped key + passphrase) does open the ballots.
     const sk = await unwrapElectionKey(parseWrappedKey(before.wrapped_key), PASSPHRASE, s.electionId);
     const k = openingKey(toBuffer(before.public_key), sk, s.electionId, 5);
-    expect(sealed.map((c) => openBallot(k, c)).flat().sort()).toEqual([0, 1, 2]);
+    expect(
+      sealed
+        .map((c) => openBallot(k, c))
+        .flat()
+        .sort(),
+    ).toEqual([0, 1, 2]);
 
     const hasWrappedKey = (text: string) => text.split('\n').some((line) => /"ciphertext"/.test(line) && /"salt"/.test(line));
     const beforeText = await allRowsAsText(db);
@@ -96,9 +101,7 @@ describe.each(engines)('shredding [%s]', (engine) => {
     await expect(shredElection(open.ctx, { electionId: open.electionId, organiserId: open.organiserId })).rejects.toBeInstanceOf(
       ElectionStateConflict,
     );
-    await expect(publishResult(open.ctx, { electionId: open.electionId, organiserId: open.organiserId })).rejects.toBeInstanceOf(
-      NotTallied,
-    );
+    await expect(publishResult(open.ctx, { electionId: open.electionId, organiserId: open.organiserId })).rejects.toBeInstanceOf(NotTallied);
     const s = await tallied({ retentionDays: 30 });
     // A drawn result that was never published cannot be shredded (every draw is published).
     await expect(shredElection(s.ctx, { electionId: s.electionId, organiserId: s.organiserId })).rejects.toBeInstanceOf(ResultNotPublished);

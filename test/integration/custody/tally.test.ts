@@ -74,5 +74,4 @@ describe.each(engines)('tally [%s]', (engine) => {
     expect(events.map((e) => e.action)).toEqual(['tally-key-set', 'codes-issued', 'closed', 'tallied']);
     expect(events.map((e) => e.detail)).toEqual([{}, { count: 500 }, {}, {}]);
   });
-
 });

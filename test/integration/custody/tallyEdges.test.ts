@@ -25,18 +25,30 @@ describe.each(engines)('tally edge cases [%s]', (engine) => {
     const secretKey = await unwrapElectionKey(parseWrappedKey(stored.wrapped_key), PASSPHRASE, other.electionId);
     for (const threads of [0, 2]) {
       const t = await countApprovals(db.knex, {
-        electionId: other.electionId, publicKey: toBuffer(stored.public_key), secretKey, optionCount: 5, threads,
+        electionId: other.electionId,
+        publicKey: toBuffer(stored.public_key),
+        secretKey,
+        optionCount: 5,
+        threads,
       });
       expect([t.ballots, t.unreadable]).toEqual([2, 1]);
     }
     other.clock.set('2026-06-09T00:00:00Z');
-    const err = await closeAndTally(other.ctx, { electionId: other.electionId, organiserId: other.organiserId, passphrase: PASSPHRASE })
-      .then(() => null, (e: unknown) => e);
+    const err = await closeAndTally(other.ctx, { electionId: other.electionId, organiserId: other.organiserId, passphrase: PASSPHRASE }).then(
+      () => null,
+      (e: unknown) => e,
+    );
     expect(err).toBeInstanceOf(BallotUnreadable);
     expect([(err as BallotUnreadable).unreadable, (err as BallotUnreadable).examined]).toEqual([1, 2]);
     const after = await electionRow(db, other.electionId);
     // Voting was closed when the tally was queued (its time had passed); the draw rolled back, nothing drawn.
-    expect([after.state, after.result, after.tallied_at, after.tally_failure, after.tally_claim]).toEqual(['closed', null, null, 'BallotUnreadable', null]);
+    expect([after.state, after.result, after.tallied_at, after.tally_failure, after.tally_claim]).toEqual([
+      'closed',
+      null,
+      null,
+      'BallotUnreadable',
+      null,
+    ]);
   });
 
   it('with no ballots draws nothing, and publishes turnout 0 only when asked', async () => {

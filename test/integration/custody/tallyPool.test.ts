@@ -17,7 +17,10 @@ describe('tally worker pool', () => {
       });
       expect(died).toBe(true); // control: the worker really is gone before finish()
       const outcome = await Promise.race([
-        pool.finish(3).then(() => 'resolved', () => 'rejected'),
+        pool.finish(3).then(
+          () => 'resolved',
+          () => 'rejected',
+        ),
         new Promise((resolve) => setTimeout(() => resolve('still waiting'), 3_000)),
       ]);
       expect(outcome).toBe('rejected');

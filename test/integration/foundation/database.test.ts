@@ -48,7 +48,9 @@ describe.each(engines)('migrations and engine differences [%s]', (engine) => {
       const id = crypto.randomUUID();
       await db.knex('organisers').insert({ id, email: 'a@example.org', password_hash: 'x' });
       const eid = crypto.randomUUID();
-      await db.knex('elections').insert({ id: eid, owner_id: id, title: 't', epsilon: '1', opens_at: new Date(), closes_at: new Date(), public_key: bytes });
+      await db
+        .knex('elections')
+        .insert({ id: eid, owner_id: id, title: 't', epsilon: '1', opens_at: new Date(), closes_at: new Date(), public_key: bytes });
       const row = await db.knex('elections').where({ id: eid }).first();
       expect(toBuffer(row.public_key).equals(bytes)).toBe(true);
     } finally {

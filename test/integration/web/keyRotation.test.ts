@@ -59,7 +59,11 @@ describe('veiltally key add', () => {
       expect(first).toMatch(/^[0-9a-f]{64}$/);
       expect((fs.statSync(seedFile).mode & 0o777).toString(8)).toBe('600');
       // An instance starts with the first seed and stores its fingerprint.
-      const secretsWith = (seedHex: string) => ({ sessionSecret: 's'.repeat(40), codePepper: Buffer.alloc(32, 1), signingSeed: Buffer.from(seedHex, 'hex') });
+      const secretsWith = (seedHex: string) => ({
+        sessionSecret: 's'.repeat(40),
+        codePepper: Buffer.alloc(32, 1),
+        signingSeed: Buffer.from(seedHex, 'hex'),
+      });
       let db = openDatabase({ engine: 'pglite', dataDir: dir });
       await checkSecretsAgree(db.knex, secretsWith(first));
       await db.close();

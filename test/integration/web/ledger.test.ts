@@ -10,7 +10,11 @@ import { DAY, useMemberSuite } from '../../helpers/memberSuite.ts';
 import { csrfFrom } from './organiseSupport.ts';
 
 const ledgerRows = (s: ReturnType<typeof useMemberSuite>, groupId: string) =>
-  s.ctx.knex('privacy_ledger').where({ group_id: groupId }).orderBy('id').select('election_id', 'how_voted_epsilon', 'whether_voted_epsilon', 'unprotected');
+  s.ctx
+    .knex('privacy_ledger')
+    .where({ group_id: groupId })
+    .orderBy('id')
+    .select('election_id', 'how_voted_epsilon', 'whether_voted_epsilon', 'unprotected');
 
 describe.each(engines)('the privacy ledger [%s]', (engine) => {
   const s = useMemberSuite(engine);
@@ -40,7 +44,15 @@ describe.each(engines)('the privacy ledger [%s]', (engine) => {
     const first = await s.ctx.knex('statements').where({ election_id: e.id }).first();
     await expect(s.ctx.knex('statements').insert({ ...first, draw_sequence: first.draw_sequence + 1000 })).rejects.toThrow();
     await expect(
-      s.ctx.knex('privacy_ledger').insert({ group_id: e.groupId, election_id: e.id, kind: 'draw', charged_at: new Date(), how_voted_epsilon: '0', whether_voted_epsilon: '0', unprotected: '[]' }),
+      s.ctx.knex('privacy_ledger').insert({
+        group_id: e.groupId,
+        election_id: e.id,
+        kind: 'draw',
+        charged_at: new Date(),
+        how_voted_epsilon: '0',
+        whether_voted_epsilon: '0',
+        unprotected: '[]',
+      }),
     ).rejects.toThrow();
 
     // The public ledger page lists both draws, the withheld one marked, with the 12-month totals,
@@ -64,11 +76,14 @@ describe.each(engines)('the privacy ledger [%s]', (engine) => {
     expect(await ledgerRows(s, e.groupId!)).toEqual(after);
   });
 
-  it('an election reset behind the app\'s back cannot be drawn and signed a second time', async () => {
+  it("an election reset behind the app's back cannot be drawn and signed a second time", async () => {
     const d = await s.decided([[0], [1], [2]], { memberGroup: 'Allotment holders' }, false);
     const before = await s.ctx.knex('statements').where({ election_id: d.f.id }).select('draw_sequence', 'canonical');
     // A database operator puts the election back to "closed" to get another draw.
-    await s.ctx.knex('elections').where({ id: d.f.id }).update({ state: 'closed', result: null, tallied_at: null, ballots_counted: null, result_visible_at: null, publish_due_at: null });
+    await s.ctx
+      .knex('elections')
+      .where({ id: d.f.id })
+      .update({ state: 'closed', result: null, tallied_at: null, ballots_counted: null, result_visible_at: null, publish_due_at: null });
     await expect(tallyFixture(s.ctx, d.f, false)).rejects.toBeInstanceOf(AlreadyTallied);
     expect(await s.ctx.knex('statements').where({ election_id: d.f.id }).select('draw_sequence', 'canonical')).toEqual(before);
     expect(Number((await s.ctx.knex('privacy_ledger').where({ election_id: d.f.id }).count({ n: '*' }).first())!.n)).toBe(1);
@@ -103,7 +118,10 @@ describe.each(engines)('the privacy ledger [%s]', (engine) => {
     // Another group is not affected; and an instance configured to allow it opens with the total on record.
     const other = await createDraft(s.ctx, s.organiserId, { memberGroup: 'Choir', epsilon: '4' });
     await openFixture(s.ctx, other);
-    await openElection({ ...s.ctx, ledgerPolicy: { annualBudget: '10', allowOverBudget: true } }, { electionId: over.id, organiserId: s.organiserId, mode: 'now' });
+    await openElection(
+      { ...s.ctx, ledgerPolicy: { annualBudget: '10', allowOverBudget: true } },
+      { electionId: over.id, organiserId: s.organiserId, mode: 'now' },
+    );
     expect((await findElection(s.ctx.knex, over.id))!.state).toBe('open');
   });
 });

@@ -53,7 +53,9 @@ describe.each(engines)('organiser basics [%s]', (engine) => {
       expect(res.headers.location).toBe('/organise?deleted=1');
       expect(await db.knex('elections').where({ id }).first()).toBeUndefined();
       expect((await agent.get(`/organise/elections/${id}`)).status).toBe(404);
-      expect((await audit('draft-deleted')).map((r) => (typeof r.detail === 'string' ? JSON.parse(r.detail) : r.detail).title)).toContain('Draft to throw away');
+      expect((await audit('draft-deleted')).map((r) => (typeof r.detail === 'string' ? JSON.parse(r.detail) : r.detail).title)).toContain(
+        'Draft to throw away',
+      );
       expect((await agent.get('/organise?deleted=1')).text).toContain('The draft has been deleted');
     });
 
@@ -135,7 +137,11 @@ describe.each(engines)('organiser basics [%s]', (engine) => {
       const id = await openNow();
       const page = `/organise/elections/${id}/wording`;
       expect((await agent.get(page)).text).toContain('only the description can change');
-      const refused = await postForm(agent, page, page, { title: 'A new title', description: 'x', optionDescription: ['', 'Covered, with locks', ''] });
+      const refused = await postForm(agent, page, page, {
+        title: 'A new title',
+        description: 'x',
+        optionDescription: ['', 'Covered, with locks', ''],
+      });
       expect(refused.status).toBe(409);
       expect(refused.text).toContain('only the description can change');
       expect((await db.knex('elections').where({ id }).first('title')).title).toBe('Tenants’ repair fund');
@@ -153,7 +159,11 @@ describe.each(engines)('organiser basics [%s]', (engine) => {
     it('keeps the typed text when a field is too long', async () => {
       const id = await openNow();
       const page = `/organise/elections/${id}/wording`;
-      const res = await postForm(agent, page, page, { title: 'Tenants’ repair fund', description: 'y'.repeat(5001), optionDescription: ['', 'Covered, with locks', ''] });
+      const res = await postForm(agent, page, page, {
+        title: 'Tenants’ repair fund',
+        description: 'y'.repeat(5001),
+        optionDescription: ['', 'Covered, with locks', ''],
+      });
       expect(res.status).toBe(400);
       expect(res.text).toContain('Keep the description to 5000 characters or fewer.');
     });
@@ -187,23 +197,49 @@ describe.each(engines)('organiser basics [%s]', (engine) => {
       const who = await makeOrganiser(ctx, 'treasurer@club.example');
       const a = await signedIn(app, who.email);
       const other = await signedIn(app, who.email); // a second session, which must end
-      const wrong = await postForm(a, '/organise/account', '/organise/account/password', { current: 'not my password', password: 'a brand new password', passwordAgain: 'a brand new password' });
+      const wrong = await postForm(a, '/organise/account', '/organise/account/password', {
+        current: 'not my password',
+        password: 'a brand new password',
+        passwordAgain: 'a brand new password',
+      });
       expect(wrong.status).toBe(400);
       expect(wrong.text).toContain('not your current password');
       expect(wrong.text).not.toContain('a brand new password');
-      const mismatch = await postForm(a, '/organise/account', '/organise/account/password', { current: PASSWORD, password: 'a brand new password', passwordAgain: 'a brand new passwort' });
+      const mismatch = await postForm(a, '/organise/account', '/organise/account/password', {
+        current: PASSWORD,
+        password: 'a brand new password',
+        passwordAgain: 'a brand new passwort',
+      });
       expect(mismatch.status).toBe(400);
       expect(mismatch.text).toContain('not the same');
-      const ok = await postForm(a, '/organise/account', '/organise/account/password', { current: PASSWORD, password: 'a brand new password', passwordAgain: 'a brand new password' });
+      const ok = await postForm(a, '/organise/account', '/organise/account/password', {
+        current: PASSWORD,
+        password: 'a brand new password',
+        passwordAgain: 'a brand new password',
+      });
       expect(ok.status).toBe(303);
       expect((await a.get('/organise')).status).toBe(200); // this session goes on
       expect((await other.get('/organise')).status).toBe(303); // the other one ended
       // The new password signs in, the old one does not.
       const fresh = request.agent(app);
       const token = await csrfFrom(fresh, '/organise/sign-in');
-      expect((await fresh.post('/organise/sign-in').type('form').send(encode({ _csrf: token, email: who.email, password: PASSWORD, next: '' }))).status).toBe(401);
+      expect(
+        (
+          await fresh
+            .post('/organise/sign-in')
+            .type('form')
+            .send(encode({ _csrf: token, email: who.email, password: PASSWORD, next: '' }))
+        ).status,
+      ).toBe(401);
       const token2 = await csrfFrom(fresh, '/organise/sign-in');
-      expect((await fresh.post('/organise/sign-in').type('form').send(encode({ _csrf: token2, email: who.email, password: 'a brand new password', next: '' }))).status).toBe(303);
+      expect(
+        (
+          await fresh
+            .post('/organise/sign-in')
+            .type('form')
+            .send(encode({ _csrf: token2, email: who.email, password: 'a brand new password', next: '' }))
+        ).status,
+      ).toBe(303);
       expect((await audit('password-changed')).length).toBe(1);
     });
 
@@ -239,7 +275,11 @@ describe.each(engines)('organiser basics [%s]', (engine) => {
       expect(self.text).toContain('cannot remove your own account');
       expect((await audit('organiser-removed')).length).toBe(1);
       // Adding the same email again brings the account back with the new password.
-      const again = await postForm(agent, '/organise/organisers', '/organise/organisers', { email: 'bosun@club.example', password: PASSWORD, passwordAgain: PASSWORD });
+      const again = await postForm(agent, '/organise/organisers', '/organise/organisers', {
+        email: 'bosun@club.example',
+        password: PASSWORD,
+        passwordAgain: PASSWORD,
+      });
       expect(again.status).toBe(303);
       await signedIn(app, who.email);
     });

@@ -106,7 +106,10 @@ describe.each(engines)('organiser ballot codes [%s]', (engine) => {
     const three = await issue({ count: '3', format: 'csv' });
     const b3 = /name="batch" value="([A-Za-z0-9_-]{43})"/.exec(three.text)![1]!;
     const res = await postForm(agent, page(), `${page()}/csv`, { batch: b3, count: '3' });
-    csvCodes = res.text.split('\r\n').slice(1, 4).map((l) => l.split(',')[0]!);
+    csvCodes = res.text
+      .split('\r\n')
+      .slice(1, 4)
+      .map((l) => l.split(',')[0]!);
     // Stored only as keyed hashes: each issued code's hash is present, the code itself nowhere.
     const stored = await db.knex('ballot_codes').where({ election_id: id }).select('code_hash');
     expect(stored).toHaveLength(3);

@@ -37,7 +37,12 @@ describe.each(engines)('organiser drafts: edit, ownership, CSRF [%s]', (engine) 
       expect(page.text).toContain('value="2026-06-10T09:00"');
       expect(page.text).toContain('value="Choir programme"');
       expect(page.text).not.toContain('name="passphrase"');
-      const res = await postForm(agent, `/organise/elections/${id}/edit`, `/organise/elections/${id}/edit`, electionForm({ title: 'Choir programme 2026', optionLabel: ['Bach', 'Brahms', 'Britten'], optionDescription: ['', '', ''], seats: '2' }));
+      const res = await postForm(
+        agent,
+        `/organise/elections/${id}/edit`,
+        `/organise/elections/${id}/edit`,
+        electionForm({ title: 'Choir programme 2026', optionLabel: ['Bach', 'Brahms', 'Britten'], optionDescription: ['', '', ''], seats: '2' }),
+      );
       expect(res.status).toBe(303);
       expect(res.headers.location).toBe(`/organise/elections/${id}`);
       const e = (await findElection(db.knex, id))!;
@@ -65,9 +70,15 @@ describe.each(engines)('organiser drafts: edit, ownership, CSRF [%s]', (engine) 
         expect((await other.get(path)).status).toBe(404);
       }
       const token = await csrfFrom(other, '/organise');
-      const res = await other.post(`/organise/elections/${id}/edit`).type('form').send(encode({ ...electionForm({ title: 'Hijacked' }), _csrf: token }));
+      const res = await other
+        .post(`/organise/elections/${id}/edit`)
+        .type('form')
+        .send(encode({ ...electionForm({ title: 'Hijacked' }), _csrf: token }));
       expect(res.status).toBe(404);
-      const g = await other.post(`/organise/elections/${id}/guidance`).type('form').send(encode({ ...electionForm(), _csrf: token }));
+      const g = await other
+        .post(`/organise/elections/${id}/guidance`)
+        .type('form')
+        .send(encode({ ...electionForm(), _csrf: token }));
       expect(g.status).toBe(404);
       expect((await findElection(db.knex, id))!.title).toBe('Choir programme 2026');
       expect((await other.get('/organise')).text).not.toContain(id);
@@ -79,9 +90,15 @@ describe.each(engines)('organiser drafts: edit, ownership, CSRF [%s]', (engine) 
     });
 
     it('saving without a CSRF token is refused', async () => {
-      const res = await agent.post(`/organise/elections/${id}/edit`).type('form').send(encode(electionForm({ title: 'No token' })));
+      const res = await agent
+        .post(`/organise/elections/${id}/edit`)
+        .type('form')
+        .send(encode(electionForm({ title: 'No token' })));
       expect(res.status).toBe(403);
-      const forged = await agent.post(`/organise/elections/${id}/edit`).type('form').send(encode({ ...electionForm({ title: 'Forged token' }), _csrf: 'f'.repeat(128) }));
+      const forged = await agent
+        .post(`/organise/elections/${id}/edit`)
+        .type('form')
+        .send(encode({ ...electionForm({ title: 'Forged token' }), _csrf: 'f'.repeat(128) }));
       expect(forged.status).toBe(403);
       expect(forged.text).toContain('not sent by this site');
       expect((await findElection(db.knex, id))!.title).toBe('Choir programme 2026');
@@ -89,7 +106,11 @@ describe.each(engines)('organiser drafts: edit, ownership, CSRF [%s]', (engine) 
 
     it('a cross-site form post is refused even with a token', async () => {
       const token = await csrfFrom(agent, `/organise/elections/${id}/edit`);
-      const res = await agent.post(`/organise/elections/${id}/edit`).set('Sec-Fetch-Site', 'cross-site').type('form').send(encode({ ...electionForm({ title: 'Cross' }), _csrf: token }));
+      const res = await agent
+        .post(`/organise/elections/${id}/edit`)
+        .set('Sec-Fetch-Site', 'cross-site')
+        .type('form')
+        .send(encode({ ...electionForm({ title: 'Cross' }), _csrf: token }));
       expect(res.status).toBe(403);
     });
   });

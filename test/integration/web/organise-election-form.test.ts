@@ -5,7 +5,17 @@ import { engines, freshDatabase, type TestDatabase } from '../../helpers/databas
 import { testApp } from '../../helpers/app.ts';
 import { testClock } from '../../helpers/context.ts';
 import { findElection } from '../../../src/elections/electionRepo.ts';
-import { createElectionViaForm, csrfFrom, electionForm, encode, makeOrganiser, organiseContext, PASSPHRASE, postForm, signedIn } from './organiseSupport.ts';
+import {
+  createElectionViaForm,
+  csrfFrom,
+  electionForm,
+  encode,
+  makeOrganiser,
+  organiseContext,
+  PASSPHRASE,
+  postForm,
+  signedIn,
+} from './organiseSupport.ts';
 
 describe.each(engines)('organiser election form: create and guidance [%s]', (engine) => {
   let db: TestDatabase;
@@ -25,7 +35,8 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     await db.dispose();
   });
 
-  const create = (overrides: Record<string, string | string[]> = {}) => postForm(agent, '/organise/elections/new', '/organise/elections/new', electionForm(overrides));
+  const create = (overrides: Record<string, string | string[]> = {}) =>
+    postForm(agent, '/organise/elections/new', '/organise/elections/new', electionForm(overrides));
 
   it('without a session every page redirects to sign-in with the wanted path', async () => {
     for (const path of ['/organise', '/organise/elections/new', '/organise/elections/00000000-0000-4000-8000-000000000000/edit']) {
@@ -84,7 +95,7 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
   it.each([
     [{ title: '' }, 'title', 'Give the election a title'],
     [{ optionLabel: ['Heron', '', '', ''], optionDescription: ['', '', '', ''] }, 'options', 'at least 2 options'],
-    [{ optionLabel: ['Heron', ' heron ', 'Otter'] , optionDescription: ['', '', ''] }, 'option-2-label', 'repeats option 1'],
+    [{ optionLabel: ['Heron', ' heron ', 'Otter'], optionDescription: ['', '', ''] }, 'option-2-label', 'repeats option 1'],
     [{ optionLabel: ['Heron', 'x'.repeat(121)], optionDescription: ['', ''] }, 'option-2-label', '120 characters'],
     [{ optionLabel: ['Heron', '', 'Otter'], optionDescription: ['', 'only a description', ''] }, 'option-2-label', 'Give this option a label'],
     [{ seats: '3' }, 'seats', 'at most 2 seats'],
@@ -123,7 +134,13 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
   });
 
   it('stores the expert neighbour relation, a published turnout and a retention period', async () => {
-    const id = await createElectionViaForm(agent, { neighbour: 'add-remove', publishTurnout: 'yes', retention: 'keep', retentionDays: '14', timeZone: 'America/New_York' });
+    const id = await createElectionViaForm(agent, {
+      neighbour: 'add-remove',
+      publishTurnout: 'yes',
+      retention: 'keep',
+      retentionDays: '14',
+      timeZone: 'America/New_York',
+    });
     const e = (await findElection(db.knex, id))!;
     expect(e).toMatchObject({ neighbour: 'add-remove', publishTurnout: true, retentionDays: 14, timeZone: 'America/New_York' });
     // New York is EDT (UTC−4) in June (tzdata `northamerica`, Rule US 2007 max Mar Sun>=8).
@@ -144,7 +161,10 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
   describe('guidance', () => {
     it('re-renders the new form with the numbers, keeping every value but the passphrase', async () => {
       const token = await csrfFrom(agent, '/organise/elections/new');
-      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', expectedVoters: '12' }), _csrf: token }));
+      const res = await agent
+        .post('/organise/elections/new/guidance')
+        .type('form')
+        .send(encode({ ...electionForm({ intent: 'guidance', expectedVoters: '12' }), _csrf: token }));
       expect(res.status).toBe(200);
       expect(res.text).toContain('value="Kingfisher"');
       expect(res.text).toContain('A fast river bird');
@@ -164,7 +184,10 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
 
     it('says in numbers how a tiny electorate with a small ε plays out, instead of calling it a lottery', async () => {
       const token = await csrfFrom(agent, '/organise/elections/new');
-      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', epsilon: '0.1', expectedVoters: '10' }), _csrf: token }));
+      const res = await agent
+        .post('/organise/elections/new/guidance')
+        .type('form')
+        .send(encode({ ...electionForm({ intent: 'guidance', epsilon: '0.1', expectedVoters: '10' }), _csrf: token }));
       expect(res.text).not.toMatch(/lottery\./i);
       expect(res.text).toContain('Even a unanimous favourite may not be drawn');
       // 3 options, ε = 0.1, replace-one: a = 0.05. Exponential mechanism (Dwork & Roth 2014, Def. 3.4) with scores
@@ -176,11 +199,17 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
 
     it('warns in plain words when ε is above 3, and says which number', async () => {
       const token = await csrfFrom(agent, '/organise/elections/new');
-      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', epsilon: '4' }), _csrf: token }));
+      const res = await agent
+        .post('/organise/elections/new/guidance')
+        .type('form')
+        .send(encode({ ...electionForm({ intent: 'guidance', epsilon: '4' }), _csrf: token }));
       expect(res.text).toContain('Weak privacy protection');
       // e^4 = 54.598…, shown as about 55.
       expect(res.text).toContain('up to about 55 times more or less likely');
-      const fine = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', epsilon: '3' }), _csrf: token }));
+      const fine = await agent
+        .post('/organise/elections/new/guidance')
+        .type('form')
+        .send(encode({ ...electionForm({ intent: 'guidance', epsilon: '3' }), _csrf: token }));
       expect(fine.text).not.toContain('Weak privacy protection');
     });
 
@@ -189,11 +218,22 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
       expect(page.text).toMatch(/formaction="\/organise\/elections\/new\/guidance#guidance"/);
       expect(page.text).toContain('id="guidance"');
       expect(page.text).not.toContain('id="passphrase-again-note"');
-      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance' }), _csrf: await csrfFrom(agent, '/organise/elections/new') }));
+      const res = await agent
+        .post('/organise/elections/new/guidance')
+        .type('form')
+        .send(encode({ ...electionForm({ intent: 'guidance' }), _csrf: await csrfFrom(agent, '/organise/elections/new') }));
       expect(res.text).toContain('id="passphrase-again-note"');
       expect(res.text).toContain('Type the passphrase again');
       expect(res.text).not.toContain(PASSPHRASE);
-      const empty = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'guidance', passphrase: '', passphraseAgain: '' }), _csrf: await csrfFrom(agent, '/organise/elections/new') }));
+      const empty = await agent
+        .post('/organise/elections/new/guidance')
+        .type('form')
+        .send(
+          encode({
+            ...electionForm({ intent: 'guidance', passphrase: '', passphraseAgain: '' }),
+            _csrf: await csrfFrom(agent, '/organise/elections/new'),
+          }),
+        );
       expect(empty.text).not.toContain('id="passphrase-again-note"');
     });
 
@@ -207,7 +247,10 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     it('adds option rows without saving anything', async () => {
       const before = Number((await db.knex('elections').count({ n: '*' }).first())!.n);
       const token = await csrfFrom(agent, '/organise/elections/new');
-      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode({ ...electionForm({ intent: 'more-rows-5' }), _csrf: token }));
+      const res = await agent
+        .post('/organise/elections/new/guidance')
+        .type('form')
+        .send(encode({ ...electionForm({ intent: 'more-rows-5' }), _csrf: token }));
       expect(res.status).toBe(200);
       expect(res.text).toContain('id="option-9-label"');
       expect(res.text).not.toContain('id="option-10-label"');
@@ -215,7 +258,10 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     });
 
     it('needs a CSRF token', async () => {
-      const res = await agent.post('/organise/elections/new/guidance').type('form').send(encode(electionForm({ intent: 'guidance' })));
+      const res = await agent
+        .post('/organise/elections/new/guidance')
+        .type('form')
+        .send(encode(electionForm({ intent: 'guidance' })));
       expect(res.status).toBe(403);
     });
   });

@@ -36,7 +36,10 @@ describe.each(engines)('organiser first run [%s]', (engine) => {
     it('refuses a missing CSRF token with 403', async () => {
       const agent = request.agent(app);
       await agent.get('/organise/first-run');
-      const res = await agent.post('/organise/first-run').type('form').send({ email: 'cox@rowing.example', password: PASSWORD, passwordAgain: PASSWORD });
+      const res = await agent
+        .post('/organise/first-run')
+        .type('form')
+        .send({ email: 'cox@rowing.example', password: PASSWORD, passwordAgain: PASSWORD });
       expect(res.status).toBe(403);
       expect(await db.knex('organisers').count({ n: '*' }).first()).toMatchObject({ n: expect.anything() });
       expect(Number((await db.knex('organisers').count({ n: '*' }).first())!.n)).toBe(0);
@@ -45,7 +48,10 @@ describe.each(engines)('organiser first run [%s]', (engine) => {
     it('refuses an invalid CSRF token with 403', async () => {
       const agent = request.agent(app);
       await agent.get('/organise/first-run');
-      const res = await agent.post('/organise/first-run').type('form').send({ _csrf: 'forged', email: 'cox@rowing.example', password: PASSWORD, passwordAgain: PASSWORD });
+      const res = await agent
+        .post('/organise/first-run')
+        .type('form')
+        .send({ _csrf: 'forged', email: 'cox@rowing.example', password: PASSWORD, passwordAgain: PASSWORD });
       expect(res.status).toBe(403);
     });
 
@@ -56,7 +62,10 @@ describe.each(engines)('organiser first run [%s]', (engine) => {
     ])('re-renders with a message by the field for %j', async (fields, field, message) => {
       const agent = request.agent(app);
       const token = await csrfFrom(agent, '/organise/first-run');
-      const res = await agent.post('/organise/first-run').type('form').send({ ...fields, _csrf: token });
+      const res = await agent
+        .post('/organise/first-run')
+        .type('form')
+        .send({ ...fields, _csrf: token });
       expect(res.status).toBe(400);
       expect(res.text).toContain('role="alert"');
       expect(res.text).toContain(`id="${field}-error"`);
@@ -97,7 +106,10 @@ describe.each(engines)('organiser first run [%s]', (engine) => {
     const token = await csrfFrom(agent, '/organise/sign-in');
     const statuses: number[] = [];
     for (let i = 0; i < 11; i++) {
-      const res = await agent.post('/organise/sign-in').type('form').send({ _csrf: token, email: 'nobody@rowing.example', password: 'wrong password here' });
+      const res = await agent
+        .post('/organise/sign-in')
+        .type('form')
+        .send({ _csrf: token, email: 'nobody@rowing.example', password: 'wrong password here' });
       statuses.push(res.status);
     }
     expect(statuses.slice(0, 10).every((s) => s === 401)).toBe(true);

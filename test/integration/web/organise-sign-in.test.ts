@@ -40,7 +40,10 @@ describe.each(engines)('organiser sign-in, sign-out and accounts [%s]', (engine)
       const form = await agent.get('/organise/sign-in?next=%2Forganise%2Forganisers');
       const before = String(form.headers['set-cookie']).split(';')[0];
       expect(form.text).toContain('name="next" value="/organise/organisers"');
-      const res = await agent.post('/organise/sign-in').type('form').send({ _csrf: tokenIn(form.text), email: await email(), password: PASSWORD, next: '/organise/organisers' });
+      const res = await agent
+        .post('/organise/sign-in')
+        .type('form')
+        .send({ _csrf: tokenIn(form.text), email: await email(), password: PASSWORD, next: '/organise/organisers' });
       expect(res.status).toBe(303);
       expect(res.headers.location).toBe('/organise/organisers');
       const cookie = String(res.headers['set-cookie']);
@@ -55,7 +58,10 @@ describe.each(engines)('organiser sign-in, sign-out and accounts [%s]', (engine)
     it('ignores an unsafe next on sign-in', async () => {
       const agent = request.agent(app);
       const token = await csrfFrom(agent, '/organise/sign-in');
-      const res = await agent.post('/organise/sign-in').type('form').send({ _csrf: token, email: await email(), password: PASSWORD, next: '//evil.example/x' });
+      const res = await agent
+        .post('/organise/sign-in')
+        .type('form')
+        .send({ _csrf: token, email: await email(), password: PASSWORD, next: '//evil.example/x' });
       expect(res.headers.location).toBe('/organise');
     });
 
@@ -67,7 +73,10 @@ describe.each(engines)('organiser sign-in, sign-out and accounts [%s]', (engine)
       ]) {
         const agent = request.agent(app);
         const token = await csrfFrom(agent, '/organise/sign-in');
-        const res = await agent.post('/organise/sign-in').type('form').send({ ...fields, _csrf: token });
+        const res = await agent
+          .post('/organise/sign-in')
+          .type('form')
+          .send({ ...fields, _csrf: token });
         expect(res.status).toBe(401);
         expect(res.headers['set-cookie'] ?? []).not.toContain('organiserId');
         messages.push(/<h2>Sign-in failed<\/h2>\s*<p>([^<]+)<\/p>/.exec(res.text)![1]!);
@@ -105,11 +114,17 @@ describe.each(engines)('organiser sign-in, sign-out and accounts [%s]', (engine)
     it('sets a 30-minute idle expiry on the cookie and the stored session', async () => {
       const agent = request.agent(app);
       const token = await csrfFrom(agent, '/organise/sign-in');
-      const res = await agent.post('/organise/sign-in').type('form').send({ _csrf: token, email: await email(), password: PASSWORD });
+      const res = await agent
+        .post('/organise/sign-in')
+        .type('form')
+        .send({ _csrf: token, email: await email(), password: PASSWORD });
       const expires = new Date(/Expires=([^;]+)/.exec(String(res.headers['set-cookie']))![1]!);
       // OWASP ASVS 5.0 §7.3.1: idle timeout; ours is 30 minutes.
       expect(Math.abs(expires.getTime() - Date.now() - 30 * 60_000)).toBeLessThan(60_000);
-      const row = await db.knex('sessions').where({ sid_hash: sessionKey(res.headers['set-cookie']) }).first();
+      const row = await db
+        .knex('sessions')
+        .where({ sid_hash: sessionKey(res.headers['set-cookie']) })
+        .first();
       expect(row).toBeTruthy();
       // The stored expiry follows the injected clock: 29 quiet minutes keep it, 31 end it.
       clock.advance(29 * 60_000);
@@ -121,7 +136,10 @@ describe.each(engines)('organiser sign-in, sign-out and accounts [%s]', (engine)
     it('records when the session started, and ends it after 12 hours in all', async () => {
       const agent = request.agent(app);
       const token = await csrfFrom(agent, '/organise/sign-in');
-      const res = await agent.post('/organise/sign-in').type('form').send({ _csrf: token, email: await email(), password: PASSWORD });
+      const res = await agent
+        .post('/organise/sign-in')
+        .type('form')
+        .send({ _csrf: token, email: await email(), password: PASSWORD });
       const key = sessionKey(res.headers['set-cookie']);
       const row = await db.knex('sessions').where({ sid_hash: key }).first();
       const data = typeof row.data === 'string' ? JSON.parse(row.data) : row.data;
@@ -141,7 +159,10 @@ describe.each(engines)('organiser sign-in, sign-out and accounts [%s]', (engine)
       const first = (await db.knex('organisers').first('email')).email as string;
       const agent = await signedIn(app, first);
       const token = await csrfFrom(agent, '/organise/organisers');
-      const res = await agent.post('/organise/organisers').type('form').send(encode({ _csrf: token, email: ' Coach@Rowing.example ', password: PASSWORD, passwordAgain: PASSWORD }));
+      const res = await agent
+        .post('/organise/organisers')
+        .type('form')
+        .send(encode({ _csrf: token, email: ' Coach@Rowing.example ', password: PASSWORD, passwordAgain: PASSWORD }));
       expect(res.status).toBe(303);
       expect(res.headers.location).toBe('/organise/organisers?added=1');
       const list = await agent.get('/organise/organisers?added=1');
@@ -150,12 +171,18 @@ describe.each(engines)('organiser sign-in, sign-out and accounts [%s]', (engine)
       await signedIn(app, 'COACH@rowing.example');
 
       const token2 = await csrfFrom(agent, '/organise/organisers');
-      const dup = await agent.post('/organise/organisers').type('form').send({ _csrf: token2, email: 'coach@rowing.example', password: PASSWORD, passwordAgain: PASSWORD });
+      const dup = await agent
+        .post('/organise/organisers')
+        .type('form')
+        .send({ _csrf: token2, email: 'coach@rowing.example', password: PASSWORD, passwordAgain: PASSWORD });
       expect(dup.status).toBe(409);
       expect(dup.text).toContain('already an organiser with that email');
 
       const token3 = await csrfFrom(agent, '/organise/organisers');
-      const bad = await agent.post('/organise/organisers').type('form').send({ _csrf: token3, email: 'cox@rowing.example', password: 'short', passwordAgain: 'short' });
+      const bad = await agent
+        .post('/organise/organisers')
+        .type('form')
+        .send({ _csrf: token3, email: 'cox@rowing.example', password: 'short', passwordAgain: 'short' });
       expect(bad.status).toBe(400);
       expect(bad.text).toContain('id="password-error"');
       expect(await db.knex('audit_events').where({ action: 'organiser-added' }).count({ n: '*' }).first()).toMatchObject({});
@@ -166,7 +193,10 @@ describe.each(engines)('organiser sign-in, sign-out and accounts [%s]', (engine)
       expect(anon.status).toBe(303);
       const first = (await db.knex('organisers').first('email')).email as string;
       const agent = await signedIn(app, first);
-      const res = await agent.post('/organise/organisers').type('form').send({ email: 'x@rowing.example', password: PASSWORD, passwordAgain: PASSWORD });
+      const res = await agent
+        .post('/organise/organisers')
+        .type('form')
+        .send({ email: 'x@rowing.example', password: PASSWORD, passwordAgain: PASSWORD });
       expect(res.status).toBe(403);
     });
   });

@@ -44,12 +44,15 @@ describe.each(engines)('organiser close, tally and publish [%s]', (engine) => {
     let codes: string[];
     beforeAll(async () => {
       await at('2026-06-01T09:00:00Z');
-      id = await draftElection(ctx, me.id, { seats: 2, options: [
-        { label: 'Roof over stair B', description: '' },
-        { label: 'Bike shed', description: '' },
-        { label: 'Laundry room dryers', description: '' },
-        { label: 'Garden benches', description: '' },
-      ] });
+      id = await draftElection(ctx, me.id, {
+        seats: 2,
+        options: [
+          { label: 'Roof over stair B', description: '' },
+          { label: 'Bike shed', description: '' },
+          { label: 'Laundry room dryers', description: '' },
+          { label: 'Garden benches', description: '' },
+        ],
+      });
       ({ codes } = await issueCodes(ctx, { electionId: id, organiserId: me.id, count: 5 }));
       await post(id, 'open', { mode: 'schedule' });
       await at('2026-06-10T12:00:00Z');
@@ -155,7 +158,15 @@ describe.each(engines)('organiser close, tally and publish [%s]', (engine) => {
       const dash = await agent.get(path(id));
       expect(dash.text).toContain('Published');
       expect(dash.text).toContain(`href="/results/${id}"`);
-      for (const what of ['Created the election', 'Issued 5 ballot codes', 'Locked the settings', 'Closed voting early', 'Unlocked the tally and drew the result', 'Published the result', 'Shredded the election key']) {
+      for (const what of [
+        'Created the election',
+        'Issued 5 ballot codes',
+        'Locked the settings',
+        'Closed voting early',
+        'Unlocked the tally and drew the result',
+        'Published the result',
+        'Shredded the election key',
+      ]) {
         expect(dash.text).toContain(what);
       }
       expect(dash.text).toContain('secretary@tenants.example');
@@ -167,7 +178,10 @@ describe.each(engines)('organiser close, tally and publish [%s]', (engine) => {
       for (const step of ['open', 'close', 'tally', 'publish']) expect((await other.get(path(id, step))).status).toBe(404);
       const token = await csrfFrom(other, '/organise');
       for (const step of ['open', 'close', 'tally', 'publish']) {
-        const res = await other.post(path(id, step)).type('form').send(encode({ _csrf: token, mode: 'now', passphrase: PASSPHRASE, confirm: 'yes' }));
+        const res = await other
+          .post(path(id, step))
+          .type('form')
+          .send(encode({ _csrf: token, mode: 'now', passphrase: PASSPHRASE, confirm: 'yes' }));
         expect(res.status).toBe(404);
       }
     });
@@ -208,7 +222,8 @@ describe.each(engines)('organiser close, tally and publish [%s]', (engine) => {
     // A fresh app has a fresh limiter; sessions live in the database, so signing in there works the same.
     const fresh = await signedIn(testApp(ctx), me.email);
     const statuses: number[] = [];
-    for (let i = 0; i < 11; i++) statuses.push((await postForm(fresh, path(id), path(id, 'tally'), { passphrase: `wrong passphrase number ${i}` })).status);
+    for (let i = 0; i < 11; i++)
+      statuses.push((await postForm(fresh, path(id), path(id, 'tally'), { passphrase: `wrong passphrase number ${i}` })).status);
     expect(statuses.slice(0, 10)).toEqual(Array(10).fill(403));
     expect(statuses[10]).toBe(429);
   });

@@ -54,7 +54,10 @@ export async function signedIn(app: Express, email: string): Promise<Agent> {
 /** POSTs a form with a fresh token read from `formPage`. */
 export async function postForm(agent: Agent, formPage: string, action: string, fields: Record<string, string | string[]>) {
   const token = await csrfFrom(agent, formPage);
-  return agent.post(action).type('form').send(encode({ ...fields, _csrf: token }));
+  return agent
+    .post(action)
+    .type('form')
+    .send(encode({ ...fields, _csrf: token }));
 }
 
 /** urlencoded with repeated names for arrays, as a browser sends them. */
@@ -92,7 +95,7 @@ export function electionForm(overrides: Record<string, string | string[]> = {}):
 export async function createElectionViaForm(agent: Agent, overrides: Record<string, string | string[]> = {}): Promise<string> {
   const res = await postForm(agent, '/organise/elections/new', '/organise/elections/new', electionForm(overrides));
   if (res.status !== 303) throw new Error(`creating the election gave ${res.status}: ${res.text.slice(0, 2000)}`);
-  return /\/organise\/elections\/([0-9a-f-]{36})$/.exec(res.headers.location ?? "")![1]!;
+  return /\/organise\/elections\/([0-9a-f-]{36})$/.exec(res.headers.location ?? '')![1]!;
 }
 
 /** A draft made straight through the use-case, for suites that test later steps. */

@@ -53,10 +53,24 @@ describe.each(engines)('no page shows a count per option [%s]', (engine) => {
     const published = (await agent.get(`/results/${f.id}`).expect(200)).text;
     pages.push(published);
     const csrf = csrfFrom(published);
-    const checked = (await agent.post(`/results/${f.id}/receipt`).type('form').send(formBody({ _csrf: csrf, receipt: receipts[5]! })).expect(200)).text;
+    const checked = (
+      await agent
+        .post(`/results/${f.id}/receipt`)
+        .type('form')
+        .send(formBody({ _csrf: csrf, receipt: receipts[5]! }))
+        .expect(200)
+    ).text;
     expect(checked).toContain(`name="receipt" class="code receipt-input" value="${receipts[5]}"`); // the echo digitRuns leaves out
     pages.push(checked);
-    pages.push((await agent.post(`/vote/${f.id}/ballot`).type('form').send(formBody({ _csrf: csrf, code: f.codes[0]! })).expect(409)).text);
+    pages.push(
+      (
+        await agent
+          .post(`/vote/${f.id}/ballot`)
+          .type('form')
+          .send(formBody({ _csrf: csrf, code: f.codes[0]! }))
+          .expect(409)
+      ).text,
+    );
 
     for (const html of pages) {
       const runs = digitRuns(html, f.id);

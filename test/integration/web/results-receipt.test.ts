@@ -16,12 +16,18 @@ describe.each(engines)('receipt check [%s]', (engine) => {
   }
   /** The page minus the answer and the echoed receipt: what is left must not depend on the receipt. */
   const rest = (html: string) =>
-    html.replace(/<p class="notice [^"]*receipt-outcome"[^>]*>[^<]*<\/p>/, '').replace(/name="receipt" class="([^"]*)" value="[^"]*"/, 'name="receipt" class="$1"');
+    html
+      .replace(/<p class="notice [^"]*receipt-outcome"[^>]*>[^<]*<\/p>/, '')
+      .replace(/name="receipt" class="([^"]*)" value="[^"]*"/, 'name="receipt" class="$1"');
 
   it('says only "counted" or "not found", and no-store', async () => {
     const { f, receipts } = await s.decided([[0], [2]]);
     const { agent, csrf } = await withCsrf(f.id);
-    const check = (receipt: string) => agent.post(`/results/${f.id}/receipt`).type('form').send(formBody({ _csrf: csrf, receipt }));
+    const check = (receipt: string) =>
+      agent
+        .post(`/results/${f.id}/receipt`)
+        .type('form')
+        .send(formBody({ _csrf: csrf, receipt }));
     const found = await check(receipts[0]!).expect(200);
     expect(found.headers['cache-control']).toBe('no-store');
     expect(found.text).toContain('This receipt is among the ballots counted.');
@@ -47,7 +53,11 @@ describe.each(engines)('receipt check [%s]', (engine) => {
     const agent = request.agent(s.app);
     // The pending page has no receipt form, so take this session's token from a page that has a form.
     const token = csrfFrom((await agent.get(`/vote/${f.id}`).expect(200)).text);
-    const res = await agent.post(`/results/${f.id}/receipt`).type('form').send(formBody({ _csrf: token, receipt: receipt! })).expect(409);
+    const res = await agent
+      .post(`/results/${f.id}/receipt`)
+      .type('form')
+      .send(formBody({ _csrf: token, receipt: receipt! }))
+      .expect(409);
     expect(res.text).toContain('Receipts can be checked here once the result is published.');
     expect(res.text).not.toContain('This receipt is among the ballots counted');
   });
@@ -55,7 +65,15 @@ describe.each(engines)('receipt check [%s]', (engine) => {
   it('refuses a missing or invalid CSRF token (403)', async () => {
     const { f, receipts } = await s.decided([[0]]);
     const { agent, csrf } = await withCsrf(f.id);
-    await agent.post(`/results/${f.id}/receipt`).type('form').send(formBody({ receipt: receipts[0]! })).expect(403);
-    await agent.post(`/results/${f.id}/receipt`).type('form').send(formBody({ _csrf: `${csrf}x`, receipt: receipts[0]! })).expect(403);
+    await agent
+      .post(`/results/${f.id}/receipt`)
+      .type('form')
+      .send(formBody({ receipt: receipts[0]! }))
+      .expect(403);
+    await agent
+      .post(`/results/${f.id}/receipt`)
+      .type('form')
+      .send(formBody({ _csrf: `${csrf}x`, receipt: receipts[0]! }))
+      .expect(403);
   });
 });

@@ -44,10 +44,17 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     const text = describeStatement(statement);
     expect(winners).toHaveLength(1);
     // The announcement comes first: the one winner, large, before anything else is said.
-    expect(html).toMatch(new RegExp(`<h2 id="winners-heading">The winner</h2>\\s*<ol class="announce-winners">\\s*<li><span class="announce-name">${winners[0]}</span></li>\\s*</ol>`));
+    expect(html).toMatch(
+      new RegExp(
+        `<h2 id="winners-heading">The winner</h2>\\s*<ol class="announce-winners">\\s*<li><span class="announce-name">${winners[0]}</span></li>\\s*</ol>`,
+      ),
+    );
     expect(html.indexOf('announce-winners')).toBeLessThan(html.indexOf('id="options-heading"'));
     // Every option on the ballot, in ballot order, the winner marked.
-    const listed = [...html.matchAll(/<li( class="is-drawn")?><span>([^<]+)<\/span> <span class="option-mark">([^<]+)<\/span><\/li>/g)].map((m) => [m[2], m[3]]);
+    const listed = [...html.matchAll(/<li( class="is-drawn")?><span>([^<]+)<\/span> <span class="option-mark">([^<]+)<\/span><\/li>/g)].map((m) => [
+      m[2],
+      m[3],
+    ]);
     expect(listed).toEqual(f.options.map((o) => [o.label, o.label === winners[0] ? 'Drawn' : 'Not drawn']));
     // The caution once, the statement's paragraphs folded away under <details>.
     expect(html.split(escapeHtml(text.caution)).length - 1).toBe(1);
@@ -61,7 +68,11 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     expect(html).toMatch(/<dt>Options on the ballot<\/dt>\s*<dd>4<\/dd>/);
     expect(html).toContain('Replace one ballot.');
     // The statement says what each party could learn, separately.
-    for (const heading of ['What other members can learn about you', 'What anyone can learn from the published result', 'What the organiser can learn']) {
+    for (const heading of [
+      'What other members can learn about you',
+      'What anyone can learn from the published result',
+      'What the organiser can learn',
+    ]) {
       expect(html).toContain(heading);
     }
     expect(html).toContain('never how many ballots were cast');
@@ -78,11 +89,21 @@ describe.each(engines)('public result pages [%s]', (engine) => {
   });
 
   it('several seats are listed in the order drawn', async () => {
-    const { f, winners } = await s.decided([[0, 1, 2], [1, 2], [2, 3]], { seats: 3, neighbour: 'add-remove' });
+    const { f, winners } = await s.decided(
+      [
+        [0, 1, 2],
+        [1, 2],
+        [2, 3],
+      ],
+      { seats: 3, neighbour: 'add-remove' },
+    );
     const html = (await request(s.app).get(`/results/${f.id}`).expect(200)).text;
     expect(html).toContain('The 3 options drawn, in draw order');
     expect(html).toContain('This order is not a ranking');
-    const listed = [...html.matchAll(/<span class="announce-order">Drawn (\w+)<\/span> <span class="announce-name">([^<]+)<\/span>/g)].map((m) => [m[1], m[2]]);
+    const listed = [...html.matchAll(/<span class="announce-order">Drawn (\w+)<\/span> <span class="announce-name">([^<]+)<\/span>/g)].map((m) => [
+      m[1],
+      m[2],
+    ]);
     expect(listed).toEqual(winners.map((w, i) => [['1st', '2nd', '3rd'][i], w]));
     expect(html).toContain('These 3 options were drawn one at a time');
     expect(html).toContain('Add or remove one ballot.');

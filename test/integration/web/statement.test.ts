@@ -23,7 +23,10 @@ describe.each(engines)('the signed statement, the key and the ledger pages [%s]'
   const ballots = Array.from({ length: TURNOUT }, (_, i) => COUNTS.flatMap((c, j) => (i < c ? [j] : [])).concat(i >= 37 ? [3] : []));
 
   async function download(id: string): Promise<string> {
-    const res = await request(s.app).get(`/results/${id}/statement.json`).expect(200).expect('content-type', /application\/json/);
+    const res = await request(s.app)
+      .get(`/results/${id}/statement.json`)
+      .expect(200)
+      .expect('content-type', /application\/json/);
     return res.text;
   }
   async function keyFile(keyId: string): Promise<string> {
@@ -33,7 +36,10 @@ describe.each(engines)('the signed statement, the key and the ledger pages [%s]'
   /** Every maximal digit run of a page, after taking out ids, keys and tokens that are random by design. */
   function digitRuns(text: string, randomParts: string[]): Set<number> {
     // Path geometry of drawn icons (the d attribute of SVG paths) is left out: it is artwork, not data.
-    let cleaned = text.replace(/name="_csrf" value="[^"]*"/g, ' ').replace(/ d="[^"]*"/g, ' ').replace(/[0-9a-f]{4}( [0-9a-f]{4}){15}/g, ' ');
+    let cleaned = text
+      .replace(/name="_csrf" value="[^"]*"/g, ' ')
+      .replace(/ d="[^"]*"/g, ' ')
+      .replace(/[0-9a-f]{4}( [0-9a-f]{4}){15}/g, ' ');
     for (const part of randomParts) cleaned = cleaned.split(part).join(' ');
     return new Set([...cleaned.matchAll(/\d+/g)].map((m) => Number(m[0])));
   }
@@ -57,7 +63,10 @@ describe.each(engines)('the signed statement, the key and the ledger pages [%s]'
     expect(st.privacy.unprotected).toEqual(['anyone-voted']);
     expect(st.ledger).toMatchObject({ groupName: 'Rowing club members', draws: 1, howVotedEpsilon: '4', whetherVotedEpsilon: '4' });
 
-    const schema = await request(s.app).get('/schemas/statement-v1.schema.json').expect(200).expect('content-type', /schema\+json/);
+    const schema = await request(s.app)
+      .get('/schemas/statement-v1.schema.json')
+      .expect(200)
+      .expect('content-type', /schema\+json/);
     expect(JSON.parse(schema.text).$schema).toBe('https://json-schema.org/draft/2020-12/schema');
 
     const key = await keyFile(st.keyId);
@@ -106,11 +115,31 @@ describe.each(engines)('the signed statement, the key and the ledger pages [%s]'
     const failsWith = (t: string, k: string | null, election: string | null, pattern: RegExp) => {
       const r = verifyStatementText(t, k, election);
       expect(r.passed).toBe(false);
-      expect(r.lines.filter((l) => !l.ok).map((l) => l.text).join('\n')).toMatch(pattern);
+      expect(
+        r.lines
+          .filter((l) => !l.ok)
+          .map((l) => l.text)
+          .join('\n'),
+      ).toMatch(pattern);
     };
-    failsWith(resign((st) => (st.released.winners = [loser])), key, null, /signature does NOT match/);
-    failsWith(resign((st) => (st.mechanism.epsilon = '0.6')), key, null, /signature does NOT match/);
-    failsWith(resign((st) => (st.electionId = other.f.id)), key, other.f.id, /signature does NOT match/);
+    failsWith(
+      resign((st) => (st.released.winners = [loser])),
+      key,
+      null,
+      /signature does NOT match/,
+    );
+    failsWith(
+      resign((st) => (st.mechanism.epsilon = '0.6')),
+      key,
+      null,
+      /signature does NOT match/,
+    );
+    failsWith(
+      resign((st) => (st.electionId = other.f.id)),
+      key,
+      other.f.id,
+      /signature does NOT match/,
+    );
     // Replay: a genuine statement served as another election's is refused by the election check.
     failsWith(text, key, other.f.id, /not .*/);
     // One changed character in the signature, and one extra space anywhere.

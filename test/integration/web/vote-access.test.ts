@@ -66,7 +66,10 @@ describe.each(engines)('member voting, timing and access [%s]', (engine) => {
     const res = await request(s.app).get(`/vote/${draft.id}`).expect(409);
     expect(res.text).toContain('This ballot is not open yet');
     const { csrf, agent } = await begin(await openElectionFixture(s.ctx, s.organiserId));
-    for (const [step, fields] of [['ballot', {}], ['cast', { approve: '0' }]] as const) {
+    for (const [step, fields] of [
+      ['ballot', {}],
+      ['cast', { approve: '0' }],
+    ] as const) {
       const r = await post(agent, `/vote/${draft.id}/${step}`, { _csrf: csrf, code: draft.codes[0]!, ...fields }).expect(409);
       expect(r.text).toContain('This ballot is not open yet');
     }
@@ -85,5 +88,4 @@ describe.each(engines)('member voting, timing and access [%s]', (engine) => {
     }
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
   });
-
 });

@@ -84,5 +84,4 @@ describe.each(engines)('member voting, code problems [%s]', (engine) => {
     expect(cast.text).toContain('Your ballot was not counted');
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
   });
-
 });

@@ -39,7 +39,8 @@ describe.each(engines)('member voting, attempt limits [%s]', (engine) => {
     expect(locked.text).toMatch(/Wait \d+ minutes?, then try again/);
     expect(Number(locked.headers['retry-after'])).toBeGreaterThan(0);
     // A valid code is always accepted, however many failures came from the same address.
-    for (const step of ['ballot', 'confirm']) expect((await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code: f.codes[1]! })).status).toBe(200);
+    for (const step of ['ballot', 'confirm'])
+      expect((await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code: f.codes[1]! })).status).toBe(200);
   });
 
   it('the count lives in the database: a second app server on it (or a restart) sees the same failures', async () => {
@@ -49,7 +50,10 @@ describe.each(engines)('member voting, attempt limits [%s]', (engine) => {
     for (let i = 0; i < ALLOWANCE; i++) await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code: unknown });
     const other = request.agent(testApp(s.ctx));
     const start = await other.get(`/vote/${f.id}`).expect(200);
-    const res = await other.post(`/vote/${f.id}/ballot`).type('form').send(formBody({ _csrf: csrfFrom(start.text), code: unknown }));
+    const res = await other
+      .post(`/vote/${f.id}/ballot`)
+      .type('form')
+      .send(formBody({ _csrf: csrfFrom(start.text), code: unknown }));
     expect(res.status).toBe(429);
   });
 });

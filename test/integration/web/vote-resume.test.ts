@@ -37,7 +37,9 @@ describe.each(engines)('member voting after the page expired [%s]', (engine) => 
   });
 
   it('does not resume other forms: an organiser form without a token is a plain 403', async () => {
-    const res = await s.post((await s.begin(await openElectionFixture(s.ctx, s.organiserId))).agent, '/organise/sign-in', { email: 'a@example.org', password: 'x' }).expect(403);
+    const res = await s
+      .post((await s.begin(await openElectionFixture(s.ctx, s.organiserId))).agent, '/organise/sign-in', { email: 'a@example.org', password: 'x' })
+      .expect(403);
     expect(res.text).not.toContain('This page had expired');
   });
 });

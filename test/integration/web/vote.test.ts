@@ -112,10 +112,7 @@ describe.each(engines)('member voting pages [%s]', (engine) => {
 
   it('option labels and descriptions are escaped, never markup', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId, {
-      options: [
-        { label: '<script>alert(1)</script>', description: '"><img src=x onerror=alert(1)>' },
-        { label: '"><img src=x onerror=alert(1)>' },
-      ],
+      options: [{ label: '<script>alert(1)</script>', description: '"><img src=x onerror=alert(1)>' }, { label: '"><img src=x onerror=alert(1)>' }],
     });
     const { agent, csrf } = await begin(f);
     const code = f.codes[0]!;

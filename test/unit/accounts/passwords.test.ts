@@ -4,7 +4,13 @@ import { dummyHash, hashPassword, needsRehash, OWASP_PASSWORD_KDF, passwordSchem
 import { TEST_KDF } from '../../helpers/context.ts';
 
 const random = (n: number) => crypto.randomBytes(n);
-const params = (hash: string) => Object.fromEntries(/\$argon2id\$v=19\$([^$]+)\$/.exec(hash)![1]!.split(',').map((kv) => kv.split('=')));
+const params = (hash: string) =>
+  Object.fromEntries(
+    /\$argon2id\$v=19\$([^$]+)\$/
+      .exec(hash)![1]!
+      .split(',')
+      .map((kv) => kv.split('=')),
+  );
 
 describe('organiser passwords', () => {
   it('hashes with Argon2id at the OWASP minimum: m = 19 MiB, t = 2, p = 1 (OWASP Password Storage Cheat Sheet)', async () => {

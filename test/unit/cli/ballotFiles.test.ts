@@ -40,7 +40,8 @@ describe('CSV ballots (RFC 4180 quoting; marks 1/yes/x approve, 0/empty do not)'
 });
 
 describe('PrefLib categorical ballots (format: shared/datasets/README.md)', () => {
-  const header = '# NUMBER ALTERNATIVES: 3\n# NUMBER VOTERS: 6\n# ALTERNATIVE NAME 1: Requiem\n# ALTERNATIVE NAME 2: Messiah\n# ALTERNATIVE NAME 3: Vespers\n';
+  const header =
+    '# NUMBER ALTERNATIVES: 3\n# NUMBER VOTERS: 6\n# ALTERNATIVE NAME 1: Requiem\n# ALTERNATIVE NAME 2: Messiah\n# ALTERNATIVE NAME 3: Vespers\n';
   it('weights each line by its count and reads category 1 as approved', () => {
     const body = '3: {1,3},2\n2: 2,{1,3}\n1: {},{1,2,3}\n';
     expect(parseBallotText(header + body, 'cat')).toEqual({ labels: ['Requiem', 'Messiah', 'Vespers'], scores: [3, 2, 3], ballots: 6 });

@@ -21,6 +21,8 @@ describe('the veiltally binary', () => {
     const result = run(['draw', '--ballots', good, '--epsilon', '1e-3']);
     expect(result.status).toBe(2);
     expect(result.stdout).toBe('');
-    expect(result.stderr.trimEnd().split('\n')).toEqual([expect.stringContaining('veiltally draw: epsilon must be a decimal number from 0.01 to 10')]);
+    expect(result.stderr.trimEnd().split('\n')).toEqual([
+      expect.stringContaining('veiltally draw: epsilon must be a decimal number from 0.01 to 10'),
+    ]);
   });
 });

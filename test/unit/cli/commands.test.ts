@@ -5,11 +5,7 @@ import { ballotFile, runCli } from './support.ts';
 // A tenants' association choosing repairs to fund (invented scenario). The approval
 // counts (137 and 241 and 58) are distinctive so any leak into the output shows.
 const repairs = ['Roof', 'Lift', 'Boiler'];
-const rows = [
-  ...Array.from({ length: 137 }, () => '1,1,'),
-  ...Array.from({ length: 104 }, () => ',1,x'),
-  ...Array.from({ length: 9 }, () => ',,'),
-];
+const rows = [...Array.from({ length: 137 }, () => '1,1,'), ...Array.from({ length: 104 }, () => ',1,x'), ...Array.from({ length: 9 }, () => ',,')];
 const csv = `${repairs.join(',')}\n${rows.join('\n')}\n`; // Roof 137, Lift 241, Boiler 104
 
 describe('veiltally draw', () => {
@@ -87,7 +83,20 @@ describe('veiltally simulate', () => {
 
 describe('veiltally bounds', () => {
   it('--json matches the mechanism’s own bounds', async () => {
-    const { code, stdout } = await runCli(['bounds', '--options', '17', '--epsilon', '0.5', '--seats', '2', '--neighbour', 'add-remove', '--beta', '0.1', '--json']);
+    const { code, stdout } = await runCli([
+      'bounds',
+      '--options',
+      '17',
+      '--epsilon',
+      '0.5',
+      '--seats',
+      '2',
+      '--neighbour',
+      'add-remove',
+      '--beta',
+      '0.1',
+      '--json',
+    ]);
     expect(code).toBe(0);
     const expected = makeExponentialDraw({ epsilon: '0.5', options: 17, seats: 2, neighbour: 'add-remove' }).bounds(0.1);
     expect(JSON.parse(stdout)).toEqual({

@@ -43,7 +43,12 @@ describe('sealed ballots', () => {
 
   it('gives the same ciphertext length with nothing ticked and everything ticked', () => {
     const none = encodeAndSeal(pk, electionId, d, []);
-    const all = encodeAndSeal(pk, electionId, d, Array.from({ length: d }, (_, i) => i));
+    const all = encodeAndSeal(
+      pk,
+      electionId,
+      d,
+      Array.from({ length: d }, (_, i) => i),
+    );
     expect(none.length).toBe(all.length);
     expect(none.length).toBe(sealedLength(d));
     expect(sealedLength(d)).toBe(ballotLength(d) + 48); // crypto_box_SEALBYTES = 32 + 16
@@ -73,9 +78,7 @@ describe('sealed ballots', () => {
 
     const longer = Buffer.concat([encodeBallot(electionId, d, [1]), Buffer.alloc(1)]);
     expect(() => openBallot(k, sealBallot(pk, longer))).toThrow(BallotUnreadable);
-    expect(() => openBallot(k, sealBallot(pk, encodeBallot(electionId, d, [1]).subarray(0, 18)))).toThrow(
-      BallotUnreadable,
-    );
+    expect(() => openBallot(k, sealBallot(pk, encodeBallot(electionId, d, [1]).subarray(0, 18)))).toThrow(BallotUnreadable);
 
     for (const bit of [11, 15]) {
       const high = encodeBallot(electionId, d, [1]);

@@ -2,13 +2,7 @@ import crypto from 'node:crypto';
 import { describe, expect, it } from 'vitest';
 import { encodeAndSeal, openBallot, openingKey } from '../../../src/custody/ballot.ts';
 import { WrongPassphrase } from '../../../src/custody/errors.ts';
-import {
-  createElectionKeys,
-  publicKeyOf,
-  rewrapElectionKey,
-  unwrapElectionKey,
-  type WrappedKey,
-} from '../../../src/custody/keys.ts';
+import { createElectionKeys, publicKeyOf, rewrapElectionKey, unwrapElectionKey, type WrappedKey } from '../../../src/custody/keys.ts';
 import { checkTallyPassphrase, tallyPassphraseSchema } from '../../../src/custody/passphrase.ts';
 import { DEFAULT_KDF } from '../../../src/elections/context.ts';
 import { InvalidInput } from '../../../src/errors.ts';
@@ -79,8 +73,6 @@ describe('election key wrapping (Argon2id + XChaCha20-Poly1305)', () => {
       expect((e as Error).message).toContain('12');
       expect((e as Error).message).not.toContain('tiny-secret');
     }
-    await expect(
-      createElectionKeys({ passphrase: 'too short', electionId: crypto.randomUUID(), kdf: cheap }),
-    ).rejects.toBeInstanceOf(InvalidInput);
+    await expect(createElectionKeys({ passphrase: 'too short', electionId: crypto.randomUUID(), kdf: cheap })).rejects.toBeInstanceOf(InvalidInput);
   });
 });

@@ -35,21 +35,17 @@ describe('published test vectors through the custody call paths', () => {
 
   it('Ed25519 matches RFC 8032 §7.1 TEST 2 (one byte 0x72; values recalled from memory, checked by this run)', () => {
     const seed = hex('4ccd089b28ff96da9db6c346ec114e0f5b8a319f35aba624da8cf6ed4fb8a6fb');
-    expect(publicKeyFromSeed(seed).toString('hex')).toBe(
-      '3d4017c3e843895a92b70aa74d1b7ebc9c982ccf2ec4968cc0cd55f12af4660c',
-    );
+    expect(publicKeyFromSeed(seed).toString('hex')).toBe('3d4017c3e843895a92b70aa74d1b7ebc9c982ccf2ec4968cc0cd55f12af4660c');
     expect(signStatement(hex('72'), seed).toString('hex')).toBe(
       '92a009a9f0d4cab8720e820b5f642540a2b27b5416503f8fb3762223ebdb69da085ac1e43e15996e458f3613d0f11d8c387b2eaeb4302aeeb00d291612bb0c00',
     );
   });
 
-  it('sealed box opens the known ciphertext from sodium-native\'s cross-decrypt test', () => {
+  it("sealed box opens the known ciphertext from sodium-native's cross-decrypt test", () => {
     // sodium-native test suite (crypto_box_seal cross-decrypt): libsodium-made ciphertext of "hello world".
     const pk = hex('e0bb844ae3f48bb04323c8dfe7c34cf86608db2e2112f927953060c80506287f');
     const sk = hex('036a9de1ecc9d152cf39fed1b3e15bf761ae39a299031adc011cc9809041abfa');
-    const sealed = hex(
-      '249912e916ad8bcf96a3f9b750da27032eccdf83b5cff0d6a59a8bbe0bcd58235de9fbca55bd5416c754e5e0e0fe2f0c4e50df0cb302f1c4378f80',
-    );
+    const sealed = hex('249912e916ad8bcf96a3f9b750da27032eccdf83b5cff0d6a59a8bbe0bcd58235de9fbca55bd5416c754e5e0e0fe2f0c4e50df0cb302f1c4378f80');
     expect(openSealedBox(sealed, pk, sk)?.toString('utf8')).toBe('hello world');
     const bent = Buffer.from(sealed);
     bent[bent.length - 1]! ^= 0x80;

@@ -32,7 +32,14 @@ const issuesOf = (d: Partial<DraftInput>) => {
 
 describe('checkDraft', () => {
   it('accepts a good draft and trims text', () => {
-    const d = checkDraft({ ...good, title: '  Boat  ', options: [{ label: ' Heron ', description: ' ' }, { label: 'Otter', description: '' }] });
+    const d = checkDraft({
+      ...good,
+      title: '  Boat  ',
+      options: [
+        { label: ' Heron ', description: ' ' },
+        { label: 'Otter', description: '' },
+      ],
+    });
     expect(d.title).toBe('Boat');
     expect(d.options[0]).toEqual({ label: 'Heron', description: '' });
   });
@@ -42,7 +49,15 @@ describe('checkDraft', () => {
     [{ title: 'x'.repeat(201) }, 'title'],
     [{ options: [{ label: 'Heron', description: '' }] }, 'options'],
     [{ options: Array.from({ length: 101 }, (_, i) => ({ label: `Option ${i}`, description: '' })) }, 'options'],
-    [{ options: [{ label: 'Heron', description: '' }, { label: 'HERON ', description: '' }] }, 'options.1.label'],
+    [
+      {
+        options: [
+          { label: 'Heron', description: '' },
+          { label: 'HERON ', description: '' },
+        ],
+      },
+      'options.1.label',
+    ],
     [{ seats: 2 }, 'seats'],
     [{ seats: 0 }, 'seats'],
     [{ seats: 1.5 }, 'seats'],

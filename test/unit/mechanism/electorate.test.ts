@@ -27,7 +27,12 @@ function chanceAmongWinners(scores: number[], a: Dec, seats: number): { first: D
     for (const i of left) {
       const q = p.times(w[i]!.div(t));
       if (i === 0) any = any.plus(q);
-      else walk(left.filter((j) => j !== i), q, depth + 1);
+      else
+        walk(
+          left.filter((j) => j !== i),
+          q,
+          depth + 1,
+        );
     }
   };
   walk(all, new Decimal(1), 0);

@@ -30,7 +30,14 @@ describe('goodness of fit of the exact sampler (seeded draws)', () => {
     ['d = 10, ε = 1, 200 000 draws', [9, 9, 7, 5, 5, 3, 2, 1, 0, 0], '1', 'replace-one', 12, DRAWS],
     ['d = 50, scores 0..49, ε = 0.5, 200 000 draws', spread50, '0.5', 'replace-one', 13, DRAWS],
     ['d = 10, add-remove, ε = 0.75, 100 000 draws', [4, 4, 3, 3, 2, 2, 1, 1, 0, 0], '0.75', 'add-remove', 14, EXTRA_DRAWS],
-    ['d = 10, scores near 10^6 with huge gaps, ε = 1.25, 100 000 draws', [1_000_000, 999_999, 999_997, 999_990, 500_000, 3, 2, 1, 0, 0], '1.25', 'replace-one', 15, EXTRA_DRAWS],
+    [
+      'd = 10, scores near 10^6 with huge gaps, ε = 1.25, 100 000 draws',
+      [1_000_000, 999_999, 999_997, 999_990, 500_000, 3, 2, 1, 0, 0],
+      '1.25',
+      'replace-one',
+      15,
+      EXTRA_DRAWS,
+    ],
   ] as const)('%s', (_name, scores, epsilon, neighbour, seed, draws) => {
     const { pValue, bins } = firstSeatFit([...scores], epsilon, neighbour, seed, draws);
     expect(bins).toBeGreaterThanOrEqual(2);

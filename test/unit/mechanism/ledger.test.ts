@@ -63,7 +63,11 @@ describe('privacy ledger arithmetic (basic composition, Dwork & Roth 2014, Thm 3
 
 describe('recheckStatement', () => {
   const draw = makeExponentialDraw({ epsilon: '0.8', options: 4, seats: 2, neighbour: 'add-remove' });
-  const ledger = { groupId: '6a1f0d2e-3b4c-4d5e-8f60-718293a4b5c6', groupName: 'Tenants', ...ledgerTotals([entry('2026-03-01T10:00:00Z', '1.6', '0.8')], at('2026-03-01T10:00:30Z')) };
+  const ledger = {
+    groupId: '6a1f0d2e-3b4c-4d5e-8f60-718293a4b5c6',
+    groupName: 'Tenants',
+    ...ledgerTotals([entry('2026-03-01T10:00:00Z', '1.6', '0.8')], at('2026-03-01T10:00:30Z')),
+  };
   const statement = buildPublicStatement({
     draw,
     electionId: '0b1c2d3e-4f50-4a6b-9c7d-8e9fa0b1c2d3',

@@ -34,18 +34,16 @@ function worstRatio(draw: ExponentialDraw, scoresA: number[], scoresB: number[])
 }
 
 const epsilonText = fc.integer({ min: 1, max: 300 }).map((h) => (h / 100).toFixed(2)); // 0.01 … 3.00
-const setup = fc
-  .integer({ min: 2, max: 5 })
-  .chain((d) =>
-    fc.record({
-      d: fc.constant(d),
-      seats: fc.integer({ min: 1, max: Math.min(3, d - 1) }),
-      epsilon: epsilonText,
-      ballots: fc.array(fc.array(fc.boolean(), { minLength: d, maxLength: d }), { minLength: 1, maxLength: 12 }),
-      changed: fc.array(fc.boolean(), { minLength: d, maxLength: d }),
-      at: fc.nat(),
-    }),
-  );
+const setup = fc.integer({ min: 2, max: 5 }).chain((d) =>
+  fc.record({
+    d: fc.constant(d),
+    seats: fc.integer({ min: 1, max: Math.min(3, d - 1) }),
+    epsilon: epsilonText,
+    ballots: fc.array(fc.array(fc.boolean(), { minLength: d, maxLength: d }), { minLength: 1, maxLength: 12 }),
+    changed: fc.array(fc.boolean(), { minLength: d, maxLength: d }),
+    at: fc.nat(),
+  }),
+);
 type Setup = typeof setup extends fc.Arbitrary<infer T> ? T : never;
 
 function replaceOne(s: Setup): [number[], number[]] {
@@ -69,22 +67,34 @@ const runs = { numRuns: 150, seed: 20240611 };
 
 describe('privacy: ratio of outcome probabilities on neighbouring profiles (Dwork & Roth 2014, Thm. 3.10)', () => {
   it('replace-one (a = ε/2 per round): every ordered outcome within e^ε', () => {
-    fc.assert(fc.property(setup, (s) => holds(s, 'replace-one', replaceOne, '1')), runs);
+    fc.assert(
+      fc.property(setup, (s) => holds(s, 'replace-one', replaceOne, '1')),
+      runs,
+    );
   });
 
   it('add-remove (a = ε per round, monotone counts): adding or removing a ballot stays within e^ε', () => {
     // Removal is the same pair read the other way; worstRatio checks both directions.
-    fc.assert(fc.property(setup, (s) => holds(s, 'add-remove', addOne, '1')), runs);
+    fc.assert(
+      fc.property(setup, (s) => holds(s, 'add-remove', addOne, '1')),
+      runs,
+    );
   });
 
   it('add-remove setting under a changed ballot stays within e^(2ε), as the statement says', () => {
-    fc.assert(fc.property(setup, (s) => holds(s, 'add-remove', replaceOne, '2')), runs);
+    fc.assert(
+      fc.property(setup, (s) => holds(s, 'add-remove', replaceOne, '2')),
+      runs,
+    );
   });
 
   it('negative control: the scale a = ε/Δ under replace-one breaks e^ε, and the property finds it', () => {
-    expect(() => fc.assert(fc.property(setup, (s) => holds(s, 'add-remove', replaceOne, '1')), runs)).toThrow(
-      /Property failed/,
-    );
+    expect(() =>
+      fc.assert(
+        fc.property(setup, (s) => holds(s, 'add-remove', replaceOne, '1')),
+        runs,
+      ),
+    ).toThrow(/Property failed/);
     // A concrete witness: a ballot approving options 0 and 1 becomes one approving only option 2.
     const draw = makeExponentialDraw({ epsilon: '1', options: 3, seats: 1, neighbour: 'add-remove' });
     expect(worstRatio(draw, [5, 5, 0], [4, 4, 1]).gt(D.exp(1))).toBe(true);

@@ -10,8 +10,7 @@ import {
 
 // A rowing club naming its new boat (invented scenario).
 const labels = ['Heron', 'Kingfisher', 'Otter', 'Swift'];
-const make = (epsilon: string, seats = 1, neighbour: Neighbour = 'replace-one') =>
-  makeExponentialDraw({ epsilon, options: 4, seats, neighbour });
+const make = (epsilon: string, seats = 1, neighbour: Neighbour = 'replace-one') => makeExponentialDraw({ epsilon, options: 4, seats, neighbour });
 
 describe('buildStatement', () => {
   it('records the mechanism, ε as entered, neighbour, sensitivity, seats and bounds', () => {
@@ -76,7 +75,9 @@ describe('buildStatement', () => {
     expect(text.paragraphs.join(' ')).toContain('basic composition');
     expect(text.boundsSentence).toMatch(/^The drawing method used here guarantees, for each seat, that with probability at least 95%/);
     // Union bound over the seats (Boole's inequality): 1 − kβ = 1 − 3 × 0.05.
-    expect(text.boundsSentence).toContain('For all 3 seats together, the same holds with probability at least 85% (that is 1 − 3β, by the union bound).');
+    expect(text.boundsSentence).toContain(
+      'For all 3 seats together, the same holds with probability at least 85% (that is 1 − 3β, by the union bound).',
+    );
   });
 
   it('does not promise to hide whether anyone voted at all: no ballots means no draw', () => {

@@ -23,7 +23,9 @@ describe('utility: failure rate stays ≤ e^(−t) (Dwork & Roth 2014, Cor. 3.12
     const limit = Math.exp(-t);
 
     // Exact failure probability from the closed form: must respect the theorem.
-    const exactFail = firstSeatReference(scores, a).slice(1).reduce((x, p) => x.plus(p), new D(0));
+    const exactFail = firstSeatReference(scores, a)
+      .slice(1)
+      .reduce((x, p) => x.plus(p), new D(0));
     expect(exactFail.lte(limit)).toBe(true);
     expect(exactFail.toNumber()).toBeGreaterThan(limit * 0.6); // the profile is near the bound
 
@@ -42,7 +44,9 @@ describe('utility: failure rate stays ≤ e^(−t) (Dwork & Roth 2014, Cor. 3.12
     ] as const) {
       const draw = makeExponentialDraw({ epsilon, options: d, seats, neighbour: 'replace-one' });
       const a = scaleOf(draw.perRoundScale.num, draw.perRoundScale.den);
-      const exact = D.ln(d).plus(D.ln(new D(1).div(beta))).div(a);
+      const exact = D.ln(d)
+        .plus(D.ln(new D(1).div(beta)))
+        .div(a);
       const reported = draw.bounds(beta).withinApprovals;
       expect(exact.lte(reported)).toBe(true);
       expect(new D(reported).minus(exact).lt('0.01')).toBe(true);

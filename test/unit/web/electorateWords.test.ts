@@ -8,7 +8,11 @@ const settings = (o: Partial<{ epsilon: string; seats: number; expectedVoters: n
   seats: o.seats ?? 1,
   neighbour: o.neighbour ?? ('replace-one' as const),
   expectedVoters: o.expectedVoters === undefined ? 40 : o.expectedVoters,
-  options: ['Fix the lift', 'Repaint the stairwell', 'New bike shed', 'Brighter car park lights'].map((label, position) => ({ position, label, description: '' })),
+  options: ['Fix the lift', 'Repaint the stairwell', 'New bike shed', 'Brighter car park lights'].map((label, position) => ({
+    position,
+    label,
+    description: '',
+  })),
 });
 
 describe('the words around the guidance numbers', () => {
@@ -29,7 +33,9 @@ describe('the words around the guidance numbers', () => {
 
   it('before the draw, without a visible count, uses the expected electorate and says so', () => {
     const w = drawWarning(settings({ epsilon: '0.5', expectedVoters: 12 }), null)!;
-    expect(w.basis).toBe('You are not shown the turnout before the draw, so these figures are for the 12 voters you expected. If fewer voted, chance plays a larger part.');
+    expect(w.basis).toBe(
+      'You are not shown the turnout before the draw, so these figures are for the 12 voters you expected. If fewer voted, chance plays a larger part.',
+    );
     // 4 options, a = 0.25, lead 12: 1/(1 + 3e^(−3)) (Dwork & Roth 2014, Def. 3.4), rounded down to 0.1%.
     const p = new Decimal(1).div(new Decimal(3).times(Decimal.exp(-3)).plus(1));
     expect(w.facts[0]).toContain(`that option is drawn ${p.times(100).toDecimalPlaces(1, Decimal.ROUND_FLOOR).toFixed(1)}% of the time`);

@@ -22,7 +22,9 @@ describe('codes CSV', () => {
   });
 
   it('names the file from the title, in ASCII, with the time', () => {
-    expect(codesFileName('Tenants’ repair fund — 2026!', new Date('2026-06-01T09:05:00Z'))).toBe('ballot-codes-tenants-repair-fund-2026-20260601-0905.csv');
+    expect(codesFileName('Tenants’ repair fund — 2026!', new Date('2026-06-01T09:05:00Z'))).toBe(
+      'ballot-codes-tenants-repair-fund-2026-20260601-0905.csv',
+    );
     expect(codesFileName('Élection du comité', new Date('2026-06-01T09:05:00Z'))).toBe('ballot-codes-election-du-comite-20260601-0905.csv');
     expect(codesFileName('★★★', new Date('2026-06-01T09:05:00Z'))).toBe('ballot-codes-election-20260601-0905.csv');
   });

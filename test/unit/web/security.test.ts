@@ -15,7 +15,12 @@ function run(method: string, headers: Record<string, string>, publicUrl = 'https
 // OWASP CSRF Prevention Cheat Sheet: verify Origin against the target, and use Fetch Metadata (Sec-Fetch-Site).
 describe('sameOriginOnly', () => {
   it.each([
-    ['GET from another site is allowed (no state change over GET)', 'GET', { 'sec-fetch-site': 'cross-site', origin: 'https://evil.example', host: 'vote.example.org' }, null],
+    [
+      'GET from another site is allowed (no state change over GET)',
+      'GET',
+      { 'sec-fetch-site': 'cross-site', origin: 'https://evil.example', host: 'vote.example.org' },
+      null,
+    ],
     ['same-origin POST', 'POST', { 'sec-fetch-site': 'same-origin', origin: 'https://vote.example.org', host: 'vote.example.org' }, null],
     ['POST with no browser headers (non-browser client)', 'POST', { host: 'vote.example.org' }, null],
     ['user-typed navigation', 'POST', { 'sec-fetch-site': 'none', host: 'vote.example.org' }, null],
@@ -33,7 +38,12 @@ describe('sameOriginOnly', () => {
   });
 
   it('accepts the configured public origin when a proxy rewrote Host (X-Forwarded-Host set)', () => {
-    const headers = { 'sec-fetch-site': 'same-origin', origin: 'https://vote.example.org', host: '127.0.0.1:3000', 'x-forwarded-host': 'vote.example.org' };
+    const headers = {
+      'sec-fetch-site': 'same-origin',
+      origin: 'https://vote.example.org',
+      host: '127.0.0.1:3000',
+      'x-forwarded-host': 'vote.example.org',
+    };
     expect(run('POST', headers)).toBe(null);
     expect(run('POST', { ...headers, origin: 'https://evil.example' })).toBeInstanceOf(Forbidden);
   });

@@ -95,7 +95,12 @@ export function accountRoutes(deps: AppDeps): Router {
     });
 
   router.get('/organise/organisers', requireOrganiser(deps), async (req, res) => {
-    res.locals.notice = req.query.removed === '1' ? 'Organiser removed. They can no longer sign in.' : req.query.reset === '1' ? 'New password set, and they have been signed out. Pass it on privately.' : null;
+    res.locals.notice =
+      req.query.removed === '1'
+        ? 'Organiser removed. They can no longer sign in.'
+        : req.query.reset === '1'
+          ? 'New password set, and they have been signed out. Pass it on privately.'
+          : null;
     await renderOrganisers(res, 200, '', {}, req.query.added === '1');
   });
 

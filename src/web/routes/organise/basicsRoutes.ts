@@ -37,7 +37,8 @@ export function basicsRoutes(deps: AppDeps): Router {
   router.get('/organise/elections/:id/delete', async (req, res) => {
     const dash = await load(res, req.params.id);
     const d = dashboardView(dash);
-    if (dash.election.state !== 'draft') return renderNotNow(res, d, 'Only a draft can be deleted. This election has been opened, so it stays on record.');
+    if (dash.election.state !== 'draft')
+      return renderNotNow(res, d, 'Only a draft can be deleted. This election has been opened, so it stays on record.');
     res.render('organise/delete', { title: `Delete ${d.title}`, d });
   });
 
@@ -85,7 +86,12 @@ export function basicsRoutes(deps: AppDeps): Router {
   });
 
   // Correct the wording
-  async function renderWording(res: Response, id: string, values: { title: string; description: string; optionDescriptions: string[] } | null, errors: FieldErrors = {}) {
+  async function renderWording(
+    res: Response,
+    id: string,
+    values: { title: string; description: string; optionDescriptions: string[] } | null,
+    errors: FieldErrors = {},
+  ) {
     const dash = await load(res, id);
     const d = dashboardView(dash);
     const e = dash.election;

@@ -56,7 +56,8 @@ export function codeRoutes(deps: AppDeps): Router {
     try {
       ({ codes, batch } = await issueCodes(ctx, { electionId: id, organiserId: organiserOf(res).id, count: form.count }));
     } catch (e) {
-      if (isVeiltallyError(e) && (e.status === 409 || e.status === 400)) return renderPage(res, id, e.status, { issue: form.values, errors: { count: e.message } });
+      if (isVeiltallyError(e) && (e.status === 409 || e.status === 400))
+        return renderPage(res, id, e.status, { issue: form.values, errors: { count: e.message } });
       throw e;
     }
     // Read after issuing, so the counts on the next page include this batch.

@@ -25,7 +25,13 @@ export function electionRoutes(deps: AppDeps): Router {
   const router = Router();
   const { ctx } = deps;
 
-  async function renderForm(res: Response, status: number, electionId: string | null, values: ElectionFormValues, extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphraseCleared?: boolean } = {}) {
+  async function renderForm(
+    res: Response,
+    status: number,
+    electionId: string | null,
+    values: ElectionFormValues,
+    extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphraseCleared?: boolean } = {},
+  ) {
     const budget = await groupBudget(ctx, values, electionId);
     const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, budget, ...extra });
     res.status(status).render('organise/election-form', {

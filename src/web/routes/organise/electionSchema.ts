@@ -77,7 +77,8 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
   // Optional, as the form says: left empty, the guidance simply shows no electorate figures.
   const votersGiven = v.expectedVoters.trim() !== '';
   const expectedVoters = votersGiven ? wholeNumber(v.expectedVoters) : null;
-  if (votersGiven && expectedVoters === null) errors.expectedVoters = 'Give the number of voters you expect as a whole number, such as 40, or leave it empty.';
+  if (votersGiven && expectedVoters === null)
+    errors.expectedVoters = 'Give the number of voters you expect as a whole number, such as 40, or leave it empty.';
   const retentionDays = v.retention === 'keep' ? wholeNumber(v.retentionDays) : null;
   if (v.retention === 'keep' && retentionDays === null) errors.retentionDays = 'Give the number of days as a whole number from 1 to 90.';
   const ambiguous: ('opensAt' | 'closesAt')[] = [];

@@ -14,4 +14,7 @@ export function readOpenMode(body: Body): 'now' | 'schedule' | null {
 export const confirmed = (body: Body): boolean => field(body, 'confirm') === 'yes';
 
 /** The tally passphrase as sent; bounded so hashing work stays bounded. Never echoed or logged. */
-export const tallyPassphraseField = z.string().min(1, 'Enter the tally passphrase you chose when creating the election.').max(1024, 'That passphrase is longer than any we accept.');
+export const tallyPassphraseField = z
+  .string()
+  .min(1, 'Enter the tally passphrase you chose when creating the election.')
+  .max(1024, 'That passphrase is longer than any we accept.');

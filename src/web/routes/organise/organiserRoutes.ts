@@ -43,7 +43,9 @@ export function organiserRoutes(deps: AppDeps): Router {
   }
 
   const renderReset = async (res: Response, id: string, status: number, errors: FieldErrors = {}) =>
-    res.status(status).render('organise/organiser-password', { title: 'Set a new password', other: await target(res, id), errors, summary: summaryOf(errors) });
+    res
+      .status(status)
+      .render('organise/organiser-password', { title: 'Set a new password', other: await target(res, id), errors, summary: summaryOf(errors) });
 
   router.get('/organise/organisers/:oid/password', async (req, res) => {
     if (req.params.oid === organiserOf(res).id) return res.redirect(303, '/organise/account');

@@ -23,7 +23,8 @@ function failureMessage(e: Dashboard['election']): string | null {
     return 'The last attempt stopped because some sealed ballots could not be opened with this election’s key, so nothing was drawn. Ask the operator to check the database before trying again.';
   }
   if (e.tallyFailure) return 'The last attempt to draw the result stopped before the end, so nothing was drawn. Enter the passphrase to try again.';
-  if (e.tallyStartedAt && e.state === 'closed') return 'The last attempt to draw the result did not finish (the server may have restarted), so nothing was drawn. Enter the passphrase to try again.';
+  if (e.tallyStartedAt && e.state === 'closed')
+    return 'The last attempt to draw the result did not finish (the server may have restarted), so nothing was drawn. Enter the passphrase to try again.';
   return null;
 }
 
@@ -93,9 +94,19 @@ export function tallyRoutes(deps: AppDeps): Router {
     const statement = storedStatement(dash.election);
     const d = dashboardView(dash);
     if (dash.status !== 'tallied' || !statement) {
-      return renderNotNow(res, d, dash.election.state === 'published' ? 'This result has already been published.' : 'There is no drawn result to publish yet.');
+      return renderNotNow(
+        res,
+        d,
+        dash.election.state === 'published' ? 'This result has already been published.' : 'There is no drawn result to publish yet.',
+      );
     }
-    res.status(status).render('organise/publish', { title: `Publish ${d.title}`, d, preview: tallyPreview(statement), problem, retentionDays: dash.election.retentionDays });
+    res.status(status).render('organise/publish', {
+      title: `Publish ${d.title}`,
+      d,
+      preview: tallyPreview(statement),
+      problem,
+      retentionDays: dash.election.retentionDays,
+    });
   }
 
   router.get('/organise/elections/:id/publish', async (req, res) => {

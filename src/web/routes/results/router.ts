@@ -74,9 +74,13 @@ export function resultsRouter(deps: AppDeps): Router {
       res.status(400);
       return await render(res, page, { receipt, outcome: 'malformed', message: err.message });
     }
-    await render(res, page, found
-      ? { receipt, outcome: 'found', message: 'This receipt is among the ballots counted.' }
-      : { receipt, outcome: 'not-found', message: 'This receipt was not found. Check it for typing mistakes and try again.' });
+    await render(
+      res,
+      page,
+      found
+        ? { receipt, outcome: 'found', message: 'This receipt is among the ballots counted.' }
+        : { receipt, outcome: 'not-found', message: 'This receipt was not found. Check it for typing mistakes and try again.' },
+    );
   });
 
   router.get('/results/:id/receipt', async (req, res) => {

@@ -35,7 +35,11 @@ export function siteRouter(deps: AppDeps): Router {
       res.set('Retry-After', String(Math.max(1, Math.ceil(locked.retryAfterMs / 1000))));
       throw new TooManyAttempts(locked.what, locked.retryAfterMs);
     }
-    const results = (await listPublishedResults(ctx)).map((r) => ({ url: `/results/${r.id}`, title: r.title, publishedAt: shownTime(r.publishedAt, r.timeZone) }));
+    const results = (await listPublishedResults(ctx)).map((r) => ({
+      url: `/results/${r.id}`,
+      title: r.title,
+      publishedAt: shownTime(r.publishedAt, r.timeZone),
+    }));
     res.status(status).render('site/home', { title: 'Private approval votes', code, problem, results });
   }
 
@@ -61,7 +65,12 @@ export function siteRouter(deps: AppDeps): Router {
     }
     const e = id ? await findElection(ctx.knex, id) : null;
     if (!e) {
-      return renderHome(res, 404, code, 'No open ballot has this code. Check it against your slip, or use the link your organiser sent you. If voting has not opened yet or has closed, the link tells you when.');
+      return renderHome(
+        res,
+        404,
+        code,
+        'No open ballot has this code. Check it against your slip, or use the link your organiser sent you. If voting has not opened yet or has closed, the link tells you when.',
+      );
     }
     const election = votingElectionView(e, ctx.now());
     if (election.window !== 'open') return res.redirect(303, election.voteUrl); // says when voting opens

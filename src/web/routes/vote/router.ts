@@ -5,14 +5,7 @@ import { castBallot } from '../../../elections/castBallot.ts';
 import { checkCode } from '../../../elections/checkCode.ts';
 import { findElection, type Election } from '../../../elections/electionRepo.ts';
 import { ElectionNotFound, ElectionNotOpen } from '../../../elections/errors.ts';
-import {
-  formatReceipt,
-  parseApprovals,
-  tickedOptions,
-  votingElectionView,
-  type VoteStep,
-  type VotingElectionView,
-} from '../../presenters/ballot.ts';
+import { formatReceipt, parseApprovals, tickedOptions, votingElectionView, type VoteStep, type VotingElectionView } from '../../presenters/ballot.ts';
 import { generateCastToken } from '../../../custody/index.ts';
 import { isSecureSite } from '../../middleware/sessions.ts';
 import { receiptCookie } from './receiptCookie.ts';
@@ -116,9 +109,7 @@ export function voteRouter(deps: AppDeps): Router {
     remember(res, e, 'cast', form.code);
     const approvals = parseApprovals(form.approve, e.options.length);
     (res.locals.member as MemberContext).approvals = approvals;
-    const { receipt } = await castBallot(ctx, { electionId: e.id, code: form.code, approvals, castToken: form.castToken }).catch(
-      noteWindow(res),
-    );
+    const { receipt } = await castBallot(ctx, { electionId: e.id, code: form.code, approvals, castToken: form.castToken }).catch(noteWindow(res));
     // Post/redirect/get: Reload and Back never resend the cast; the receipt reaches this browser only.
     receipts.set(res, e.id, receipt, ctx.now());
     res.redirect(303, receipts.path(e.id));

@@ -6,7 +6,10 @@ import chi2gof from '@stdlib/stats-chi2gof';
  * thumb for the χ² approximation; common practice, e.g. Cochran 1954). If the
  * pooled bin is still under 5 it joins the smallest regular bin.
  */
-export function chiSquarePValue(observed: readonly number[], probabilities: readonly number[]): {
+export function chiSquarePValue(
+  observed: readonly number[],
+  probabilities: readonly number[],
+): {
   pValue: number;
   bins: number;
 } {
