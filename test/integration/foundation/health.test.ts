@@ -38,8 +38,13 @@ describe.each(engines)('health and home page [%s]', (engine) => {
     expect(res.headers['content-security-policy']).not.toContain('unsafe-inline');
     expect(res.headers['referrer-policy']).toBe('no-referrer');
     expect(res.headers['x-powered-by']).toBeUndefined();
-    // A read-only visit creates no session.
-    expect(res.headers['set-cookie']).toBeUndefined();
+    // A read-only visit creates no session: the only cookie is the anonymous form's signed
+    // double-submit token (the home page has a code box), and no session row is written.
+    const cookies = (res.headers['set-cookie'] as unknown as string[] | undefined) ?? [];
+    expect(cookies.map((c) => c.split('=')[0])).toEqual(cookies.length ? ['veiltally-csrf'] : []);
+    expect(cookies.join(';')).not.toMatch(/sid|session/i);
+    const sessions = await db.knex('sessions').count({ n: '*' }).first();
+    expect(Number(sessions!.n)).toBe(0);
   });
 
   it('gives a friendly 404 page', async () => {

@@ -60,7 +60,13 @@ describe.each(engines)('receipt after SIGKILL of a real server [%s]', (engine: E
 
   it('every member whose answer was lost gets a receipt by sending the same confirmation again', async () => {
     const pepper = crypto.randomBytes(32);
-    const env: Record<string, string> = { VEILTALLY_CODE_PEPPER: pepper.toString('hex'), SESSION_SECRET: crypto.randomBytes(24).toString('hex') };
+    const seed = crypto.randomBytes(32);
+    // The server must hold the same instance secrets as the setup: instances sharing a database check that they agree.
+    const env: Record<string, string> = {
+      VEILTALLY_CODE_PEPPER: pepper.toString('hex'),
+      VEILTALLY_SIGNING_SEED: seed.toString('hex'),
+      SESSION_SECRET: crypto.randomBytes(24).toString('hex'),
+    };
     let dataDir: string | undefined;
     let setupDb: TestDatabase | undefined;
     let knex;
@@ -76,7 +82,7 @@ describe.each(engines)('receipt after SIGKILL of a real server [%s]', (engine: E
       await migrateLatest(db.knex);
       knex = { ...db, dispose: () => db.close() };
     }
-    const ctx = testContext(knex, { secrets: { codePepper: pepper, signingSeed: crypto.randomBytes(32) } });
+    const ctx = testContext(knex, { secrets: { codePepper: pepper, signingSeed: seed } });
     const organiserId = await createOrganiser(ctx);
     const f = await openElectionFixture(ctx, organiserId, { codes: MEMBERS });
     if (engine === 'pglite') await knex.dispose(); // one process per embedded directory
