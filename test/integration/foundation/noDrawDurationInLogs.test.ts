@@ -80,7 +80,8 @@ describe.each(engines)('no draw duration in the logs at debug level [%s]', (engi
     });
     expect(queued.status).toBe(303);
     const drawing = await fetch(`${server.url}/organise/elections/${f.id}/tally`, { headers: { cookie } });
-    expect(await drawing.text()).toContain('http-equiv="refresh"');
+    expect(drawing.headers.get('refresh')).toBe('10');
+    expect(await drawing.text()).toContain('Drawing the result');
     await new Promise((r) => setTimeout(r, 4000)); // the count of four ballots is done long before this
     expect(await server.stop('SIGTERM')).toBe(0);
 

@@ -130,7 +130,8 @@ describe.each(engines)('public result pages [%s]', (engine) => {
     const two = await s.decided([[3], [2, 3], [1]], { epsilon: '0.5', seats: 2 });
     const chartOf = async (id: string) => {
       const html = (await request(s.app).get(`/results/${id}`).expect(200)).text;
-      return html.slice(html.indexOf('<figure class="chart">'), html.indexOf('</details>'));
+      const start = html.indexOf('<figure class="chart">');
+      return html.slice(start, html.indexOf('</details>', start));
     };
     const first = await chartOf(one.f.id);
     expect(first).toContain('for each seat');

@@ -50,6 +50,9 @@ export function tallyRoutes(deps: AppDeps): Router {
     const d = dashboardView(dash);
     if (dash.status === 'drawing') {
       res.set('Cache-Control', 'no-store');
+      // The HTTP Refresh header rather than a meta element: the page says it checks again, offers a
+      // link to check now, and the page itself carries no timed markup (axe's meta-refresh rule, WCAG 2.2.1).
+      res.set('Refresh', String(DRAWING_REFRESH_SECONDS));
       return res.render('organise/tally-drawing', { title: `Drawing the result of ${d.title}`, d, refreshSeconds: DRAWING_REFRESH_SECONDS });
     }
     const statement = storedStatement(dash.election);
