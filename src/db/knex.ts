@@ -78,3 +78,19 @@ export function toBuffer(value: unknown): Buffer {
   if (value instanceof Uint8Array) return Buffer.from(value.buffer, value.byteOffset, value.byteLength);
   throw new Error('expected binary column');
 }
+
+/**
+ * The constraint a statement broke when it failed on a unique or primary key (SQLSTATE 23505),
+ * else null. pg and PGlite both raise the server's error fields (code, constraint) on the error.
+ */
+export function uniqueViolation(err: unknown): string | null {
+  const e = err as { code?: unknown; constraint?: unknown } | null;
+  if (!e || typeof e !== 'object' || e.code !== '23505') return null;
+  return typeof e.constraint === 'string' ? e.constraint : '';
+}
+
+/** Rows of a knex.raw result: pg returns a Result, PGlite through knex-pglite an object with rows. */
+export function rawRows(result: unknown): Array<Record<string, unknown>> {
+  const rows = (result as { rows?: unknown } | null)?.rows;
+  return Array.isArray(rows) ? (rows as Array<Record<string, unknown>>) : [];
+}
