@@ -19,6 +19,18 @@ export function build() {
   }
   fs.cpSync(path.join(ROOT, 'views'), path.join(DIST, 'views'), { recursive: true });
   fs.cpSync(path.join(ROOT, 'src', 'web', 'public'), path.join(DIST, 'src', 'web', 'public'), { recursive: true });
+  // The migrated empty database a new embedded data directory starts from (src/db/template.ts),
+  // so the first start skips initdb and the migrations. Without it the server still starts, slower.
+  const template = spawnSync(
+    process.execPath,
+    [
+      '--input-type=module',
+      '-e',
+      `const m = await import(${JSON.stringify(pathToFileURL(path.join(DIST, 'src', 'db', 'makeTemplate.js')).href)}); await m.makeTemplate(); process.exit(0);`,
+    ],
+    { cwd: ROOT, stdio: 'inherit' },
+  );
+  if (template.status !== 0) process.stderr.write('veiltally: could not make the embedded database template; new data directories will run initdb\n');
   fs.writeFileSync(STAMP, `${new Date().toISOString()}\n`);
   return Date.now() - started;
 }

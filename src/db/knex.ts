@@ -3,7 +3,9 @@ import ClientPgLite from 'knex-pglite';
 import pg from 'pg';
 import fs from 'node:fs';
 import path from 'node:path';
+import { PGlite } from '@electric-sql/pglite';
 import { lockDataDirectory, type DirectoryLock } from './dirLock.ts';
+import { isInitialised, readTemplate } from './template.ts';
 
 export type Engine = 'pglite' | 'postgres';
 
@@ -22,7 +24,15 @@ pg.types.setTypeParser(pg.types.builtins.INT8, (v) => Number(v));
 export const DEFAULT_POOL_MAX = 10;
 
 export type DatabaseOptions =
-  { engine: 'postgres'; url: string; searchPath?: string; poolMax?: number } | { engine: 'pglite'; dataDir: string | null };
+  | { engine: 'postgres'; url: string; searchPath?: string; poolMax?: number }
+  | {
+      engine: 'pglite';
+      dataDir: string | null;
+      /** The template a new data directory starts from (template.ts); null: none, initdb runs. Default: the build's. */
+      template?: string | null;
+      /** An existing PGlite to use (the build's template maker); dataDir must then be null. */
+      pglite?: PGlite;
+    };
 
 /**
  * Builds knex for the embedded PGlite (a directory, or memory when dataDir is null)
@@ -38,15 +48,19 @@ export function openDatabase(options: DatabaseOptions): Database {
     });
     return { knex, engine: 'postgres', close: () => knex.destroy() };
   }
-  let connection: Knex.StaticConnectionConfig = {} as Knex.StaticConnectionConfig;
+  let pglite: PGlite;
   let lock: DirectoryLock | null = null;
-  if (options.dataDir !== null) {
+  if (options.pglite) pglite = options.pglite;
+  else if (options.dataDir !== null) {
     // Before any file is opened: a second process on this directory stops here (dirLock.ts).
     lock = lockDataDirectory(path.resolve(options.dataDir));
     const dir = path.join(options.dataDir, 'pglite');
     fs.mkdirSync(dir, { recursive: true, mode: 0o700 });
-    connection = { filename: dir } as Knex.StaticConnectionConfig;
-  }
+    // A new directory starts from the build's template when there is one (template.ts), not from initdb.
+    const loadDataDir = isInitialised(dir) ? null : readTemplate(options.template);
+    pglite = new PGlite({ dataDir: dir, ...(loadDataDir ? { loadDataDir } : {}) });
+  } else pglite = new PGlite();
+  const connection = { pglite } as unknown as Knex.StaticConnectionConfig;
   const knex = knexFactory({
     client: ClientPgLite as unknown as typeof Knex.Client,
     dialect: 'postgres',
