@@ -6,7 +6,7 @@ import { checkCode } from '../../../elections/checkCode.ts';
 import { findElection, type Election } from '../../../elections/electionRepo.ts';
 import { ElectionNotFound, ElectionNotOpen } from '../../../elections/errors.ts';
 import { formatReceipt, parseApprovals, tickedOptions, votingElectionView, type VoteStep, type VotingElectionView } from '../../presenters/ballot.ts';
-import { generateCastToken } from '../../../custody/index.ts';
+import { MAX_OPTIONS, generateCastToken } from '../../../custody/index.ts';
 import { isSecureSite } from '../../middleware/sessions.ts';
 import { receiptCookie } from './receiptCookie.ts';
 import { ballotForm, idParam } from './schema.ts';
@@ -104,15 +104,25 @@ export function voteRouter(deps: AppDeps): Router {
   });
 
   router.post('/vote/:id/cast', codeAttempts, async (req, res) => {
-    const e = await memberElection(req.params.id);
     const form = ballotForm.parse(req.body ?? {});
-    remember(res, e, 'cast', form.code);
-    const approvals = parseApprovals(form.approve, e.options.length);
-    (res.locals.member as MemberContext).approvals = approvals;
-    const { receipt } = await castBallot(ctx, { electionId: e.id, code: form.code, approvals, castToken: form.castToken }).catch(noteWindow(res));
+    const param = idParam.safeParse({ id: req.params.id });
+    // The cast goes first and checks everything itself (README, Performance): the election is read
+    // for the page only when the cast fails, and then as before, so every error answers the same.
+    const electionId = param.success ? param.data.id.toLowerCase() : '';
+    let receipt: string;
+    try {
+      if (!param.success) throw new ElectionNotFound();
+      const approvals = parseApprovals(form.approve, MAX_OPTIONS); // castBallot holds them to the election's d
+      ({ receipt } = await castBallot(ctx, { electionId, code: form.code, approvals, castToken: form.castToken }));
+    } catch (err) {
+      const e = await memberElection(req.params.id);
+      remember(res, e, 'cast', form.code);
+      (res.locals.member as MemberContext).approvals = parseApprovals(form.approve, e.options.length);
+      return noteWindow(res)(err);
+    }
     // Post/redirect/get: Reload and Back never resend the cast; the receipt reaches this browser only.
-    receipts.set(res, e.id, receipt, ctx.now());
-    res.redirect(303, receipts.path(e.id));
+    receipts.set(res, electionId, receipt, ctx.now());
+    res.redirect(303, receipts.path(electionId));
   });
 
   router.get('/vote/:id/receipt', async (req, res) => {
