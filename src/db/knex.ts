@@ -5,7 +5,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { PGlite } from '@electric-sql/pglite';
 import { lockDataDirectory, type DirectoryLock } from './dirLock.ts';
-import { isInitialised, readTemplate } from './template.ts';
+import { copyTemplate, isInitialised, usableTemplate } from './template.ts';
 
 export type Engine = 'pglite' | 'postgres';
 
@@ -57,8 +57,9 @@ export function openDatabase(options: DatabaseOptions): Database {
     const dir = path.join(options.dataDir, 'pglite');
     fs.mkdirSync(dir, { recursive: true, mode: 0o700 });
     // A new directory starts from the build's template when there is one (template.ts), not from initdb.
-    const loadDataDir = isInitialised(dir) ? null : readTemplate(options.template);
-    pglite = new PGlite({ dataDir: dir, ...(loadDataDir ? { loadDataDir } : {}) });
+    const template = isInitialised(dir) ? null : usableTemplate(options.template);
+    if (template) copyTemplate(template, dir);
+    pglite = new PGlite({ dataDir: dir });
   } else pglite = new PGlite();
   const connection = { pglite } as unknown as Knex.StaticConnectionConfig;
   const knex = knexFactory({

@@ -7,14 +7,15 @@ import { PGlite } from '@electric-sql/pglite';
 /**
  * A fresh embedded database started from a template instead of initdb. PGlite's initdb (a second
  * WebAssembly instance building the catalogue) and our migrations were most of `npm start` on a
- * new data directory. The build (scripts/build.mjs) makes the template once: an empty, migrated
- * PGlite data directory dumped as a gzip tarball, with the PGlite version it was made by. The
- * directory is otherwise that of any fresh start: no rows, no secrets (they live in files beside
- * it, secrets.ts), and start-up still runs the migrations, which then find nothing to do.
- * Compiled, TEMPLATE_FILE is dist/pglite-template.tar.gz; run from the sources there is none.
+ * new data directory. The build (src/build/build.mjs) makes the template once: an empty, migrated
+ * PGlite data directory, shut down cleanly, with the PGlite version that made it beside it. A new
+ * directory is a file copy of it (copied by node, not through PGlite's emulated file system, which
+ * took a second for its thousand files). The copy is otherwise that of any fresh start: no rows, no
+ * secrets (they live in files beside it, secrets.ts), and start-up still runs the migrations, which
+ * then find nothing to do. Compiled, TEMPLATE_DIR is dist/pglite-template; from the sources there is none.
  */
-export const TEMPLATE_FILE = fileURLToPath(new URL('../../pglite-template.tar.gz', import.meta.url));
-const metaFile = (file: string) => `${file}.json`;
+export const TEMPLATE_DIR = fileURLToPath(new URL('../../pglite-template', import.meta.url));
+const metaFile = (dir: string) => `${dir}.json`;
 
 interface TemplateMeta {
   pglite: string;
@@ -35,16 +36,27 @@ export function pgliteVersion(): string {
   }
 }
 
-/** The template's bytes, when there is one made by the installed PGlite; else null (initdb runs). */
-export function readTemplate(file: string | null = TEMPLATE_FILE): Blob | null {
-  if (file === null) return null;
+/** The template directory, when there is one made by the installed PGlite; else null (initdb runs). */
+export function usableTemplate(dir: string | null = TEMPLATE_DIR): string | null {
+  if (dir === null) return null;
   try {
-    const meta = JSON.parse(fs.readFileSync(metaFile(file), 'utf8')) as TemplateMeta;
-    if (meta.pglite !== pgliteVersion()) return null;
-    return new Blob([fs.readFileSync(file)], { type: 'application/x-gzip' });
+    const meta = JSON.parse(fs.readFileSync(metaFile(dir), 'utf8')) as TemplateMeta;
+    return meta.pglite === pgliteVersion() && isInitialised(dir) ? dir : null;
   } catch {
     return null;
   }
+}
+
+/**
+ * Fills the new, empty data directory `pgDir` from the template: copied beside it, then renamed into
+ * place, so a start cut short never leaves a half-copied directory that looks made.
+ */
+export function copyTemplate(template: string, pgDir: string): void {
+  const partial = `${pgDir}.copying-${process.pid}`;
+  fs.rmSync(partial, { recursive: true, force: true });
+  fs.cpSync(template, partial, { recursive: true });
+  fs.rmdirSync(pgDir);
+  fs.renameSync(partial, pgDir);
 }
 
 /** True when a PGlite data directory has been made there already (PostgreSQL's PG_VERSION file). */
@@ -53,14 +65,19 @@ export function isInitialised(pgDir: string): boolean {
 }
 
 /** Writes the template: `migrate` brings an empty in-memory database to the latest schema. */
-export async function writeTemplate(migrate: (pglite: PGlite) => Promise<void>, file: string = TEMPLATE_FILE): Promise<void> {
+export async function writeTemplate(migrate: (pglite: PGlite) => Promise<void>, dir: string = TEMPLATE_DIR): Promise<void> {
   const pglite = await PGlite.create();
+  let dump: Blob;
   try {
     await migrate(pglite);
-    const dump = await pglite.dumpDataDir('gzip');
-    fs.writeFileSync(file, Buffer.from(await dump.arrayBuffer()));
-    fs.writeFileSync(metaFile(file), `${JSON.stringify({ pglite: pgliteVersion() } satisfies TemplateMeta)}\n`);
+    dump = await pglite.dumpDataDir('none');
   } finally {
     await pglite.close();
   }
+  fs.rmSync(dir, { recursive: true, force: true });
+  fs.mkdirSync(dir, { recursive: true });
+  // Unpacked once here, and shut down cleanly, so a start only copies files.
+  const unpacked = await PGlite.create({ dataDir: dir, loadDataDir: dump });
+  await unpacked.close();
+  fs.writeFileSync(metaFile(dir), `${JSON.stringify({ pglite: pgliteVersion() } satisfies TemplateMeta)}\n`);
 }

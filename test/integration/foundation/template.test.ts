@@ -18,7 +18,7 @@ describe('the embedded database template', () => {
 
   beforeAll(async () => {
     tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-template-'));
-    template = path.join(tmp, 'template.tar.gz');
+    template = path.join(tmp, 'template');
     await makeTemplate(template);
   });
   afterAll(() => fs.rmSync(tmp, { recursive: true, force: true }));
