@@ -1,6 +1,7 @@
 import knexFactory, { type Knex } from 'knex';
 import ClientPgLite from 'knex-pglite';
-import pg from 'pg';
+import { createRequire } from 'node:module';
+import type pg from 'pg';
 import fs from 'node:fs';
 import path from 'node:path';
 import { PGlite } from '@electric-sql/pglite';
@@ -17,8 +18,17 @@ export interface Database {
   close(): Promise<void>;
 }
 
-// bigint / numeric come back from pg as strings; counts and ids we use fit in a double.
-pg.types.setTypeParser(pg.types.builtins.INT8, (v) => Number(v));
+/**
+ * pg, loaded only for PostgreSQL: the embedded database never needs it, and loading it was part of
+ * `npm start`'s time. bigint / numeric come back from pg as strings; counts and ids we use fit in a double.
+ */
+let pgLoaded = false;
+function loadPg(): void {
+  if (pgLoaded) return;
+  const driver = createRequire(import.meta.url)('pg') as typeof pg;
+  driver.types.setTypeParser(driver.types.builtins.INT8, (v) => Number(v));
+  pgLoaded = true;
+}
 
 /** Connections per app server to PostgreSQL (the benchmarks' ceiling uses the same). */
 export const DEFAULT_POOL_MAX = 10;
@@ -40,6 +50,7 @@ export type DatabaseOptions =
  */
 export function openDatabase(options: DatabaseOptions): Database {
   if (options.engine === 'postgres') {
+    loadPg();
     const knex = knexFactory({
       client: 'pg',
       connection: { connectionString: options.url },
