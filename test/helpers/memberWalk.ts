@@ -56,9 +56,22 @@ function attr(tag: string, name: string): string | undefined {
     : undefined;
 }
 
+/** A step answered other than the walk expects; `status` is what it answered. */
+export class StepFailed extends Error {
+  constructor(
+    readonly status: number,
+    message: string,
+  ) {
+    super(message);
+  }
+}
+
 function expectAnswer(a: Answer, status: number, what: string, location?: string): Answer {
   if (a.status !== status || (location !== undefined && a.location !== location)) {
-    throw new Error(`${what} answered ${a.status}${a.location ? ` → ${a.location}` : ''}, expected ${status}${location ? ` → ${location}` : ''}`);
+    throw new StepFailed(
+      a.status,
+      `${what} answered ${a.status}${a.location ? ` → ${a.location}` : ''}, expected ${status}${location ? ` → ${location}` : ''}`,
+    );
   }
   return a;
 }
