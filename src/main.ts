@@ -1,10 +1,9 @@
-import crypto from 'node:crypto';
 import type { Server } from 'node:http';
 import { ConfigError, loadConfig } from './config.ts';
 import { openConfiguredDatabase } from './db/configured.ts';
 import { DataDirectoryLocked } from './db/dirLock.ts';
 import { MigrationFailed, migrateLatest } from './db/migrate.ts';
-import { DEFAULT_KDF, type UseCaseContext } from './elections/context.ts';
+import { liveContext } from './elections/context.ts';
 import { createLogger } from './log.ts';
 import { loadSecrets } from './secrets.ts';
 import { checkSecretsAgree, SecretsDisagree } from './instanceCheck.ts';
@@ -50,15 +49,7 @@ async function start(): Promise<void> {
     throw e;
   }
 
-  const ctx: UseCaseContext = {
-    knex: db.knex,
-    engine: db.engine,
-    now: () => new Date(),
-    random: (n) => crypto.randomBytes(n),
-    secrets,
-    kdf: DEFAULT_KDF,
-    ledgerPolicy: config.ledger,
-  };
+  const ctx = liveContext(db, secrets, config.ledger);
   // The active signing key's public half is listed on /keys from the start, before its first statement.
   await registerSigningKey(db.knex, secrets.signingSeed, new Date());
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });

@@ -6,7 +6,7 @@ import { loadConfig } from '../config.ts';
 import { ALPHABET } from '../custody/crockford.ts';
 import { openConfiguredDatabase } from '../db/configured.ts';
 import { migrateLatest } from '../db/migrate.ts';
-import { DEFAULT_KDF, type UseCaseContext } from '../elections/context.ts';
+import { liveContext, type UseCaseContext } from '../elections/context.ts';
 import { InvalidInput } from '../errors.ts';
 import { loadSecrets } from '../secrets.ts';
 import { checkFlags, parseFlags } from './args.ts';
@@ -40,14 +40,7 @@ const openConfigured: ContextOpener = async () => {
   const config = loadConfig();
   const db = openConfiguredDatabase(config);
   await migrateLatest(db.knex);
-  const ctx: UseCaseContext = {
-    knex: db.knex,
-    engine: db.engine,
-    now: () => new Date(),
-    random: (n) => crypto.randomBytes(n),
-    secrets: loadSecrets(config),
-    kdf: DEFAULT_KDF,
-  };
+  const ctx = liveContext(db, loadSecrets(config), config.ledger);
   return { ctx, close: () => db.close() };
 };
 

@@ -1,3 +1,4 @@
+import crypto from 'node:crypto';
 import type { Knex } from 'knex';
 import type { Engine } from '../db/knex.ts';
 
@@ -46,3 +47,19 @@ export interface LedgerPolicy {
 export const DEFAULT_LEDGER_POLICY: LedgerPolicy = Object.freeze({ annualBudget: '10', allowOverBudget: false });
 
 export const DEFAULT_KDF: KdfParams = Object.freeze({ memoryKiB: 64 * 1024, iterations: 3, parallelism: 4 });
+
+/**
+ * The context the running product uses (server, CLI, demo): the system clock, node:crypto's
+ * randomness, RFC 9106 Argon2id defaults and the configured ledger policy. Tests build their own.
+ */
+export function liveContext(db: { knex: Knex; engine: Engine }, secrets: InstanceSecrets, ledgerPolicy?: LedgerPolicy): UseCaseContext {
+  return {
+    knex: db.knex,
+    engine: db.engine,
+    now: () => new Date(),
+    random: (n) => crypto.randomBytes(n),
+    secrets,
+    kdf: DEFAULT_KDF,
+    ...(ledgerPolicy ? { ledgerPolicy } : {}),
+  };
+}

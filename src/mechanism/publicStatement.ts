@@ -14,7 +14,7 @@ import { factorAtMost, type Protection } from './statement.ts';
  * minute, key id), the mechanism and every parameter a verifier needs to recompute the bounds,
  * what was released, and the member group's ledger totals at the draw. It carries no field from
  * which an approval count could be computed: the bounds depend only on ε, the number of options
- * and the seats. schemas/statement-v1.schema.json describes it; bump FORMAT when a field changes meaning.
+ * and the seats. src/statement/statement-v1.schema.json describes it; bump FORMAT when a field changes meaning.
  */
 export const STATEMENT_FORMAT = 'veiltally-statement/1';
 export { DRAW_RULES, type DrawRule };

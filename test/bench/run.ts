@@ -12,9 +12,9 @@ import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { parseArgs } from 'node:util';
 // @ts-expect-error plain JavaScript shared with npm start; no declarations
-import { buildIsFresh } from '../../scripts/buildState.mjs';
+import { buildIsFresh } from '../../src/build/buildState.mjs';
 // @ts-expect-error plain JavaScript shared with npm start; no declarations
-import { build } from '../../scripts/build.mjs';
+import { build } from '../../src/build/build.mjs';
 import { machine, type BenchOptions, type Figure } from './support/figures.ts';
 
 const here = path.dirname(fileURLToPath(import.meta.url));

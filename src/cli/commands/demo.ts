@@ -1,9 +1,8 @@
-import crypto from 'node:crypto';
 import { loadConfig } from '../../config.ts';
 import { openConfiguredDatabase } from '../../db/configured.ts';
 import { migrateLatest } from '../../db/migrate.ts';
 import { seedDemo, type DemoSummary } from '../../demo/seedDemo.ts';
-import { DEFAULT_KDF } from '../../elections/context.ts';
+import { liveContext } from '../../elections/context.ts';
 import { loadSecrets } from '../../secrets.ts';
 import type { Command } from '../io.ts';
 
@@ -62,14 +61,7 @@ export const demoCommand: Command = {
     const db = openConfiguredDatabase(config);
     try {
       await migrateLatest(db.knex);
-      const summary = await seedDemo({
-        knex: db.knex,
-        engine: db.engine,
-        now: () => new Date(),
-        random: (n) => crypto.randomBytes(n),
-        secrets,
-        kdf: DEFAULT_KDF,
-      });
+      const summary = await seedDemo(liveContext(db, secrets, config.ledger));
       io.stdout(demoText(summary, config.publicUrl));
       return 0;
     } finally {

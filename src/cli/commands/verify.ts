@@ -3,7 +3,7 @@ import { z } from 'zod';
 import { signingKeyId, verifyStatement } from '../../custody/index.ts';
 import { InvalidInput } from '../../errors.ts';
 import { canonicalJson, recheckStatement, STATEMENT_FORMAT, type StatementEnvelope } from '../../mechanism/index.ts';
-import { schemaProblems } from '../../statementFormat.ts';
+import { schemaProblems } from '../../statement/format.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
 import { wrap } from '../table.ts';

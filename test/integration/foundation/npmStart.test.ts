@@ -16,7 +16,7 @@ async function answers(url: string): Promise<boolean> {
 // `npm start` runs through a shell; a signal to npm must reach the server itself, or the server
 // lives on as an orphan holding the port and the embedded database.
 describe('npm start [pglite]', () => {
-  it('serves /healthz from the compiled build, and SIGTERM to npm stops the server', { timeout: 240_000 }, async () => {
+  it('serves /healthz and the statement schema from the compiled build, and SIGTERM to npm stops the server', { timeout: 240_000 }, async () => {
     const port = await freePort();
     const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-npm-'));
     const npm = spawn('npm', ['start', '--silent'], {
@@ -35,6 +35,10 @@ describe('npm start [pglite]', () => {
       await new Promise((r) => setTimeout(r, 200));
     }
     expect(fs.existsSync(path.join(REPO_ROOT, 'dist', 'src', 'main.js'))).toBe(true);
+    // Files the compiled code reads from disk travel with the build: the statement's JSON Schema.
+    const schema = await fetch(`http://127.0.0.1:${port}/schemas/statement-v1.schema.json`);
+    expect(schema.status).toBe(200);
+    expect(((await schema.json()) as { $schema?: string }).$schema).toMatch(/2020-12/);
 
     npm.kill('SIGTERM');
     await exited;

@@ -7,7 +7,7 @@ import { publicKeyFromSeed, signingKeyId } from '../../../src/custody/index.ts';
 import { verifyStatementText } from '../../../src/cli/commands/verify.ts';
 import { main } from '../../../src/cli/main.ts';
 import { canonicalJson, type StatementEnvelope } from '../../../src/mechanism/index.ts';
-import { schemaProblems } from '../../../src/statementFormat.ts';
+import { schemaProblems } from '../../../src/statement/format.ts';
 import { engines } from '../../helpers/databases.ts';
 import { openStoredBallots } from '../../helpers/fixtures.ts';
 import { publishResult } from '../../../src/elections/publishResult.ts';

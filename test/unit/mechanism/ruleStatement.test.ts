@@ -7,7 +7,7 @@ import {
   makeExponentialDraw,
   makePermuteAndFlipDraw,
 } from '../../../src/mechanism/index.ts';
-import { schemaProblems } from '../../../src/statementFormat.ts';
+import { schemaProblems } from '../../../src/statement/format.ts';
 
 // A tenants' association choosing repairs (invented scenario).
 const labels = ['Boiler', 'Roof', 'Lift', 'Windows', 'Intercom', 'Bins', 'Stairs', 'Garden'];

@@ -7,7 +7,7 @@ import { findStatement } from '../../../elections/signDraw.ts';
 import { findSigningKey, listSigningKeys, type SigningKey } from '../../../elections/signingKeyRepo.ts';
 import { NotFound } from '../../../errors.ts';
 import { canonicalJson } from '../../../mechanism/index.ts';
-import { STATEMENT_SCHEMA_URL, statementSchemaText } from '../../../statementFormat.ts';
+import { STATEMENT_SCHEMA_URL, statementSchemaText } from '../../../statement/format.ts';
 import type { AppDeps } from '../../deps.ts';
 import { ledgerPageView } from '../../presenters/ledger.ts';
 import { idParam, keyIdParam } from './schema.ts';

@@ -3,11 +3,11 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 
-export const ROOT = fileURLToPath(new URL('../', import.meta.url));
+export const ROOT = fileURLToPath(new URL('../../', import.meta.url));
 export const DIST = path.join(ROOT, 'dist');
 export const STAMP = path.join(DIST, '.built');
 /** What a build is made from: a change to any of these makes dist/ stale. */
-export const INPUTS = ['src', 'migrations', 'views', 'tsconfig.json', 'tsconfig.build.json', 'package.json'];
+export const INPUTS = ['src', 'migrations', 'views', 'tsconfig.json', 'package.json'];
 
 function newest(p) {
   let stat;

@@ -12,4 +12,4 @@ if (!buildIsFresh()) {
     process.exit(1);
   }
 }
-await import('../dist/src/main.js');
+await import('../../dist/src/main.js');

@@ -4,10 +4,10 @@ import { Ajv2020 } from 'ajv/dist/2020.js';
 import addFormatsImport from 'ajv-formats';
 
 /**
- * The JSON Schema (draft 2020-12) of the signed statement, shipped in schemas/ and served at
+ * The JSON Schema (draft 2020-12) of the signed statement, kept beside this file (the build copies it) and served at
  * STATEMENT_SCHEMA_URL, and its validator (ajv). Shared by the web layer and the CLI.
  */
-export const STATEMENT_SCHEMA_FILE = fileURLToPath(new URL('../schemas/statement-v1.schema.json', import.meta.url));
+export const STATEMENT_SCHEMA_FILE = fileURLToPath(new URL('./statement-v1.schema.json', import.meta.url));
 export const STATEMENT_SCHEMA_URL = '/schemas/statement-v1.schema.json';
 
 let validator: (((value: unknown) => boolean) & { errors?: { instancePath: string; message?: string }[] | null }) | null = null;
