@@ -1,6 +1,7 @@
 import type { Request, Response } from 'express';
 import { hmacSha256, openForElection, sealForElection } from '../../../custody/index.ts';
 import type { RandomBytes } from '../../../elections/context.ts';
+import { cookieValue } from '../../middleware/sessions.ts';
 
 /**
  * A short-lived cookie whose value only this server can read or make: the text and its expiry are
@@ -58,13 +59,4 @@ export function sealedCookie(sessionSecret: string, secure: boolean, random: Ran
       res.clearCookie(name, options(electionId));
     },
   };
-}
-
-function cookieValue(header: string | undefined, name: string): string | null {
-  if (!header) return null;
-  for (const part of header.split(';')) {
-    const eq = part.indexOf('=');
-    if (eq > 0 && part.slice(0, eq).trim() === name) return part.slice(eq + 1).trim();
-  }
-  return null;
 }
