@@ -169,17 +169,11 @@ export async function sendCast(p: PreparedCast, signal?: AbortSignal): Promise<C
 }
 
 /** The whole walk for one cast; a refused step is its answer (a status, no receipt). */
-export async function cast(
-  base: string,
-  m: Member,
-  electionId: string,
-  code: string,
-  approvals: number[],
-  signal?: AbortSignal,
-): Promise<CastResult> {
+export async function cast(...walk: Parameters<typeof prepareCast>): Promise<CastResult> {
+  const signal = walk[5];
   let prepared: PreparedCast;
   try {
-    prepared = await prepareCast(base, m, electionId, code, approvals, signal);
+    prepared = await prepareCast(...walk);
   } catch (e) {
     if (e instanceof StepFailed) return { status: e.status, receipt: null };
     throw e;
