@@ -115,7 +115,9 @@ describe('members never meet a dead end', () => {
     await page.getByLabel('Ballot code or ballot link').fill(f.codes[0]!.toLowerCase().replace(/-/g, ' '));
     await page.getByRole('button', { name: 'Find my ballot' }).click();
     await expect(page.getByRole('heading', { name: 'Club barbecue date' }).isVisible()).resolves.toBe(true);
-    expect(page.url()).toBe(`${env.server.url}/ballot`); // the code is in no address
+    // The same hand-over as the ballot's own code step: a GET of its ballot page; the code is in no address.
+    expect(page.url()).toBe(`${env.server.url}/vote/${f.id}/ballot`);
+    await expect(page.getByText('Your code belongs to this ballot').isVisible()).resolves.toBe(true);
     await checkPage(page, 'flows-home-found-phone');
     await context.close();
   });

@@ -49,7 +49,12 @@ async function voteThrough(page: Page, f: ElectionFixture, code: string, tick: s
   await page.getByRole('button', { name: /^Cast my/ }).click();
   await expect(page.getByRole('heading', { name: 'Your ballot has been received' }).isVisible()).resolves.toBe(true);
   await checkPage(page, `vote-4-receipt-${size}`);
-  return page.locator('p.receipt').innerText();
+  const receipt = await page.locator('p.receipt').innerText();
+  // Back from the receipt: the read-back again, now saying the ballot is cast (post/redirect/get).
+  await page.goBack();
+  await expect(page.getByRole('heading', { name: 'This ballot has already been cast' }).isVisible()).resolves.toBe(true);
+  await checkPage(page, `vote-5-already-cast-${size}`);
+  return receipt;
 }
 
 it('the axe check itself reports an unlabelled field (control: the audit can fail)', async () => {
@@ -88,8 +93,12 @@ describe('member pages in Chromium', () => {
     await page.getByRole('button', { name: 'Show my ballot' }).click();
     await expect(page.getByRole('alert').first().innerText()).resolves.toContain('needs another look');
     await checkPage(page, 'vote-error-typo-desktop');
+    // A used code shows the ballot like any other (no code-status oracle); the cast says it was used.
     await page.getByLabel('Ballot code', { exact: true }).fill(f.codes[0]!);
     await page.getByRole('button', { name: 'Show my ballot' }).click();
+    await page.getByRole('button', { name: 'Read back my choices' }).click();
+    await page.getByRole('button', { name: /^Cast my/ }).click();
+    await expect(page.getByRole('heading', { name: 'Your code has already been used' }).isVisible()).resolves.toBe(true);
     await checkPage(page, 'vote-error-used-desktop');
     await context.close();
   });

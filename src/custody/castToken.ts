@@ -1,12 +1,13 @@
 import type { RandomSource as RandomBytes } from '../mechanism/random.ts';
 import { uuidBytes } from './ids.ts';
 import { hmacSha256 } from './keyedHash.ts';
-import { sodium, wipe } from './sodium.ts';
+import { openForElection, sealForElection } from './sealed.ts';
 
 /**
- * A one-time cast token: 256 random bits put in the member's confirmation form, so that the same
- * submission sent again (after an answer lost to a dropped connection or a crashed server) finds
- * its receipt instead of "already used". Only this browser's page holds the token. Stored are a
+ * A one-time cast token: 256 random bits made when the member reaches the confirmation step and
+ * kept in their browser's sealed step cookie, so that the same cast sent again (after an answer
+ * lost to a dropped connection or a crashed server) finds its receipt instead of "already used".
+ * Only this browser holds the token. Stored are a
  * keyed hash of it (to find the row) and the receipt encrypted under a key derived from the token
  * itself (so the database alone cannot read the receipt). The rows go at the tally's rewrite.
  */
@@ -32,41 +33,15 @@ export function castTokenHash(pepper: Uint8Array, electionId: string, token: Uin
   return hmacSha256(pepper, Buffer.concat([Buffer.from('veiltally/cast-token/1\0', 'utf8'), uuidBytes(electionId), token]));
 }
 
-/** HMAC-SHA-256 as a PRF keyed by the 256-bit token (RFC 2104; the key is uniformly random). */
-function receiptKey(token: Uint8Array, electionId: string): Buffer {
-  return hmacSha256(token, Buffer.concat([Buffer.from('veiltally/receipt-key/1\0', 'utf8'), uuidBytes(electionId)]));
-}
-
-const NONCE = 24; // crypto_aead_xchacha20poly1305_ietf_NPUBBYTES
-const TAG = 16; // crypto_aead_xchacha20poly1305_ietf_ABYTES
-
-/** nonce ‖ XChaCha20-Poly1305(receipt), associated data = the election id. */
+/**
+ * The receipt, sealed under a key derived from the token itself (sealed.ts): the row in the
+ * database alone cannot be opened.
+ */
 export function sealReceiptForToken(token: Uint8Array, electionId: string, receipt: string, random: RandomBytes): Buffer {
-  const key = receiptKey(token, electionId);
-  try {
-    const nonce = Buffer.from(random(NONCE));
-    const m = Buffer.from(receipt, 'ascii');
-    const c = Buffer.alloc(m.byteLength + TAG);
-    sodium.crypto_aead_xchacha20poly1305_ietf_encrypt(c, m, uuidBytes(electionId), null, nonce, key);
-    return Buffer.concat([nonce, c]);
-  } finally {
-    wipe(key);
-  }
+  return sealForElection(token, electionId, receipt, random);
 }
 
 /** The receipt, or null when these bytes were not sealed with this token for this election. */
 export function openReceiptForToken(token: Uint8Array, electionId: string, sealed: Uint8Array): string | null {
-  if (sealed.byteLength <= NONCE + TAG) return null;
-  const key = receiptKey(token, electionId);
-  try {
-    const nonce = sealed.subarray(0, NONCE);
-    const c = sealed.subarray(NONCE);
-    const m = Buffer.alloc(c.byteLength - TAG);
-    sodium.crypto_aead_xchacha20poly1305_ietf_decrypt(m, null, c, uuidBytes(electionId), nonce, key);
-    return m.toString('ascii');
-  } catch {
-    return null;
-  } finally {
-    wipe(key);
-  }
+  return openForElection(token, electionId, sealed);
 }

@@ -29,4 +29,5 @@ export { signStatement, verifyStatement, publicKeyFromSeed, signingKeyId, keyFin
 export { uuidBytes, randomUuid } from './ids.ts';
 export { sodiumRandom, wipe } from './sodium.ts';
 export { WrongPassphrase, BallotUnreadable, CodeTypo, CodeMalformed, ReceiptMalformed, WrappedKeyInvalid } from './errors.ts';
+export { sealForElection, openForElection } from './sealed.ts';
 export { generateCastToken, parseCastToken, castTokenHash, sealReceiptForToken, openReceiptForToken, CAST_TOKEN_BYTES } from './castToken.ts';

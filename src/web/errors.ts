@@ -62,3 +62,15 @@ function waitText(ms: number | undefined): string {
   if (ms < 60_000) return `Wait ${Math.ceil(ms / 1000)} seconds, then try again.`;
   return `Wait ${minutes} minute${minutes === 1 ? '' : 's'}, then try again.`;
 }
+
+/**
+ * A cast sent after the member's step cookie lapsed (routes/vote/stepCookie.ts): the code and ticks
+ * are gone from this browser, so nothing can be cast; the member starts again from their code.
+ */
+export class VoteStepLapsed extends VeiltallyError {
+  readonly code = 'VoteStepLapsed';
+  override readonly status = 409;
+  constructor() {
+    super('Nothing was cast just now: this browser had forgotten your code and choices, because the page was left open too long.');
+  }
+}

@@ -19,6 +19,7 @@ import {
   type ElectionFixture,
   type FixtureOptions,
 } from './fixtures.ts';
+import { CookieJar, type Answer, type MemberHttp } from './memberWalk.ts';
 
 export const SUITE_START = '2026-06-01T09:00:00Z';
 export const DAY = 24 * 3600_000;
@@ -32,6 +33,8 @@ export interface MemberSuite {
   /** A member's browser: a cookie jar that has loaded the code entry page, and its CSRF token. */
   begin(f: ElectionFixture): Promise<{ agent: Agent; csrf: string; html: string }>;
   post(agent: Agent, path: string, fields: Record<string, string | string[] | undefined>): ReturnType<Agent['post']>;
+  /** A fresh member's browser (its own cookie jar) for the walk in memberWalk.ts, and its agent. */
+  browser(): MemberHttp & { agent: Agent; jar: CookieJar };
   /** Opens, casts these ballots (option positions), moves past the close, tallies and (by default) publishes. */
   decided(ballots: number[][], o?: FixtureOptions, publish?: boolean): Promise<Decided>;
 }
@@ -78,6 +81,7 @@ export function useMemberSuite(engine: Engine): MemberSuite {
       return { agent, csrf: csrfFrom(res.text), html: res.text };
     },
     post: (agent, path, fields) => agent.post(path).type('form').send(formBody(fields)),
+    browser: () => agentMember(request.agent(state.app)),
     async decided(ballots, o = {}, publish = true) {
       const f = await openElectionFixture(state.ctx, state.organiserId, { codes: Math.max(ballots.length, 1), ...o });
       const receipts = await castAll(state.ctx, f, ballots);
@@ -89,5 +93,30 @@ export function useMemberSuite(engine: Engine): MemberSuite {
       const e = await findElection(state.ctx.knex, f.id);
       return { f, receipts, winners, statement: (e!.result as { statement: PrivacyStatement }).statement };
     },
+  };
+}
+
+/**
+ * A supertest agent as a MemberHttp: the agent's jar keeps the step and receipt cookies by path;
+ * `jar` mirrors them, so a test can replay a request as this browser without the agent seeing the answer.
+ */
+export function agentMember(agent: Agent): MemberHttp & { agent: Agent; jar: CookieJar } {
+  const jar = new CookieJar();
+  const answer = (r: request.Response): Answer => {
+    const setCookies = [(r.headers['set-cookie'] as unknown as string[] | undefined) ?? []].flat();
+    jar.take(setCookies);
+    return { status: r.status, location: r.headers.location as string | undefined, text: r.text, setCookies };
+  };
+  return {
+    agent,
+    jar,
+    get: async (path) => answer(await agent.get(path)),
+    post: async (path, fields) =>
+      answer(
+        await agent
+          .post(path)
+          .type('form')
+          .send(new URLSearchParams(fields.map(([k, v]): [string, string] => [k, v])).toString()),
+      ),
   };
 }

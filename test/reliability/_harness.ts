@@ -8,6 +8,7 @@ import type { UseCaseContext } from '../../src/elections/context.ts';
 import { TEST_KDF } from '../helpers/context.ts';
 import { createOrganiser, openElectionFixture, type ElectionFixture } from '../helpers/fixtures.ts';
 import { startServer, type RunningServer } from '../helpers/server.ts';
+import { CookieJar, StepFailed, fetchMember, hiddenFields, toConfirm } from '../helpers/memberWalk.ts';
 
 /**
  * Shared by the reliability suite: real server processes on loopback, a real database (a fresh
@@ -101,7 +102,7 @@ export async function launch(target: Target, extra: Record<string, string> = {})
   return startServer({ LOG_LEVEL: 'warn', ...target.env, ...extra }, target.dataDir);
 }
 
-/** A member's browser, reduced to what casting needs: the token cookie and the form token. */
+/** A member's browser, reduced to its form-token cookie and form token; each cast walks the steps from there. */
 export interface Member {
   cookie: string;
   csrf: string;
@@ -121,30 +122,63 @@ export interface CastResult {
   receipt: string | null;
 }
 
-export async function cast(
+/** A member's browser at the read-back page: its cookies (step cookie included) and the cast form it shows. */
+export interface PreparedCast {
+  base: string;
+  cookie: string;
+  form: { action: string; fields: [string, string][] };
+}
+
+/**
+ * Walks one member's browser (starting from `m`'s token cookie) through the code and ballot steps
+ * to the read-back page (test/helpers/memberWalk.ts). Throws StepFailed when a step is refused.
+ */
+export async function prepareCast(
   base: string,
   m: Member,
   electionId: string,
   code: string,
   approvals: number[],
   signal?: AbortSignal,
-): Promise<CastResult> {
-  const body = new URLSearchParams({ _csrf: m.csrf, code });
-  for (const a of approvals) body.append('approve', String(a));
-  const res = await fetch(`${base}/vote/${electionId}/cast`, {
+): Promise<PreparedCast> {
+  const jar = new CookieJar();
+  jar.take(m.cookie.split('; ').filter(Boolean));
+  const browser = fetchMember(base, { jar, signal });
+  const confirm = await toConfirm(browser, electionId, code, approvals);
+  return { base, cookie: jar.header(), form: hiddenFields(confirm.text, `/vote/${electionId}/cast`) };
+}
+
+/** Sends the prepared cast; on 303 reads the receipt page with the cookies that answer set. */
+export async function sendCast(p: PreparedCast, signal?: AbortSignal): Promise<CastResult> {
+  const res = await fetch(new URL(p.form.action, p.base), {
     method: 'POST',
     redirect: 'manual',
-    headers: { 'content-type': 'application/x-www-form-urlencoded', cookie: m.cookie },
-    body,
+    headers: { 'content-type': 'application/x-www-form-urlencoded', cookie: p.cookie },
+    body: new URLSearchParams(p.form.fields),
     signal,
   });
   await res.arrayBuffer();
   if (res.status !== 303) return { status: res.status, receipt: null };
   // Post/redirect/get: the receipt is shown once, to the browser holding the receipt cookie.
-  const cookie = [m.cookie, ...(res.headers.getSetCookie?.() ?? []).map((c) => c.split(';')[0])].join('; ');
-  const page = await fetch(new URL(res.headers.get('location')!, base), { headers: { cookie }, signal });
+  const jar = new CookieJar();
+  jar.take(p.cookie.split('; ').filter(Boolean));
+  jar.take(res.headers.getSetCookie?.() ?? []);
+  const page = await fetch(new URL(res.headers.get('location')!, p.base), { headers: { cookie: jar.header() }, signal });
   const html = await page.text();
   return { status: page.status, receipt: page.status === 200 ? (/<p class="receipt">([^<]+)<\/p>/.exec(html)?.[1] ?? null) : null };
+}
+
+/** The whole walk for one cast; a refused step is its answer (a status, no receipt). */
+export async function cast(...walk: Parameters<typeof prepareCast>): Promise<CastResult> {
+  const signal = walk[5];
+  let prepared: PreparedCast;
+  try {
+    prepared = await prepareCast(...walk);
+  } catch (e) {
+    if (e instanceof StepFailed) return { status: e.status, receipt: null };
+    throw e;
+  }
+  return sendCast(prepared, signal);
 }
 
 /** Runs `work(i)` for i in [0, count) on `clients` concurrent workers, stopping early at `deadline`. */

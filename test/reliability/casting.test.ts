@@ -8,6 +8,8 @@ import {
   countRows,
   launch,
   memberSession,
+  prepareCast,
+  sendCast,
   pool,
   postgresTarget,
   prepareElection,
@@ -38,9 +40,12 @@ describe.runIf(PG_URL)('casting under load [postgres]', () => {
       const f = await prepareElection(target, secrets.pepper, secrets.seed, 1);
       const servers = instances === 1 ? [a] : [a, b];
       const members = await Promise.all(servers.map((s) => memberSession(s.url, f.id)));
-      const results = await Promise.all(
-        Array.from({ length: 200 }, (_x, i) => cast(servers[i % servers.length]!.url, members[i % servers.length]!, f.id, f.codes[0]!, [i % 4])),
+      // Each of 200 browsers reads the same code's ballot back first (no code-status oracle before a cast); then all cast at once.
+      const prepared = await pool(200, 16, 120_000, (i) =>
+        prepareCast(servers[i % servers.length]!.url, members[i % servers.length]!, f.id, f.codes[0]!, [i % 4]),
       );
+      expect(prepared.filter(Boolean)).toHaveLength(200);
+      const results = await Promise.all(prepared.map((p) => sendCast(p)));
       const ok = results.filter((r) => r.status === 200);
       const receipts = new Set(ok.map((r) => r.receipt));
       const db = target.open();

@@ -10,6 +10,7 @@ import { freshDatabase, type TestDatabase } from '../helpers/databases.ts';
 import { FIXTURE_PASSWORD, createOrganiser, openElectionFixture, type ElectionFixture } from '../helpers/fixtures.ts';
 import { TEST_KDF, testContext } from '../helpers/context.ts';
 import { pool, record } from './_harness.ts';
+import { fetchMember, toConfirm } from '../helpers/memberWalk.ts';
 
 /**
  * Hostile input: fast-check generates requests against every form and path (bad percent-encoding,
@@ -57,9 +58,9 @@ const FORMS: Array<{ path: string; fields: string[]; organiser?: boolean }> = [
   { path: '/organise/elections/:id/tally', organiser: true, fields: ['passphrase'] },
   { path: '/organise/elections/:id/publish', organiser: true, fields: ['confirm'] },
   { path: '/organise/organisers', organiser: true, fields: ['email', 'password', 'passwordAgain'] },
-  { path: '/vote/:id/ballot', fields: ['code', 'approve', 'changing'] },
-  { path: '/vote/:id/confirm', fields: ['code', 'approve'] },
-  { path: '/vote/:id/cast', fields: ['code', 'approve'] },
+  { path: '/vote/:id/ballot', fields: ['code', 'approve'] },
+  { path: '/vote/:id/confirm', fields: ['approve', 'code'] },
+  { path: '/vote/:id/cast', fields: ['readBack', 'code', 'approve'] },
   { path: '/results/:id/receipt', fields: ['receipt'] },
 ];
 const PAGES = [
@@ -79,6 +80,9 @@ const PAGES = [
   '/organise/elections/:id/publish',
   '/vote/:id',
   '/vote/:id/ballot',
+  '/vote/:id/confirm',
+  '/vote/:id/cast',
+  '/vote/:id/receipt',
   '/results/:id',
   '/results/:id/receipt',
   '/static/style.css',
@@ -244,11 +248,10 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
 
   it(`answers ${RUNS.toLocaleString('en')} generated requests without one 5xx, with the security headers on every answer`, async () => {
     const organiser = await tokensFor(organiserCookie);
-    const anonPage = await fetch(`${base}/vote/${f.id}`);
-    const anonymous = {
-      cookie: (anonPage.headers.getSetCookie?.() ?? []).map((c) => c.split(';')[0]).join('; '),
-      csrf: /name="_csrf" value="([^"]+)"/.exec(await anonPage.text())![1]!,
-    };
+    // The anonymous member has walked to the read-back, so fuzzed steps meet a real step cookie too.
+    const member = fetchMember(base);
+    const readBack = await toConfirm(member, f.id, f.codes[49]!, [0]);
+    const anonymous = { cookie: member.jar.header(), csrf: /name="_csrf" value="([^"]+)"/.exec(readBack.text)![1]! };
     const requests = fc.sample(requestArb(), { numRuns: RUNS, seed: SEED });
     const ids = (r: Req) =>
       [f.id, '00000000-0000-4000-8000-000000000000', '%E0%A4%A', 'z'.repeat(5000), enc(String(r.fields[0]?.[1][0] ?? 'x')).slice(0, 2000) || 'x'][
@@ -260,6 +263,11 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
     const results = await pool(requests.length, 16, 420_000, async (i) => {
       const r = requests[i]!;
       const who = r.organiser ? organiser : anonymous;
+      // Every fifth anonymous request also sends a forged step cookie first (the one the server reads): the fuzzed
+      // text in the cookie's own alphabet, so it reaches the decryption, or percent-encoded, so it does not.
+      const junk = String(r.fields[0]?.[1][0] ?? 'A'.repeat(300));
+      const forged =
+        !r.organiser && i % 5 === 0 ? `vt-vote=${(i % 10 === 0 ? Buffer.from(junk).toString('base64url') : enc(junk)).slice(0, 3000)}; ` : '';
       const path = r.path.replace(':id', ids(r)) + r.rawQuery;
       const body = new URLSearchParams();
       if (r.csrf) body.append('_csrf', who.csrf);
@@ -267,7 +275,7 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
       const res = await fetch(`${base}${path}`, {
         method: r.method,
         redirect: 'manual',
-        headers: { cookie: who.cookie, ...(r.method === 'POST' ? { 'content-type': 'application/x-www-form-urlencoded' } : {}) },
+        headers: { cookie: forged + who.cookie, ...(r.method === 'POST' ? { 'content-type': 'application/x-www-form-urlencoded' } : {}) },
         body: r.method === 'POST' ? body : undefined,
       });
       await res.arrayBuffer();

@@ -2,6 +2,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { execFileSync } from 'node:child_process';
 import { Writable } from 'node:stream';
 import request from 'supertest';
+import { agentMember } from '../helpers/memberSuite.ts';
+import { voteThrough } from '../helpers/memberWalk.ts';
 import type { Express } from 'express';
 import { loadConfig } from '../../src/config.ts';
 import { createApp } from '../../src/web/app.ts';
@@ -96,32 +98,9 @@ describe.runIf(process.env.TEST_DATABASE_URL)('secrets stay out of logs and dump
 
     const receipts: string[] = [];
     for (const [i, code] of codes.entries()) {
-      const member = request.agent(app);
-      const start = await member.get(`/vote/${id}`).expect(200);
-      const token = csrfFrom(start.text);
-      const step = await member
-        .post(`/vote/${id}/ballot`)
-        .type('form')
-        .send(encode({ _csrf: token, code }));
-      expect(
-        step.status,
-        `${code}: ${step.text
-          .replace(/<[^>]+>/g, ' ')
-          .replace(/\s+/g, ' ')
-          .slice(0, 600)}`,
-      ).toBe(200);
-      await member
-        .post(`/vote/${id}/confirm`)
-        .type('form')
-        .send(encode({ _csrf: token, code, approve: [String(i % 3)] }))
-        .expect(200);
-      const posted = await member
-        .post(`/vote/${id}/cast`)
-        .type('form')
-        .send(encode({ _csrf: token, code, approve: [String(i % 3)] }))
-        .expect(303);
-      const cast = await member.get(posted.headers.location!).expect(200);
-      receipts.push(/<p class="receipt">([^<]+)<\/p>/.exec(cast.text)![1]!);
+      const { receipt, cast } = await voteThrough(agentMember(request.agent(app)), id, code, [i % 3]);
+      expect(cast.status, code).toBe(303);
+      receipts.push(receipt!);
     }
     expect((await postForm(agent, `/organise/elections/${id}/close`, `/organise/elections/${id}/close`, {})).status).toBeLessThan(400);
     expect(

@@ -68,7 +68,8 @@ const csrf = csrfSync({
 const ANON_PREFIX = 'a.';
 const NONCE = /^[A-Za-z0-9_-]{43}$/;
 
-function cookieValue(header: string | undefined, name: string): string | undefined {
+/** One cookie's value from a Cookie header (hand-written: Express parses no cookies without cookie-parser, a dependency for two reads). */
+export function cookieValue(header: string | undefined, name: string): string | undefined {
   if (!header) return undefined;
   for (const part of header.split(';')) {
     const i = part.indexOf('=');

@@ -1,11 +1,12 @@
 import http from 'node:http';
 import { percentile } from './figures.ts';
+import { CookieJar, hiddenFields, toConfirm, type Answer, type MemberHttp } from '../../helpers/memberWalk.ts';
 
 /**
  * A bounded HTTP client for intake benchmarks: members who each hold one ballot code walk
- * the real pages (start → confirm) beforehand, untimed; then `concurrency` of them at a time
- * send the final cast, exactly the form the confirm page gave them (whatever hidden fields
- * it carries), and only that POST is timed. Written here rather than with autocannon because
+ * the real pages (code → ballot → read-back) beforehand, untimed; then `concurrency` of them at
+ * a time send the final cast, exactly the form the read-back page gave them with the cookies their
+ * browser then held (the step cookie among them), and only that POST is timed. Written here rather than with autocannon because
  * every request needs its own member's cookies and form fields.
  */
 export interface PreparedCast {
@@ -46,49 +47,22 @@ function request(agent: http.Agent, base: URL, method: string, path: string, coo
   });
 }
 
-function decode(s: string): string {
-  return s
-    .replace(/&#(\d+);/g, (_, n: string) => String.fromCharCode(Number(n)))
-    .replace(/&quot;/g, '"')
-    .replace(/&lt;/g, '<')
-    .replace(/&gt;/g, '>')
-    .replace(/&#39;/g, "'")
-    .replace(/&amp;/g, '&');
-}
+/** The hidden fields of the first form posting to an address ending with `suffix` (the walk's own parser). */
+export const formFields = hiddenFields;
 
-function attr(tag: string, name: string): string | undefined {
-  const m = new RegExp(`\\s${name}="([^"]*)"`).exec(tag);
-  return m ? decode(m[1]!) : undefined;
-}
-
-/** The hidden fields of the first form whose action ends with `suffix`. */
-export function formFields(html: string, suffix: string): { action: string; fields: [string, string][] } {
-  for (const m of html.matchAll(/<form\b([^>]*)>([\s\S]*?)<\/form>/g)) {
-    const action = attr(m[1]!, 'action');
-    if (!action || !action.endsWith(suffix)) continue;
-    const fields: [string, string][] = [];
-    for (const input of m[2]!.matchAll(/<input\b[^>]*>/g)) {
-      if (attr(input[0], 'type') !== 'hidden') continue;
-      const name = attr(input[0], 'name');
-      if (name) fields.push([name, attr(input[0], 'value') ?? '']);
-    }
-    return { action, fields };
-  }
-  throw new Error(`no form posting to …${suffix} on the page`);
-}
-
-class Jar {
-  private readonly values = new Map<string, string>();
-  take(setCookies: string[]): void {
-    for (const c of setCookies) {
-      const [pair] = c.split(';');
-      const eq = pair!.indexOf('=');
-      this.values.set(pair!.slice(0, eq).trim(), pair!.slice(eq + 1).trim());
-    }
-  }
-  header(): string {
-    return [...this.values].map(([k, v]) => `${k}=${v}`).join('; ');
-  }
+/** The bench's own HTTP client as the member walk's browser: bounded keep-alive sockets, a cookie jar. */
+function browser(agent: http.Agent, base: URL, jar: CookieJar): MemberHttp {
+  const answer = (r: Reply): Answer => {
+    jar.take(r.cookies);
+    return { status: r.status, location: r.location || undefined, text: r.body, setCookies: r.cookies };
+  };
+  return {
+    get: async (path) => answer(await request(agent, base, 'GET', path, jar.header())),
+    post: async (path, fields) =>
+      answer(
+        await request(agent, base, 'POST', path, jar.header(), new URLSearchParams(fields.map(([k, v]): [string, string] => [k, v])).toString()),
+      ),
+  };
 }
 
 async function pool<T>(items: readonly T[], concurrency: number, work: (item: T) => Promise<void>): Promise<void> {
@@ -100,7 +74,11 @@ async function pool<T>(items: readonly T[], concurrency: number, work: (item: T)
   );
 }
 
-/** Walks each member to the confirm page and keeps the cast form it offers. */
+/**
+ * Walks each member through the real steps to the read-back page (test/helpers/memberWalk.ts) and
+ * keeps the cast form it offers with the browser's cookies at that moment: the step cookie, which
+ * carries the code, the ticks and the cast token, goes with the cast as a browser would send it.
+ */
 export async function prepareCasts(
   baseUrl: string,
   electionId: string,
@@ -112,20 +90,9 @@ export async function prepareCasts(
   const prepared: PreparedCast[] = new Array(codes.length);
   try {
     await pool([...codes.keys()], 8, async (i) => {
-      const jar = new Jar();
-      const start = await request(agent, base, 'GET', `/vote/${electionId}`, '');
-      if (start.status !== 200) throw new Error(`start page answered ${start.status}`);
-      jar.take(start.cookies);
-      const startForm = formFields(start.body, '/ballot');
-      const body = new URLSearchParams([
-        ...startForm.fields,
-        ['code', codes[i]!],
-        ...approvalsFor(i).map((p): [string, string] => ['approve', String(p)]),
-      ]);
-      const confirm = await request(agent, base, 'POST', startForm.action.replace(/\/ballot$/, '/confirm'), jar.header(), body.toString());
-      if (confirm.status !== 200) throw new Error(`confirm page answered ${confirm.status}`);
-      jar.take(confirm.cookies);
-      const cast = formFields(confirm.body, '/cast');
+      const jar = new CookieJar();
+      const confirm = await toConfirm(browser(agent, base, jar), electionId, codes[i]!, approvalsFor(i));
+      const cast = hiddenFields(confirm.text, '/cast');
       prepared[i] = { path: cast.action, body: new URLSearchParams(cast.fields).toString(), cookie: jar.header() };
     });
   } finally {

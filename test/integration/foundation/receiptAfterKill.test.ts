@@ -9,18 +9,19 @@ import { testContext } from '../../helpers/context.ts';
 import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
 import { createOrganiser, openElectionFixture } from '../../helpers/fixtures.ts';
 import { startServer, type RunningServer } from '../../helpers/server.ts';
+import { CookieJar, fetchMember, hiddenFields, toConfirm } from '../../helpers/memberWalk.ts';
 
 /**
  * A real server child process is killed with SIGKILL while many members are casting, then
  * started again on the same database. Every member whose answer was lost sends the same
- * confirmation again (same session, same one-time cast token) and must get a receipt: the same
+ * cast again (same step cookie, same one-time cast token) and must get a receipt: the same
  * one if the first cast had committed, a fresh cast otherwise. Nothing is cast twice.
  */
 const MEMBERS = 40;
 
 interface Member {
-  cookie: string;
-  fields: URLSearchParams;
+  jar: CookieJar;
+  form: { action: string; fields: [string, string][] };
   answered: boolean;
 }
 
@@ -28,25 +29,28 @@ function cookiesOf(res: Response): string[] {
   return res.headers.getSetCookie().map((c) => c.split(';')[0]!);
 }
 
+/** Walks one member to the read-back page; the browser then holds the step cookie with its cast token. */
 async function prepare(url: string, electionId: string, code: string, option: number): Promise<Member> {
-  const start = await fetch(`${url}/vote/${electionId}`);
-  const cookie = cookiesOf(start).join('; ');
-  const csrf = /name="_csrf" value="([^"]+)"/.exec(await start.text())![1]!;
-  const body = new URLSearchParams({ _csrf: csrf, code, approve: String(option) });
-  const confirm = await fetch(`${url}/vote/${electionId}/confirm`, { method: 'POST', body, headers: { cookie } });
-  const html = await confirm.text();
-  if (confirm.status !== 200) throw new Error(`confirm gave ${confirm.status}`);
-  const castToken = /name="castToken" value="([^"]+)"/.exec(html)![1]!;
-  const fields = new URLSearchParams({ _csrf: /name="_csrf" value="([^"]+)"/.exec(html)![1]!, code, approve: String(option), castToken });
-  return { cookie, fields, answered: false };
+  const m = fetchMember(url);
+  const confirm = await toConfirm(m, electionId, code, [option]);
+  return { jar: m.jar, form: hiddenFields(confirm.text, '/cast'), answered: false };
 }
 
-/** Sends the cast; on 303 follows to the receipt page with the receipt cookie and returns the receipt. */
+/**
+ * Sends the cast as the browser holds it at the read-back; on 303 follows to the receipt page with the
+ * receipt cookie and returns the receipt. The member's jar is not updated: a lost answer leaves the
+ * browser as it was, and the retry sends the same step cookie (the same cast token) again.
+ */
 async function cast(url: string, electionId: string, m: Member): Promise<string> {
-  const res = await fetch(`${url}/vote/${electionId}/cast`, { method: 'POST', body: m.fields, headers: { cookie: m.cookie }, redirect: 'manual' });
+  const res = await fetch(`${url}${m.form.action}`, {
+    method: 'POST',
+    body: new URLSearchParams(m.form.fields),
+    headers: { cookie: m.jar.header() },
+    redirect: 'manual',
+  });
   if (res.status !== 303) throw new Error(`cast gave ${res.status}`);
   const receiptCookie = cookiesOf(res).join('; ');
-  const page = await fetch(`${url}${res.headers.get('location')}`, { headers: { cookie: `${m.cookie}; ${receiptCookie}` } });
+  const page = await fetch(`${url}${res.headers.get('location')}`, { headers: { cookie: `${m.jar.header()}; ${receiptCookie}` } });
   const receipt = /<p class="receipt">([0-9A-Z-]{11})<\/p>/.exec(await page.text())?.[1];
   if (!receipt) throw new Error(`receipt page gave ${page.status}`);
   return receipt;

@@ -4,6 +4,7 @@ import { closeElection } from '../../../src/elections/closeElection.ts';
 import { findElection } from '../../../src/elections/electionRepo.ts';
 import { engines } from '../../helpers/databases.ts';
 import { castAll, createDraft, openElectionFixture, tallyFixture } from '../../helpers/fixtures.ts';
+import { voteThrough } from '../../helpers/memberWalk.ts';
 import { useMemberSuite, SUITE_START, DAY } from '../../helpers/memberSuite.ts';
 
 const HOUR = 3600_000;
@@ -81,11 +82,9 @@ describe.each(engines)('ballot link and public timeline tell the real times [%s]
   it('a code already used: the page says what to do and shows the organiser’s contact line', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId, { contact: 'Ask the secretary after training, or write to <sec@club.example>' });
     await castAll(s.ctx, f, [[0]]);
-    const { agent, csrf } = await s.begin(f);
-    const res = await s.post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code: f.codes[0]! });
-    // The ballot step may or may not say "used" before a cast (no code-status oracle); the cast does.
-    const cast = await s.post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code: f.codes[0]!, approve: '0' });
-    const page = [res, cast].find((r) => r.text.includes('already been used'));
+    // The ballot step may not say "used" before a cast (no code-status oracle); the cast does.
+    const { confirm, cast } = await voteThrough(s.browser(), f.id, f.codes[0]!, [0]);
+    const page = [confirm, cast].find((r) => r.text.includes('already been used'));
     expect(page, 'some step says the code was used').toBeDefined();
     expect(page!.text).toContain('What you can do');
     expect(page!.text).toContain('Ask the secretary after training, or write to &lt;sec@club.example&gt;');
@@ -96,8 +95,7 @@ describe.each(engines)('ballot link and public timeline tell the real times [%s]
   it('without a contact line the used-code page says how to reach the organiser anyway', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId);
     await castAll(s.ctx, f, [[0]]);
-    const { agent, csrf } = await s.begin(f);
-    const cast = await s.post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code: f.codes[0]!, approve: '0' });
+    const { cast } = await voteThrough(s.browser(), f.id, f.codes[0]!, [0]);
     expect(cast.text).toContain('did not leave a contact line');
   });
 });

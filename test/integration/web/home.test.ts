@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { engines } from '../../helpers/databases.ts';
 import { castAll, createDraft, csrfFrom, openElectionFixture } from '../../helpers/fixtures.ts';
-import { useMemberSuite, SUITE_START, DAY } from '../../helpers/memberSuite.ts';
+import { agentMember, useMemberSuite, SUITE_START, DAY } from '../../helpers/memberSuite.ts';
+import { castFrom, sendTicks } from '../../helpers/memberWalk.ts';
 
 /** The home page: a member can type a ballot code or paste a ballot link, and published results are listed. */
 describe.each(engines)('home page for members [%s]', (engine) => {
@@ -14,31 +15,44 @@ describe.each(engines)('home page for members [%s]', (engine) => {
     return { agent, csrf: csrfFrom(page.text), html: page.text };
   }
 
-  it('finds the ballot for a code typed in lower case with spaces, with the code only in the page body', async () => {
+  it('finds the ballot for a code typed in lower case with spaces and hands over to its ballot page, the code in no URL or page', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId, { title: 'Name the river launch', epsilon: '0.5' });
     const other = await openElectionFixture(s.ctx, s.organiserId, { title: 'Another vote', epsilon: '0.5' });
     const { agent, csrf } = await home();
     const typed = ` ${f.codes[1]!.toLowerCase().replace(/-/g, ' ')} `;
-    const res = await s.post(agent, '/ballot', { _csrf: csrf, code: typed }).expect(200);
+    const res = await s.post(agent, '/ballot', { _csrf: csrf, code: typed }).expect(303);
     expect(res.headers['cache-control']).toContain('no-store');
-    expect(res.text).toContain('Name the river launch');
-    expect(res.text).toContain(`action="/vote/${f.id}/ballot"`);
-    expect(res.text).not.toContain('Another vote');
-    expect(res.text).toContain('Your code belongs to this ballot');
+    // The same hand-over as the ballot's own code step: a sealed step cookie for that ballot, and a GET of its ballot page.
+    expect(res.headers.location).toBe(`/vote/${f.id}/ballot`);
+    const cookies = res.headers['set-cookie'] as unknown as string[];
+    expect(cookies.find((c) => c.startsWith('vt-vote='))).toContain(`Path=/vote/${f.id}`);
+    const ballot = await agent.get(res.headers.location!).expect(200);
+    expect(ballot.text).toContain('Name the river launch');
+    expect(ballot.text).toContain('Your code belongs to this ballot');
+    expect(ballot.text).not.toContain('Another vote');
+    for (const form of [typed.trim(), f.codes[1]!, f.codes[1]!.replace(/-/g, '')]) {
+      expect(ballot.text).not.toContain(form);
+      expect(res.text).not.toContain(form);
+    }
     // The member carries on from there as usual.
-    const code = /name="code"[^>]*value="([^"]*)"/.exec(res.text)?.[1] ?? /value="([^"]*)"[^>]*name="code"/.exec(res.text)?.[1];
-    expect(code).toBe(typed);
+    const m = agentMember(agent);
+    await sendTicks(m, f.id, ballot.text, [0]);
+    const confirm = await m.get(`/vote/${f.id}/confirm`);
+    expect((await castFrom(m, f.id, confirm.text)).status).toBe(303);
     expect(other.id).not.toBe(f.id);
   });
 
   it('finds the ballot whether or not the code was used (no code-status answer here)', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId, { epsilon: '0.5' });
     await castAll(s.ctx, f, [[0]]);
-    const { agent, csrf } = await home();
-    const used = await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[0]! }).expect(200);
-    const unused = await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[1]! }).expect(200);
-    const strip = (t: string) => t.replace(/value="[^"]*"/g, '').replace(/name="_csrf"[^>]*>/g, '');
-    expect(strip(used.text)).toBe(strip(unused.text));
+    const pages = [];
+    for (const code of [f.codes[0]!, f.codes[1]!]) {
+      const { agent, csrf } = await home();
+      const res = await s.post(agent, '/ballot', { _csrf: csrf, code }).expect(303);
+      const page = await agent.get(res.headers.location!).expect(200);
+      pages.push({ location: res.headers.location, body: page.text.replace(/name="_csrf" value="[^"]*"/g, '') });
+    }
+    expect(pages[0]).toEqual(pages[1]);
   });
 
   it('follows a pasted ballot link, long or short, to this site only', async () => {
@@ -108,6 +122,6 @@ describe.each(engines)('home page code box limits [%s]', (engine) => {
     const locked = await s.post(agent, '/ballot', { _csrf: csrf, code: '0000-0000-0000-00000' }).expect(429);
     expect(locked.text).not.toContain('No open ballot has this code');
     expect(locked.headers['retry-after']).toBeDefined();
-    await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[0]! }).expect(200);
+    await s.post(agent, '/ballot', { _csrf: csrf, code: f.codes[0]! }).expect(303);
   }, 120_000);
 });

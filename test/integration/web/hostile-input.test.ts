@@ -79,8 +79,9 @@ describe.each(engines)('hostile input [%s]', (engine) => {
       [`/organise/elections/${f.id}/codes/revoke`, { code: 'ab\u0000' }],
       [`/organise/elections/${f.id}/tally`, { passphrase: ['a', 'b'] }],
       [`/vote/${f.id}/ballot`, { code: ['a', 'b'] }],
-      [`/vote/${f.id}/cast`, { code: 'x\u0000', approve: ['0', '0', '\u0000'] }],
-      [`/vote/${f.id}/confirm`, { code: long.slice(0, 50_000) }],
+      [`/vote/${f.id}/cast`, { code: 'x\u0000', approve: ['0', '0', '\u0000'], readBack: ['a', '\u0000'] }],
+      [`/vote/${f.id}/confirm`, { code: long.slice(0, 50_000), approve: ['0', '0', '\u0000'] }],
+      [`/vote/${f.id}/confirm`, { approve: long.slice(0, 50_000) }],
       [`/results/${f.id}/receipt`, { receipt: ['a', 'b'] }],
     ];
     for (const [path, fields] of cases) {
@@ -106,7 +107,8 @@ describe.each(engines)('hostile input [%s]', (engine) => {
       .post(`/vote/${f.id}/ballot`)
       .type('form')
       .send(encode({ _csrf: tokenIn(start.text), code: f.codes[0]! }))
-      .expect(200);
+      .expect(303);
+    await member.get(`/vote/${f.id}/ballot`).expect(200);
     expect(Number((await ctx.knex('sessions').count({ n: '*' }))[0]!.n)).toBe(before);
     await signedIn(app, email);
     expect(Number((await ctx.knex('sessions').count({ n: '*' }))[0]!.n)).toBe(before + 1);

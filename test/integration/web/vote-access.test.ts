@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import request from 'supertest';
 import { countTurnout } from '../../../src/elections/turnout.ts';
 import { engines } from '../../helpers/databases.ts';
-import { createDraft, openElectionFixture } from '../../helpers/fixtures.ts';
+import { createDraft, csrfFrom, openElectionFixture } from '../../helpers/fixtures.ts';
+import { castFrom, hiddenFields, sendTicks, toBallot, toConfirm } from '../../helpers/memberWalk.ts';
 import { useMemberSuite, SUITE_START, DAY } from '../../helpers/memberSuite.ts';
 
 /** Opening and closing times (moved with the test clock), unknown and draft elections, tampered ballots and CSRF. */
@@ -34,12 +35,13 @@ describe.each(engines)('member voting, timing and access [%s]', (engine) => {
   it('when voting closes between steps, the member is told clearly the ballot was not counted', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId);
     clock.advance(7 * DAY - 10 * 60_000); // ten minutes before the close, inside the session's idle limit
-    const { agent, csrf } = await begin(f);
-    const code = f.codes[0]!;
-    await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code }).expect(200);
+    const m = s.browser();
+    const ballot = await toBallot(m, f.id, f.codes[0]!);
+    const other = s.browser();
+    const confirm = await toConfirm(other, f.id, f.codes[1]!, [1]);
     clock.advance(10 * 60_000); // exactly the closing instant: closed (acceptsBallotsAt is now < closesAt)
-    for (const step of ['confirm', 'cast']) {
-      const res = await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code, approve: ['1'] }).expect(409);
+    for (const res of [await sendTicks(m, f.id, ballot.text, [1]), await m.get(`/vote/${f.id}/ballot`), await castFrom(other, f.id, confirm.text)]) {
+      expect(res.status).toBe(409);
       expect(res.text).toContain('Voting has closed');
       expect(res.text).toContain('Your ballot was not counted');
     }
@@ -48,12 +50,15 @@ describe.each(engines)('member voting, timing and access [%s]', (engine) => {
 
   it('a ballot that names positions the election does not have is refused (422), nothing cast', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId);
-    const { agent, csrf } = await begin(f);
-    const code = f.codes[0]!;
+    const m = s.browser();
+    const ballot = await toBallot(m, f.id, f.codes[0]!);
     for (const approve of [['4'], ['1', '1'], ['-1'], ['one'], ['01']]) {
-      const res = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code, approve }).expect(422);
+      const res = await post(m.agent, `/vote/${f.id}/confirm`, { _csrf: csrfFrom(ballot.text), approve }).expect(422);
       expect(res.text).toContain('That ballot could not be read');
+      expect(res.text).toContain(`href="/vote/${f.id}/ballot"`);
     }
+    // The ballot is still there, as it was.
+    expect((await m.get(`/vote/${f.id}/ballot`)).status).toBe(200);
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
   });
 
@@ -67,24 +72,36 @@ describe.each(engines)('member voting, timing and access [%s]', (engine) => {
     expect(res.text).toContain('This ballot is not open yet');
     const { csrf, agent } = await begin(await openElectionFixture(s.ctx, s.organiserId));
     for (const [step, fields] of [
-      ['ballot', {}],
-      ['cast', { approve: '0' }],
+      ['ballot', { code: draft.codes[0]! }],
+      ['confirm', { approve: '0' }],
+      ['cast', { readBack: 'x' }],
     ] as const) {
-      const r = await post(agent, `/vote/${draft.id}/${step}`, { _csrf: csrf, code: draft.codes[0]!, ...fields }).expect(409);
+      const r = await post(agent, `/vote/${draft.id}/${step}`, { _csrf: csrf, ...fields }).expect(409);
+      expect(r.text).toContain('This ballot is not open yet');
+      expect(r.text).not.toContain(draft.codes[0]!);
+    }
+    for (const step of ['ballot', 'confirm', 'receipt']) {
+      const r = await request(s.app).get(`/vote/${draft.id}/${step}`).expect(409);
       expect(r.text).toContain('This ballot is not open yet');
     }
   });
 
   it('refuses every POST without a valid CSRF token (403) and casts nothing', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId);
-    const { agent, csrf } = await begin(f);
+    const m = s.browser();
+    const confirm = await toConfirm(m, f.id, f.codes[0]!, [0]);
+    const csrf = csrfFrom(confirm.text);
+    const readBack = hiddenFields(confirm.text, '/cast').fields.find(([k]) => k === 'readBack')![1];
+    const { agent } = m;
     const code = f.codes[0]!;
     for (const step of ['ballot', 'confirm', 'cast']) {
-      await post(agent, `/vote/${f.id}/${step}`, { code, approve: '0' }).expect(403);
-      await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf.replace(/^./, (c) => (c === 'a' ? 'b' : 'a')), code, approve: '0' }).expect(403);
+      await post(agent, `/vote/${f.id}/${step}`, { code, approve: '0', readBack }).expect(403);
+      await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf.replace(/^./, (c) => (c === 'a' ? 'b' : 'a')), code, approve: '0', readBack }).expect(
+        403,
+      );
       // A token from another session is no good either.
       const { csrf: foreign } = await begin(f);
-      await post(agent, `/vote/${f.id}/${step}`, { _csrf: foreign, code, approve: '0' }).expect(403);
+      await post(agent, `/vote/${f.id}/${step}`, { _csrf: foreign, code, approve: '0', readBack }).expect(403);
     }
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
   });

@@ -3,7 +3,8 @@ import { generateCode } from '../../../src/custody/index.ts';
 import { revokeCode } from '../../../src/elections/revokeCode.ts';
 import { countTurnout } from '../../../src/elections/turnout.ts';
 import { engines } from '../../helpers/databases.ts';
-import { castAll, openElectionFixture } from '../../helpers/fixtures.ts';
+import { castAll, csrfFrom, openElectionFixture } from '../../helpers/fixtures.ts';
+import { castFrom, receiptPage, toBallot, toConfirm, voteThrough } from '../../helpers/memberWalk.ts';
 import { useMemberSuite } from '../../helpers/memberSuite.ts';
 
 /** Changes the check symbol (the 27th) to another valid one: exactly the slip the check exists to catch. */
@@ -48,39 +49,51 @@ describe.each(engines)('member voting, code problems [%s]', (engine) => {
     }
   });
 
-  it('a spent code is refused only at the cast (409), never at the first step', async () => {
-    const f = await openElectionFixture(s.ctx, s.organiserId);
-    const { agent, csrf } = await begin(f);
-    const code = f.codes[0]!;
+  it('a spent code is refused only at the cast (409), never at the first step; the organiser contact is shown', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId, { contact: 'The club secretary, at the boathouse' });
+    const m = s.browser();
     await castAll(s.ctx, f, [[1]]);
-    await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code }).expect(200);
-    const res = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code, approve: '0' }).expect(409);
+    const confirm = await toConfirm(m, f.id, f.codes[0]!, [0]);
+    const res = await castFrom(m, f.id, confirm.text);
+    expect(res.status).toBe(409);
     expect(res.text).toContain('Your code has already been used');
+    expect(res.text).toContain('If you pressed Back or Refresh after casting your ballot, this is expected');
+    expect(res.text).toContain('The club secretary, at the boathouse');
+    // The used code is forgotten by this browser: Back to the read-back goes to the code page.
+    expect((await m.get(`/vote/${f.id}/confirm`)).location).toBe(`/vote/${f.id}`);
   });
 
-  it('a resubmission (refresh of the receipt, or back to the confirmation) finds the code used and counts nothing twice', async () => {
+  it('after a cast, Back to the steps says "already cast", and a cast sent again shows the same receipt: nothing counts twice', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId);
-    const { agent, csrf } = await begin(f);
-    const code = f.codes[0]!;
-    const fields = { _csrf: csrf, code, approve: ['0'] };
-    await post(agent, `/vote/${f.id}/cast`, fields).expect(303);
-    const again = await post(agent, `/vote/${f.id}/cast`, fields).expect(409);
-    expect(again.text).toContain('Your code has already been used');
-    expect(again.text).toContain('If you pressed Back or Refresh after casting your ballot, this is expected');
-    // Back to the confirmation shows it again (no code-status oracle before a cast); casting from it is refused.
-    await post(agent, `/vote/${f.id}/confirm`, fields).expect(200);
+    const m = s.browser();
+    const { confirm, receipt } = await voteThrough(m, f.id, f.codes[0]!, [0]);
+    for (const step of ['ballot', 'confirm']) {
+      const back = await m.get(`/vote/${f.id}/${step}`);
+      expect(back.status).toBe(200);
+      expect(back.text).toContain('This ballot has already been cast');
+      expect(back.text).toContain(`href="/vote/${f.id}/receipt"`);
+      expect(back.text).not.toContain('Cast my');
+      expect(back.text).not.toContain(`action="/vote/${f.id}/cast"`);
+    }
+    const again = await castFrom(m, f.id, confirm.text);
+    expect([again.status, again.location]).toEqual([303, `/vote/${f.id}/receipt`]);
+    expect((await receiptPage(m, f.id)).receipt).toBe(receipt);
+    // Ticks sent again from an old ballot page cast nothing either.
+    const ticks = await s.post(m.agent, `/vote/${f.id}/confirm`, { _csrf: csrfFrom(confirm.text), approve: '1' });
+    expect(ticks.headers.location).toBe(`/vote/${f.id}/confirm`);
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(1);
   });
 
   it('a revoked code is refused (410) at casting', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId);
-    const { agent, csrf } = await begin(f);
     const code = f.codes[2]!;
-    await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code }).expect(200);
+    await toBallot(s.browser(), f.id, code);
     await revokeCode(s.ctx, { electionId: f.id, organiserId: s.organiserId, code });
     // Before the cast a withdrawn code looks like any other (no code-status oracle).
-    await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code }).expect(200);
-    const cast = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code, approve: '0' }).expect(410);
+    const m = s.browser();
+    const confirm = await toConfirm(m, f.id, code, [0]);
+    const cast = await castFrom(m, f.id, confirm.text);
+    expect(cast.status).toBe(410);
     expect(cast.text).toContain('Your ballot was not counted');
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
   });

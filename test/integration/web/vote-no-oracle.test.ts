@@ -4,6 +4,7 @@ import { countTurnout } from '../../../src/elections/turnout.ts';
 import { engines } from '../../helpers/databases.ts';
 import { castAll, openElectionFixture, type ElectionFixture } from '../../helpers/fixtures.ts';
 import { useMemberSuite } from '../../helpers/memberSuite.ts';
+import { csrfOf, sendCode, sendTicks, toBallot, voteThrough } from '../../helpers/memberWalk.ts';
 
 /**
  * The organiser holds every code. Before a ballot is cast, the ballot step must not tell a spent,
@@ -13,19 +14,23 @@ import { useMemberSuite } from '../../helpers/memberSuite.ts';
  */
 describe.each(engines)('ballot step is no code-status oracle [%s]', (engine) => {
   const s = useMemberSuite(engine);
-  const { begin, post } = s;
+  const { begin } = s;
 
-  /** Status and page with the per-visit CSRF token and the typed code taken out. */
+  /** Each answer's status and where it leads, and the page reached, with the per-visit CSRF token and read-back digest taken out. */
   async function answer(f: ElectionFixture, step: 'ballot' | 'confirm', code: string) {
-    const { agent, csrf } = await begin(f);
-    const res = await post(agent, `/vote/${f.id}/${step}`, { _csrf: csrf, code, approve: step === 'confirm' ? ['1'] : undefined });
-    const body = res.text
+    const m = s.browser();
+    const sent = await sendCode(m, f.id, code);
+    const answers = [sent, await m.get(`/vote/${f.id}/ballot`)];
+    if (step === 'confirm') answers.push(await sendTicks(m, f.id, answers[1]!.text, [1]), await m.get(`/vote/${f.id}/confirm`));
+    const page = answers.at(-1)!;
+    const csrf = csrfOf(page.text);
+    const body = page.text
       .split(csrf)
       .join('CSRF')
       .split(code)
       .join('CODE')
-      .replace(/name="castToken" value="[^"]*"/g, 'name="castToken" value="TOKEN"');
-    return { status: res.status, body };
+      .replace(/name="readBack" value="[^"]*"/g, 'name="readBack" value="TAG"');
+    return { status: answers.map((a) => `${a.status} ${a.location ?? ''} ${a.setCookies.map((c) => c.split('=')[0]).join()}`).join(' | '), body };
   }
 
   it('spent, unspent, withdrawn and used-then-withdrawn codes answer identically at the ballot and confirm steps', async () => {
@@ -38,7 +43,7 @@ describe.each(engines)('ballot step is no code-status oracle [%s]', (engine) => 
 
     for (const step of ['ballot', 'confirm'] as const) {
       const reference = await answer(f, step, unspent);
-      expect(reference.status).toBe(200);
+      expect(reference.status).toMatch(step === 'ballot' ? /^303 .* \| 200 / : /^303 .* \| 200 .* \| 303 .* \| 200 /);
       for (const code of [spent, revoked, spentRevoked]) {
         const other = await answer(f, step, code);
         expect(other.status).toBe(reference.status);
@@ -53,20 +58,18 @@ describe.each(engines)('ballot step is no code-status oracle [%s]', (engine) => 
     const f = await openElectionFixture(s.ctx, s.organiserId, { codes: 2 });
     const [probed, spent] = f.codes as [string, string];
     await castAll(s.ctx, f, [[1]], 1);
-    const { agent, csrf } = await begin(f);
-    const used = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code: spent, approve: '0' }).expect(409);
-    expect(used.text).toContain('already been used');
+    const used = await voteThrough(s.browser(), f.id, spent, [0]);
+    expect(used.cast.status).toBe(409);
+    expect(used.cast.text).toContain('already been used');
     // The organiser's probe that goes as far as casting is not silent: the member later finds the code used.
-    await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code: probed }).expect(303);
-    const member = await begin(f);
-    await post(member.agent, `/vote/${f.id}/ballot`, { _csrf: member.csrf, code: probed }).expect(200);
-    await post(member.agent, `/vote/${f.id}/cast`, { _csrf: member.csrf, code: probed, approve: '2' }).expect(409);
+    expect((await voteThrough(s.browser(), f.id, probed, [])).cast.status).toBe(303);
+    expect((await voteThrough(s.browser(), f.id, probed, [2])).cast.status).toBe(409);
   });
 
   it('members read what each party can learn before they vote, on the code and ballot pages', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId, { publishTurnout: true });
-    const { agent, csrf, html } = await begin(f);
-    const ballot = await post(agent, `/vote/${f.id}/ballot`, { _csrf: csrf, code: f.codes[0]! }).expect(200);
+    const { html } = await begin(f);
+    const ballot = await toBallot(s.browser(), f.id, f.codes[0]!);
     for (const page of [html, ballot.text]) {
       for (const heading of [
         'What other members can learn about you',
@@ -87,9 +90,8 @@ describe.each(engines)('ballot step is no code-status oracle [%s]', (engine) => 
     for (const code of [fresh, used]) await revokeCode(s.ctx, { electionId: f.id, organiserId: s.organiserId, code });
     const answers = [];
     for (const code of [fresh, used]) {
-      const { agent, csrf } = await begin(f);
-      const res = await post(agent, `/vote/${f.id}/cast`, { _csrf: csrf, code, approve: '1' });
-      answers.push({ status: res.status, body: res.text.split(csrf).join('CSRF').split(code).join('CODE') });
+      const { cast } = await voteThrough(s.browser(), f.id, code, [1]);
+      answers.push({ status: cast.status, body: cast.text.split(code).join('CODE') });
     }
     expect(answers[0]!.status).toBe(410);
     expect(answers[1]).toEqual(answers[0]);

@@ -5,6 +5,8 @@ import { ElectionNotFound } from '../../../elections/errors.ts';
 import { findBallotByCode, listPublishedResults } from '../../../elections/findBallotByCode.ts';
 import { findElection } from '../../../elections/electionRepo.ts';
 import { CodeMalformed, CodeTypo } from '../../../custody/errors.ts';
+import { normaliseCode } from '../../../custody/index.ts';
+import { memberSteps } from '../vote/stepCookie.ts';
 import { noStore } from '../../middleware/security.ts';
 import { lockedOut } from '../../middleware/limits.ts';
 import { TooManyAttempts } from '../../errors.ts';
@@ -27,6 +29,7 @@ export function siteRouter(deps: AppDeps): Router {
   const { ctx } = deps;
   // Like the ballot steps: only failed look-ups count, so a meeting on one address is never locked out.
   const codeAttempts = deps.limits.codeLookups;
+  const steps = memberSteps(deps);
 
   async function renderHome(res: Response, status: number, code: string, problem: string | null) {
     // Past the look-up limit a failed look-up is not answered, only "wait" (limits.ts, failures-only).
@@ -49,8 +52,8 @@ export function siteRouter(deps: AppDeps): Router {
 
   /**
    * The home page's box: a pasted ballot link goes to that ballot; a code is looked up among the
-   * open elections and the member lands on that ballot's first step with the code filled in
-   * (in the page body only: never in a URL). The page is no-store, as every page with a code.
+   * open elections and the member lands on that ballot's ballot page, the code kept in the sealed
+   * step cookie (never in a URL or a page). A failure re-renders the box (no-store) with what was typed.
    */
   router.post('/ballot', noStore, codeAttempts, async (req, res) => {
     const { code } = findBallotForm.parse(req.body ?? {});
@@ -74,7 +77,10 @@ export function siteRouter(deps: AppDeps): Router {
     }
     const election = votingElectionView(e, ctx.now());
     if (election.window !== 'open') return res.redirect(303, election.voteUrl); // says when voting opens
-    res.render('vote/start', { title: election.title, election, code, found: true });
+    // The same hand-over as the ballot's own code step: the code goes into the sealed step cookie and
+    // the member lands on the ballot by a GET, which names the election so they can check it.
+    steps.set(res, e.id, { step: 'ballot', code: normaliseCode(code), approvals: [], found: true });
+    res.redirect(303, `${election.voteUrl}/ballot`);
   });
 
   /** The short ballot address printed on slips: /v/7k3m9q2x leads to the election's ballot page. */

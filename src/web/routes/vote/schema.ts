@@ -2,19 +2,18 @@ import { z } from 'zod';
 
 /**
  * Member forms. Form values are strings; anything else (a repeated field, a missing one)
- * becomes an empty code, which the code check then calls malformed. The ballot code's own
+ * becomes an empty value, which the code check then calls malformed. The ballot code's own
  * shape (17 symbols with a check symbol, or 27 in the older format) is judged by the custody layer, not here.
+ * Only the code step takes the code, and only the ballot step takes ticks; what a member reached
+ * is kept in the sealed step cookie (stepCookie.ts), not in hidden fields.
  */
-const codeField = z.string().max(200).catch('');
-
 export const idParam = z.object({ id: z.string().max(100) });
 
-/** Ballot and confirmation steps carry the code and the ticks as hidden fields. */
-export const ballotForm = z.object({
-  code: codeField,
-  approve: z.unknown().optional(),
-  /** "yes" when the member comes back from the confirmation step to change their ticks. */
-  changing: z.string().max(10).optional().catch(undefined),
-  /** One-time cast token from the confirmation form (src/custody/castToken.ts); anything else is ignored. */
-  castToken: z.string().max(100).optional().catch(undefined),
-});
+/** The code entry form (the only place a code is typed). */
+export const codeForm = z.object({ code: z.string().max(200).catch('') });
+
+/** The ballot form: the ticked positions, judged by parseApprovals. */
+export const ticksForm = z.object({ approve: z.unknown().optional() });
+
+/** The confirmation page's cast form: the digest of what it read back (stepCookie.ts, readBackTag). */
+export const castForm = z.object({ readBack: z.string().max(100).optional().catch(undefined) });
