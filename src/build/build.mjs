@@ -1,6 +1,7 @@
 // Compiles src/ and migrations/ to dist/ with tsc (relative .ts imports rewritten to .js), then
 // copies what the compiled code reads from disk: views/, the public assets and the JSON data
 // files kept beside the sources (the statement's JSON Schema).
+import { spawnSync } from 'node:child_process';
 import fs from 'node:fs';
 import path from 'node:path';
 import { createRequire } from 'node:module';
@@ -24,6 +25,7 @@ export function build() {
     fs.mkdirSync(path.dirname(to), { recursive: true });
     fs.copyFileSync(file, to);
   }
+  makeTemplate();
   fs.writeFileSync(STAMP, `${new Date().toISOString()}\n`);
   return Date.now() - started;
 }
@@ -53,6 +55,21 @@ function compile() {
   function report(diagnostics) {
     return ts.formatDiagnostics(diagnostics, { getCanonicalFileName: (f) => f, getCurrentDirectory: () => ROOT, getNewLine: () => '\n' });
   }
+}
+
+/**
+ * The migrated empty database a new embedded data directory starts from (src/db/template.ts), so
+ * the first start skips initdb and the migrations. Made by the compiled code in a child process (it
+ * loads PGlite); without it the server still starts, only slower.
+ */
+function makeTemplate() {
+  const module = pathToFileURL(path.join(DIST, 'src', 'db', 'makeTemplate.js')).href;
+  const made = spawnSync(
+    process.execPath,
+    ['--input-type=module', '-e', `const m = await import(${JSON.stringify(module)}); await m.makeTemplate(); process.exit(0);`],
+    { cwd: ROOT, stdio: 'inherit' },
+  );
+  if (made.status !== 0) process.stderr.write('veiltally: could not make the embedded database template; new data directories will run initdb\n');
 }
 
 /** JSON files under `dir`, outside the public assets (copied whole above). */

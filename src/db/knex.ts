@@ -1,9 +1,12 @@
 import knexFactory, { type Knex } from 'knex';
 import ClientPgLite from 'knex-pglite';
-import pg from 'pg';
+import { createRequire } from 'node:module';
+import type pg from 'pg';
 import fs from 'node:fs';
 import path from 'node:path';
+import { PGlite } from '@electric-sql/pglite';
 import { lockDataDirectory, type DirectoryLock } from './dirLock.ts';
+import { copyTemplate, isInitialised, usableTemplate } from './template.ts';
 
 export type Engine = 'pglite' | 'postgres';
 
@@ -15,14 +18,31 @@ export interface Database {
   close(): Promise<void>;
 }
 
-// bigint / numeric come back from pg as strings; counts and ids we use fit in a double.
-pg.types.setTypeParser(pg.types.builtins.INT8, (v) => Number(v));
+/**
+ * pg, loaded only for PostgreSQL: the embedded database never needs it, and loading it was part of
+ * `npm start`'s time. bigint / numeric come back from pg as strings; counts and ids we use fit in a double.
+ */
+let pgLoaded = false;
+function loadPg(): void {
+  if (pgLoaded) return;
+  const driver = createRequire(import.meta.url)('pg') as typeof pg;
+  driver.types.setTypeParser(driver.types.builtins.INT8, (v) => Number(v));
+  pgLoaded = true;
+}
 
 /** Connections per app server to PostgreSQL (the benchmarks' ceiling uses the same). */
 export const DEFAULT_POOL_MAX = 10;
 
 export type DatabaseOptions =
-  { engine: 'postgres'; url: string; searchPath?: string; poolMax?: number } | { engine: 'pglite'; dataDir: string | null };
+  | { engine: 'postgres'; url: string; searchPath?: string; poolMax?: number }
+  | {
+      engine: 'pglite';
+      dataDir: string | null;
+      /** The template a new data directory starts from (template.ts); null: none, initdb runs. Default: the build's. */
+      template?: string | null;
+      /** An existing PGlite to use (the build's template maker); dataDir must then be null. */
+      pglite?: PGlite;
+    };
 
 /**
  * Builds knex for the embedded PGlite (a directory, or memory when dataDir is null)
@@ -30,6 +50,7 @@ export type DatabaseOptions =
  */
 export function openDatabase(options: DatabaseOptions): Database {
   if (options.engine === 'postgres') {
+    loadPg();
     const knex = knexFactory({
       client: 'pg',
       connection: { connectionString: options.url },
@@ -38,15 +59,20 @@ export function openDatabase(options: DatabaseOptions): Database {
     });
     return { knex, engine: 'postgres', close: () => knex.destroy() };
   }
-  let connection: Knex.StaticConnectionConfig = {} as Knex.StaticConnectionConfig;
+  let pglite: PGlite;
   let lock: DirectoryLock | null = null;
-  if (options.dataDir !== null) {
+  if (options.pglite) pglite = options.pglite;
+  else if (options.dataDir !== null) {
     // Before any file is opened: a second process on this directory stops here (dirLock.ts).
     lock = lockDataDirectory(path.resolve(options.dataDir));
     const dir = path.join(options.dataDir, 'pglite');
     fs.mkdirSync(dir, { recursive: true, mode: 0o700 });
-    connection = { filename: dir } as Knex.StaticConnectionConfig;
-  }
+    // A new directory starts from the build's template when there is one (template.ts), not from initdb.
+    const template = isInitialised(dir) ? null : usableTemplate(options.template);
+    if (template) copyTemplate(template, dir);
+    pglite = new PGlite({ dataDir: dir });
+  } else pglite = new PGlite();
+  const connection = { pglite } as unknown as Knex.StaticConnectionConfig;
   const knex = knexFactory({
     client: ClientPgLite as unknown as typeof Knex.Client,
     dialect: 'postgres',
@@ -77,4 +103,20 @@ export function toBuffer(value: unknown): Buffer {
   if (Buffer.isBuffer(value)) return value;
   if (value instanceof Uint8Array) return Buffer.from(value.buffer, value.byteOffset, value.byteLength);
   throw new Error('expected binary column');
+}
+
+/**
+ * The constraint a statement broke when it failed on a unique or primary key (SQLSTATE 23505),
+ * else null. pg and PGlite both raise the server's error fields (code, constraint) on the error.
+ */
+export function uniqueViolation(err: unknown): string | null {
+  const e = err as { code?: unknown; constraint?: unknown } | null;
+  if (!e || typeof e !== 'object' || e.code !== '23505') return null;
+  return typeof e.constraint === 'string' ? e.constraint : '';
+}
+
+/** Rows of a knex.raw result: pg returns a Result, PGlite through knex-pglite an object with rows. */
+export function rawRows(result: unknown): Array<Record<string, unknown>> {
+  const rows = (result as { rows?: unknown } | null)?.rows;
+  return Array.isArray(rows) ? (rows as Array<Record<string, unknown>>) : [];
 }

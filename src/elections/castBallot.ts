@@ -12,12 +12,13 @@ import {
   receiptHash,
   sealReceiptForToken,
 } from '../custody/index.ts';
+import type { Knex } from 'knex';
 import type { Db } from '../db/knex.ts';
 import { toBuffer } from '../db/knex.ts';
-import { insertBallot, insertReceipt } from './ballotRepo.ts';
+import { castInOneStatement, insertBallot, insertReceipt } from './ballotRepo.ts';
 import { assertCodeUsable, spendCode } from './codeRepo.ts';
 import type { UseCaseContext } from './context.ts';
-import { votingElection } from './electionAccess.ts';
+import { votingElection, type VotingElection } from './electionAccess.ts';
 import { ElectionNotOpen, InvalidBallot } from './errors.ts';
 
 const approvalsSchema = z
@@ -43,6 +44,10 @@ const RECEIPT_ATTEMPTS = 8;
  * With a one-time cast token (from the member's confirmation form) the cast is idempotent for
  * that browser: the same submission again returns the same receipt and spends nothing, however
  * the first answer was lost. Without the token, a second cast gets CodeAlreadySpent as before.
+ * Speed: once an election is known to this process (its first cast, by the checked path), a cast is
+ * one database statement doing all three steps (ballotRepo.castInOneStatement), which checks the
+ * voting window, the key and d itself; whenever it stores nothing, the checked path runs the steps
+ * one by one and answers with the earlier receipt or the precise error.
  * Errors: CodeMalformed, CodeTypo (before any lookup), ElectionNotFound, ElectionNotOpen,
  * TallyKeyMissing, InvalidBallot, CodeUnknown, CodeAlreadySpent, CodeRevoked.
  */
@@ -56,20 +61,96 @@ export async function castBallot(
   if (!parsed.success || new Set(parsed.data).size !== parsed.data.length) throw new InvalidBallot();
   const approvals = parsed.data;
 
+  // Inside a caller's transaction a failed statement (a taken receipt) would abort that transaction: checked path only.
+  const known = ctx.knex.isTransaction ? undefined : votingKeys(ctx.knex).get(input.electionId);
+  if (known && approvals.every((p) => p < known.optionCount)) {
+    const receipt = await castFast(ctx, known, canonical, approvals, token);
+    if (receipt !== null) return { receipt };
+  }
+  return castChecked(ctx, input.electionId, canonical, approvals, token);
+}
+
+/**
+ * Per database handle: the public key and option count of elections seen accepting ballots. Both are
+ * fixed from the moment an election opens (openElection.ts; correctWording.ts changes no option
+ * count), and the fast path's statement checks them and the open state again, so an entry never
+ * lets a cast through that the database would refuse: closing, an extension, a tally all act at once.
+ */
+const knownKeys = new WeakMap<Knex, Map<string, VotingElection>>();
+const KNOWN_MAX = 1000;
+
+function votingKeys(knex: Knex): Map<string, VotingElection> {
+  let m = knownKeys.get(knex);
+  if (!m) knownKeys.set(knex, (m = new Map()));
+  return m;
+}
+
+function remember(knex: Knex, e: VotingElection): void {
+  const m = votingKeys(knex);
+  if (m.size >= KNOWN_MAX && !m.has(e.id)) m.clear();
+  m.set(e.id, e);
+}
+
+/**
+ * The fast path: one statement (castInOneStatement). Null when it stored nothing (voting has ended,
+ * the code is spent or unknown, a retried token): the checked path then finds the earlier receipt
+ * or the precise error.
+ */
+async function castFast(
+  ctx: UseCaseContext,
+  e: VotingElection,
+  canonical: string,
+  approvals: number[],
+  token: Buffer | null,
+): Promise<string | null> {
+  const sealed = encodeAndSeal(e.publicKey, e.id, e.optionCount, approvals);
+  const codeHashed = codeHash(ctx.secrets.codePepper, e.id, canonical);
+  const tHash = token ? castTokenHash(ctx.secrets.codePepper, e.id, token) : null;
+  const ballotId = randomUuid(ctx.random);
+  for (let attempt = 0; attempt < RECEIPT_ATTEMPTS; attempt++) {
+    const receipt = generateReceipt(ctx.random);
+    const outcome = await castInOneStatement(ctx.knex, {
+      electionId: e.id,
+      publicKey: e.publicKey,
+      optionCount: e.optionCount,
+      now: ctx.now(),
+      codeHash: codeHashed,
+      receiptHash: receiptHash(ctx.secrets.codePepper, e.id, receipt),
+      ballotId,
+      sealed,
+      castToken: token && tHash ? { hash: tHash, sealedReceipt: sealReceiptForToken(token, e.id, receipt, ctx.random) } : null,
+    });
+    if (outcome === 'stored') return receipt;
+    if (outcome === 'not-stored') return null;
+    // 'receipt-taken': nothing was written; draw another receipt.
+  }
+  throw new Error('could not find a free receipt');
+}
+
+/** The checked path, one step at a time in a transaction: a first cast, and every cast the fast path could not store. */
+async function castChecked(
+  ctx: UseCaseContext,
+  electionId: string,
+  canonical: string,
+  approvals: number[],
+  token: Buffer | null,
+): Promise<{ receipt: string }> {
   return ctx.knex.transaction(async (trx) => {
-    const tHash = token ? castTokenHash(ctx.secrets.codePepper, input.electionId, token) : null;
+    const tHash = token ? castTokenHash(ctx.secrets.codePepper, electionId, token) : null;
     // An earlier cast with this token is looked for only when this one cannot go ahead (voting
     // has ended since, or the code is spent): a first cast, nearly every cast, saves a round trip.
     let e: Awaited<ReturnType<typeof votingElection>>;
     try {
-      e = await votingElection(trx, input.electionId, ctx.now());
+      e = await votingElection(trx, electionId, ctx.now());
     } catch (err) {
-      if (err instanceof ElectionNotOpen && token && tHash && UUID.test(input.electionId)) {
-        const earlier = await receiptForToken(trx, input.electionId, token, tHash);
+      if (err instanceof ElectionNotOpen && token && tHash && UUID.test(electionId)) {
+        const earlier = await receiptForToken(trx, electionId, token, tHash);
         if (earlier) return { receipt: earlier };
       }
       throw err;
     }
+    // Known from here on: the election's next casts take the fast path (the key and d do not change).
+    remember(ctx.knex, e);
     if (approvals.some((p) => p >= e.optionCount)) throw new InvalidBallot();
     const hash = codeHash(ctx.secrets.codePepper, e.id, canonical);
     if (!(await spendCode(trx, e.id, hash))) {

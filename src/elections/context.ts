@@ -57,9 +57,31 @@ export function liveContext(db: { knex: Knex; engine: Engine }, secrets: Instanc
     knex: db.knex,
     engine: db.engine,
     now: () => new Date(),
-    random: (n) => crypto.randomBytes(n),
+    random: pooledRandomBytes(),
     secrets,
     kdf: DEFAULT_KDF,
     ...(ledgerPolicy ? { ledgerPolicy } : {}),
+  };
+}
+
+/**
+ * node:crypto's CSPRNG, drawn 4 KiB at a time: each randomBytes call costs a trip into OpenSSL, and a
+ * cast asks for small amounts several times (receipt, ballot id, nonces), which showed in its profile.
+ * Node's own crypto.randomUUID batches the same way. Every byte is handed out once, as a copy (callers
+ * may wipe it), and the handed-out part of the pool is zeroed; requests larger than the pool go straight through.
+ */
+export function pooledRandomBytes(poolSize = 4096): RandomBytes {
+  const pool = Buffer.alloc(poolSize);
+  let at = poolSize;
+  return (n) => {
+    if (n > poolSize) return crypto.randomBytes(n);
+    if (at + n > poolSize) {
+      crypto.randomFillSync(pool);
+      at = 0;
+    }
+    const out = Buffer.from(pool.subarray(at, at + n));
+    pool.fill(0, at, at + n);
+    at += n;
+    return out;
   };
 }

@@ -5,7 +5,7 @@ import { ZodError } from 'zod';
 import { InvalidInput, isVeiltallyError, NotFound } from '../../errors.ts';
 import type { Logger } from '../../log.ts';
 import { CsrfRejected, PayloadTooLarge, TooManyAttempts, UnreadableForm, UnreadableRequest } from '../errors.ts';
-import type { LockedOut } from './limits.ts';
+import { lockedOut } from './limits.ts';
 import { VIEWS_DIR } from '../paths.ts';
 
 /** A friendly page per typed error when one exists (views/errors/<Code>.ejs), else the general one. */
@@ -36,7 +36,7 @@ function renderSafely(res: Response, logger: Logger, view: string, locals: Recor
 }
 
 export function errorHandler(logger: Logger, recoveries: readonly Recovery[] = []): ErrorRequestHandler {
-  return (err, req, res, _next) => {
+  return async (err, req, res, _next) => {
     if (res.headersSent) return void res.end();
     let error = err;
     const e = err as { code?: string; type?: string; status?: number; expose?: boolean };
@@ -51,8 +51,10 @@ export function errorHandler(logger: Logger, recoveries: readonly Recovery[] = [
       error = new UnreadableForm(e.status);
 
     // A client past a failures-only limit (ballot codes): a correct attempt went through, a failed one waits.
-    const locked = res.locals.lockedOut as LockedOut | undefined;
-    if (locked && isVeiltallyError(error) && error.status >= 400 && error.status < 500 && !(error instanceof TooManyAttempts)) {
+    const clientFailure = isVeiltallyError(error) && error.status >= 400 && error.status < 500 && !(error instanceof TooManyAttempts);
+    // A failed read of the limit is no reason to hide the failure's own page.
+    const locked = clientFailure ? await lockedOut(res).catch(() => null) : null;
+    if (locked) {
       res.set('Retry-After', String(Math.max(1, Math.ceil(locked.retryAfterMs / 1000))));
       error = new TooManyAttempts(locked.what, locked.retryAfterMs);
     }

@@ -66,6 +66,18 @@ export interface LockedOut {
   readonly retryAfterMs: number;
 }
 
+const LOCKED_OUT_CHECK = 'lockedOutCheck';
+
+/**
+ * Behind a failures-only limit, after the attempt has failed: is this client past the limit (then
+ * the failure is answered only with "wait")? Read from the database on the first call, before this
+ * failure is counted; null outside such a limit.
+ */
+export async function lockedOut(res: Response): Promise<LockedOut | null> {
+  const check = res.locals[LOCKED_OUT_CHECK] as (() => Promise<LockedOut | null>) | undefined;
+  return check ? check() : null;
+}
+
 export class AttemptLimit {
   private readonly limiters: Array<{ rule: Rule; store: RateLimiterPostgres }>;
 
@@ -127,10 +139,12 @@ export class AttemptLimit {
         return this.refuse(res, next, (e as RateLimiterRes).msBeforeNext);
       }
     }
-    const wait = await this.lockedFor(req);
-    if (wait > 0 && this.mode === 'refuse') return this.refuse(res, next, wait);
     if (this.mode === 'failures-only') {
-      if (wait > 0) res.locals.lockedOut = { what: this.what, retryAfterMs: wait } satisfies LockedOut;
+      // Whether this client is past the limit matters only once its attempt has failed, so it is
+      // read then (lockedOut below), never on success: a correct cast costs the limit nothing.
+      let check: Promise<LockedOut | null> | undefined;
+      const lockedOutNow = () => (check ??= this.lockedFor(req).then((wait) => (wait > 0 ? { what: this.what, retryAfterMs: wait } : null)));
+      res.locals[LOCKED_OUT_CHECK] = lockedOutNow;
       // Counted once known to have failed. Counting every attempt first and handing successes
       // back made each cast write the same two rows (the election's, the meeting's address) twice
       // more, so concurrent casts queued on those row locks (README, Performance). The cost: a
@@ -147,11 +161,8 @@ export class AttemptLimit {
       }) as Response['end'];
       return next();
     }
-    if (wait > 0) {
-      // failures-only: the route runs; the error handler turns a failure into the wait page.
-      const locked: LockedOut = { what: this.what, retryAfterMs: wait };
-      res.locals.lockedOut = locked;
-    }
+    const wait = await this.lockedFor(req);
+    if (wait > 0) return this.refuse(res, next, wait);
     // Every attempt is counted before it runs (so the next request sees it, on any app server),
     // and handed back once it turns out to have succeeded: in effect only failures count.
     await this.count(req, 1);

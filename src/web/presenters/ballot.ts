@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { memoised } from './memo.ts';
 import type { Election } from '../../elections/electionRepo.ts';
 import { InvalidBallot } from '../../elections/errors.ts';
 import { RULE_SENTENCES } from '../../mechanism/index.ts';
@@ -72,6 +73,17 @@ function closedAtOf(e: Election, now: Date): ShownTime | null {
   return closed ? shownTime(closed, e.timeZone) : null;
 }
 
+/** Who could learn what, from the election's settings alone; made once per settings (memo.ts). */
+const partiesOf = memoised(
+  (epsilon: string, options: number, seats: number, neighbour: Election['neighbour'], publishTurnout: boolean): PartyText[] =>
+    describeParties(makeExponentialDraw({ epsilon, options, seats, neighbour }).privacy, {
+      neighbour,
+      publishTurnout,
+      previewHours: PREVIEW_HOURS_PROMISED,
+    }),
+  (...settings) => JSON.stringify(settings),
+);
+
 export function votingElectionView(e: Election, now: Date): VotingElectionView {
   return {
     id: e.id,
@@ -90,11 +102,7 @@ export function votingElectionView(e: Election, now: Date): VotingElectionView {
     resultsUrl: `/results/${e.id}`,
     howDrawn: howDrawn(e),
     caution: DRAW_CAUTION,
-    parties: describeParties(makeExponentialDraw({ epsilon: e.epsilon, options: e.options.length, seats: e.seats, neighbour: e.neighbour }).privacy, {
-      neighbour: e.neighbour,
-      publishTurnout: e.publishTurnout,
-      previewHours: PREVIEW_HOURS_PROMISED,
-    }),
+    parties: partiesOf(e.epsilon, e.options.length, e.seats, e.neighbour, e.publishTurnout),
   };
 }
 

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { memoised } from './memo.ts';
 import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
 import { resultHidden } from '../../elections/status.ts';
@@ -140,7 +141,9 @@ function meaningOf(winners: string[], seats: number, noBallots: boolean): string
  * The chart on the result page, from the mechanism's data-free bounds for this election's ε, options,
  * seats and neighbour relation (Dwork & Roth 2014, §3.4): it depends on no count, so showing it costs no privacy.
  */
-function resultChart(s: {
+const resultChart = memoised(resultChartOf, (s) => JSON.stringify([s.epsilon, s.optionLabels.length, s.seats, s.neighbour, s.mechanism]));
+
+function resultChartOf(s: {
   epsilon: string;
   optionLabels: string[];
   seats: number;
@@ -170,7 +173,10 @@ function resultChart(s: {
   };
 }
 
-export function publishedResultView(stored: unknown): PublishedResultView {
+/** Published results never change, so their view is made once per stored result (memo.ts). */
+export const publishedResultView = memoised(publishedResultViewOf, (stored: unknown) => JSON.stringify(stored), 100);
+
+function publishedResultViewOf(stored: unknown): PublishedResultView {
   const { statement } = storedResult.parse(stored);
   const text = describeStatement(statement as unknown as PrivacyStatement);
   const neighbour = NEIGHBOURS[statement.neighbour];

@@ -8,7 +8,7 @@ import { CodeMalformed, CodeTypo } from '../../../custody/errors.ts';
 import { normaliseCode } from '../../../custody/index.ts';
 import { memberSteps } from '../vote/stepCookie.ts';
 import { noStore } from '../../middleware/security.ts';
-import type { LockedOut } from '../../middleware/limits.ts';
+import { lockedOut } from '../../middleware/limits.ts';
 import { TooManyAttempts } from '../../errors.ts';
 import { votingElectionView } from '../../presenters/ballot.ts';
 import { shownTime } from '../../presenters/publicTime.ts';
@@ -33,8 +33,8 @@ export function siteRouter(deps: AppDeps): Router {
 
   async function renderHome(res: Response, status: number, code: string, problem: string | null) {
     // Past the look-up limit a failed look-up is not answered, only "wait" (limits.ts, failures-only).
-    const locked = res.locals.lockedOut as LockedOut | undefined;
-    if (status >= 400 && locked) {
+    const locked = status >= 400 ? await lockedOut(res) : null;
+    if (locked) {
       res.set('Retry-After', String(Math.max(1, Math.ceil(locked.retryAfterMs / 1000))));
       throw new TooManyAttempts(locked.what, locked.retryAfterMs);
     }
