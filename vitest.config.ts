@@ -11,7 +11,7 @@ export default defineConfig({
     pool: 'forks',
     reporters: process.env.CI ? ['verbose'] : ['default'],
     // `npm run test:coverage` (and CI): line and branch coverage of the product code, printed.
-    coverage: { provider: 'v8', include: ['src/**'], reporter: ['text-summary', 'text'], reportsDirectory: 'coverage' },
+    coverage: { provider: 'v8', include: ['src/**/*.{ts,mjs}'], reporter: ['text-summary', 'text'], reportsDirectory: 'coverage' },
     projects: [
       {
         extends: true,

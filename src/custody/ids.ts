@@ -2,6 +2,11 @@ import type { RandomSource as RandomBytes } from '../mechanism/random.ts';
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
+/** Whether `id` has a UUID's shape (RFC 9562 §4): what uuidBytes accepts. */
+export function isUuid(id: string): boolean {
+  return UUID.test(id);
+}
+
 /** The 16 bytes of a UUID (RFC 9562 §4), used to bind ciphertexts to their election. */
 export function uuidBytes(id: string): Buffer {
   if (!UUID.test(id)) throw new TypeError('not a UUID');

@@ -99,6 +99,22 @@ describe.each(engines)('the member step cookie [%s]', (engine) => {
     expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast + (await countTurnout(s.ctx.knex, g.id)).ballotsCast).toBe(0);
   });
 
+  it('a step cookie sent to an address that names no election answers "not found", never a server error', async () => {
+    const f = await openElectionFixture(s.ctx, s.organiserId);
+    const m = s.browser();
+    const readBack = await toConfirm(m, f.id, f.codes[0]!, [1]);
+    const value = /vt-vote=([^;]+)/.exec(m.jar.header())![1]!;
+    const csrfCookie = /veiltally-csrf=([^;]+)/.exec(m.jar.header())![0];
+    const form = { _csrf: /name="_csrf" value="([^"]+)"/.exec(readBack.text)![1]!, ...Object.fromEntries(hiddenFields(readBack.text, '/cast').fields) };
+    // Found by the hostile-input fuzzing: the cast read the cookie for the address as typed, and a
+    // non-UUID address reached the sealing layer, which refuses it with a TypeError (500).
+    for (const id of ['x', '..%2F..%2Fetc%2Fpasswd', '%F2%BD%91%97', f.id.toUpperCase().replace(/-/g, '')]) {
+      const res = await request(s.app).post(`/vote/${id}/cast`).set('Cookie', `vt-vote=${value}; ${csrfCookie}`).type('form').send(form);
+      expect(res.status, id).toBe(404);
+    }
+    expect((await countTurnout(s.ctx.knex, f.id)).ballotsCast).toBe(0);
+  });
+
   it('keeps the same cast token across reloads of the read-back: the cast sent again gets the same receipt', async () => {
     const f = await openElectionFixture(s.ctx, s.organiserId);
     const m = s.browser();

@@ -1,5 +1,5 @@
 import type { Request, Response } from 'express';
-import { hmacSha256, openForElection, sealForElection } from '../../../custody/index.ts';
+import { hmacSha256, isUuid, openForElection, sealForElection } from '../../../custody/index.ts';
 import type { RandomBytes } from '../../../elections/context.ts';
 import { cookieValue } from '../../middleware/sessions.ts';
 
@@ -46,6 +46,8 @@ export function sealedCookie(sessionSecret: string, secure: boolean, random: Ran
       res.cookie(name, value, { ...options(electionId), maxAge: maxAgeMs });
     },
     read(req, electionId, now) {
+      // An address that names no election (typed, or fuzzed) opens nothing; the route then answers "not found".
+      if (!isUuid(electionId)) return null;
       const raw = cookieValue(req.headers.cookie, name);
       if (!raw || !RAW.test(raw)) return null;
       const opened = openForElection(key, electionId, Buffer.from(raw, 'base64url'));
