@@ -105,7 +105,10 @@ describe.each(engines)('the member step cookie [%s]', (engine) => {
     const readBack = await toConfirm(m, f.id, f.codes[0]!, [1]);
     const value = /vt-vote=([^;]+)/.exec(m.jar.header())![1]!;
     const csrfCookie = /veiltally-csrf=([^;]+)/.exec(m.jar.header())![0];
-    const form = { _csrf: /name="_csrf" value="([^"]+)"/.exec(readBack.text)![1]!, ...Object.fromEntries(hiddenFields(readBack.text, '/cast').fields) };
+    const form = {
+      _csrf: /name="_csrf" value="([^"]+)"/.exec(readBack.text)![1]!,
+      ...Object.fromEntries(hiddenFields(readBack.text, '/cast').fields),
+    };
     // Found by the hostile-input fuzzing: the cast read the cookie for the address as typed, and a
     // non-UUID address reached the sealing layer, which refuses it with a TypeError (500).
     for (const id of ['x', '..%2F..%2Fetc%2Fpasswd', '%F2%BD%91%97', f.id.toUpperCase().replace(/-/g, '')]) {
