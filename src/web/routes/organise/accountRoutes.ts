@@ -2,7 +2,7 @@ import { Router, type Response } from 'express';
 import { addOrganiser } from '../../../accounts/addOrganiser.ts';
 import { EmailTaken, FirstRunDone, SignInFailed } from '../../../accounts/errors.ts';
 import { createFirstOrganiser, isFirstRunOpen } from '../../../accounts/firstRun.ts';
-import { countOrganisers, findOrganiser, listOrganisers } from '../../../accounts/organiserRepo.ts';
+import { allOrganisers, getOrganiser, organiserCount } from '../../../accounts/organisers.ts';
 import { signIn } from '../../../accounts/signIn.ts';
 import { findDemo } from '../../../demo/seedDemo.ts';
 import { recordEvent } from '../../../elections/audit.ts';
@@ -48,7 +48,7 @@ export function accountRoutes(deps: AppDeps): Router {
 
   router.get(SIGN_IN_PATH, async (req, res) => {
     // Only when nobody at all can sign in: the demo's sample login can, while the first run stays open.
-    if ((await countOrganisers(ctx.knex)) === 0) return res.redirect(303, FIRST_RUN_PATH);
+    if ((await organiserCount(ctx)) === 0) return res.redirect(303, FIRST_RUN_PATH);
     const next = safeNext(req.query.next);
     if (req.session?.organiserId) return res.redirect(303, next ?? '/organise');
     renderSignIn(res, 200, '', next);
@@ -66,7 +66,7 @@ export function accountRoutes(deps: AppDeps): Router {
     try {
       if (!parsed) throw new SignInFailed();
       const { organiserId } = await signIn(ctx, { email: parsed.email, password: parsed.password });
-      const demo = (await findOrganiser(ctx.knex, organiserId))?.demo ?? false;
+      const demo = (await getOrganiser(ctx, organiserId))?.demo ?? false;
       await startSession(req, organiserId, ctx.now(), demo);
       res.redirect(303, next ?? '/organise');
     } catch (e) {
@@ -86,7 +86,7 @@ export function accountRoutes(deps: AppDeps): Router {
   const renderOrganisers = async (res: Response, status: number, email: string, errors: FieldErrors, added: boolean) =>
     res.status(status).render('organise/organisers', {
       title: 'Organisers',
-      organisers: await listOrganisers(ctx.knex),
+      organisers: await allOrganisers(ctx),
       me: organiserOf(res),
       email,
       errors,

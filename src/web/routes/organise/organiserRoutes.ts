@@ -1,7 +1,7 @@
 import { Router, type Response } from 'express';
 import { CannotRemoveYourself, OrganiserNotFound, WrongCurrentPassword } from '../../../accounts/errors.ts';
 import { changeOwnPassword, removeOrganiser, resetOrganiserPassword } from '../../../accounts/manageOrganisers.ts';
-import { findOrganiser } from '../../../accounts/organiserRepo.ts';
+import { getOrganiser } from '../../../accounts/organisers.ts';
 import { InvalidInput } from '../../../errors.ts';
 import type { AppDeps } from '../../deps.ts';
 import { organiserOf } from './auth.ts';
@@ -37,7 +37,7 @@ export function organiserRoutes(deps: AppDeps): Router {
   });
 
   async function target(res: Response, id: string) {
-    const o = await findOrganiser(ctx.knex, id);
+    const o = await getOrganiser(ctx, id);
     if (!o) throw new OrganiserNotFound();
     return o;
   }
