@@ -2,6 +2,7 @@ import { z } from 'zod';
 import fs from 'node:fs';
 import net from 'node:net';
 import path from 'node:path';
+import { parseSender } from './mail/headers.ts';
 
 /**
  * All configuration, read once from the environment, checked with zod and frozen.
@@ -49,6 +50,17 @@ const schema = z.object({
     .min(0, { error: 'must be a number of hours from 0 to 48' })
     .max(48, { error: 'must be at most 48: every draw is published within 48 hours' })
     .default(48),
+  SMTP_URL: z
+    .string()
+    .regex(
+      /^smtps?:\/\/[^\s/]+(\/[^\s]*)?$/,
+      'must be smtp://host:port or smtps://host:port, with user:password@ before the host if the server needs them',
+    )
+    .optional(),
+  MAIL_FROM: z
+    .string()
+    .refine((v) => parseSender(v) !== null, 'must be an e-mail address, or a name and an address as Name <address>')
+    .default('Veiltally <veiltally@localhost.invalid>'),
   LOG_LEVEL: z.enum(LOG_LEVELS, { error: `must be one of ${LOG_LEVELS.join(', ')}` }).default('info'),
 });
 
@@ -68,6 +80,8 @@ export type Config = Readonly<{
    */
   trustProxy: TrustProxy;
   logLevel: (typeof LOG_LEVELS)[number];
+  /** Mail to members: an SMTP server, or (smtpUrl undefined) .eml files in the data directory's outbox. */
+  mail: Readonly<{ smtpUrl: string | undefined; from: Readonly<{ name: string; address: string }>; outboxDir: string }>;
   /** Annual ε budget per member group (how members voted, 12 months), and whether opening past it is allowed. */
   ledger: Readonly<{ annualBudget: string; allowOverBudget: boolean }>;
   /** How long an organiser may hold a drawn result as a private preview before it publishes itself (≤ 48 h). */
@@ -164,6 +178,11 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     publicUrl: (e.PUBLIC_URL ?? `http://${e.HOST.includes(':') ? `[${e.HOST}]` : e.HOST}:${e.PORT}`).replace(/\/+$/, ''),
     trustProxy,
     logLevel: e.LOG_LEVEL,
+    mail: Object.freeze({
+      smtpUrl: e.SMTP_URL,
+      from: Object.freeze(parseSender(e.MAIL_FROM)!),
+      outboxDir: path.join(path.resolve(e.VEILTALLY_DATA_DIR), 'outbox'),
+    }),
     ledger: Object.freeze({ annualBudget: e.VEILTALLY_EPSILON_BUDGET, allowOverBudget: e.VEILTALLY_ALLOW_OVER_BUDGET }),
     previewMs: Math.round(e.VEILTALLY_PREVIEW_HOURS * 3600_000),
   });

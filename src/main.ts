@@ -11,6 +11,7 @@ import { createApp } from './web/app.ts';
 import { answerClientError } from './web/middleware/security.ts';
 import { startHousekeeping } from './housekeeping.ts';
 import { registerSigningKey } from './elections/signingKeyRepo.ts';
+import { createMailer } from './mail/createMailer.ts';
 
 function fail(line: string): never {
   process.stderr.write(`veiltally: ${line}\n`);
@@ -49,7 +50,9 @@ async function start(): Promise<void> {
     throw e;
   }
 
-  const ctx = liveContext(db, secrets, config.ledger);
+  // Mail goes through the configured SMTP server, or into the data directory's outbox folder.
+  const mailer = createMailer(config.mail);
+  const ctx = { ...liveContext(db, secrets, config.ledger), mail: { mailer, publicUrl: config.publicUrl } };
   // The active signing key's public half is listed on /keys from the start, before its first statement.
   await registerSigningKey(db.knex, secrets.signingSeed, new Date());
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });
@@ -76,6 +79,7 @@ async function start(): Promise<void> {
     logger.info({ signal }, 'shutting down: finishing requests in flight');
     housekeeping.stop();
     server.close(async () => {
+      await mailer.close().catch(() => undefined);
       await db.close().catch((e) => logger.error({ err: e }, 'database did not close cleanly'));
       logger.info('stopped');
       process.exit(0);

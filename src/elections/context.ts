@@ -4,6 +4,7 @@ import type { Engine } from '../db/knex.ts';
 
 import type { KdfParams } from '../custody/kdf.ts';
 import type { RandomSource } from '../mechanism/random.ts';
+import type { Mailer } from './mailPort.ts';
 
 /** n random bytes. Production passes node:crypto; tests pass a seeded source. The type lives in the core. */
 export type RandomBytes = RandomSource;
@@ -35,6 +36,11 @@ export interface UseCaseContext {
   readonly passwordKdf?: KdfParams;
   /** The annual ε budget per member group (config); absent means DEFAULT_LEDGER_POLICY. */
   readonly ledgerPolicy?: LedgerPolicy;
+  /**
+   * Mail to roster members: the adapter (src/mail, chosen by main.ts from the configuration) and
+   * the public address the ballot links in the mail point at. Absent: nothing is sent (the CLI).
+   */
+  readonly mail?: { readonly mailer: Mailer; readonly publicUrl: string };
 }
 
 export interface LedgerPolicy {
