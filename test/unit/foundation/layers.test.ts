@@ -15,7 +15,7 @@ beforeAll(() => {
 
 async function rulesFiring(at: string, source: string): Promise<string[]> {
   const [result] = await eslint.lintText(source, { filePath: path.join(root, at) });
-  return result.messages.map((m) => `${m.ruleId ?? 'parse'}: ${m.message}`);
+  return (result?.messages ?? []).map((m) => `${m.ruleId ?? 'parse'}: ${m.message}`);
 }
 
 describe('layers the linter enforces', () => {
