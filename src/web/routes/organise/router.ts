@@ -10,6 +10,7 @@ import { basicsRoutes } from './basicsRoutes.ts';
 import { organiserRoutes } from './organiserRoutes.ts';
 import { resumeRoutes } from './resumeForm.ts';
 import { demoRoutes } from './demoRoutes.ts';
+import { rosterRoutes } from './rosterRoutes.ts';
 
 /**
  * The organiser area, /organise/**. First run, sign-in and sign-out come first; every other
@@ -28,5 +29,6 @@ export function organiseRouter(deps: AppDeps): Router {
   router.use(dashboardRoutes(deps));
   router.use(basicsRoutes(deps));
   router.use(organiserRoutes(deps));
+  router.use(rosterRoutes(deps));
   return router;
 }
