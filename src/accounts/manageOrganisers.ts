@@ -1,7 +1,6 @@
 import { recordEvent } from '../elections/audit.ts';
 import type { UseCaseContext } from '../elections/context.ts';
 import { InvalidInput } from '../errors.ts';
-import type { Db } from '../db/knex.ts';
 import {
   CannotRemoveAdministrator,
   CannotRemoveYourself,
@@ -67,8 +66,8 @@ export async function resetOrganiserPassword(
 }
 
 /** The acting organiser, who must be an administrator (NotAdministrator otherwise, whatever the target). */
-export async function requireAdministrator(db: Db, organiserId: string): Promise<void> {
-  const me = await findOrganiser(db, organiserId);
+export async function requireAdministrator(ctx: UseCaseContext, organiserId: string): Promise<void> {
+  const me = await findOrganiser(ctx.knex, organiserId);
   if (!me?.admin) throw new NotAdministrator();
 }
 
@@ -80,7 +79,7 @@ export async function requireAdministrator(db: Db, organiserId: string): Promise
  * administrator is removed only after the operator demotes them.
  */
 export async function removeOrganiser(ctx: UseCaseContext, input: { organiserId: string; targetId: string }): Promise<{ email: string }> {
-  await requireAdministrator(ctx.knex, input.organiserId);
+  await requireAdministrator(ctx, input.organiserId);
   if (input.targetId === input.organiserId) throw new CannotRemoveYourself();
   const now = ctx.now();
   return ctx.knex.transaction(async (trx) => {

@@ -4,6 +4,8 @@ import { DEFAULT_LEDGER_POLICY, type UseCaseContext } from './context.ts';
 import { findGroup, findGroupByName, listLedger, pendingDraws, type LedgerRow, type MemberGroup } from './ledgerRepo.ts';
 import { NotFound } from '../errors.ts';
 
+export { DEFAULT_GROUP_NAME } from './ledgerRepo.ts';
+
 /** A group's public ledger: every charge, and the totals over the 12 months up to now. */
 export interface GroupLedger {
   group: MemberGroup;
@@ -67,4 +69,9 @@ export async function budgetPreview(
     pending: pending.length,
     allowOverBudget: policy.allowOverBudget,
   };
+}
+
+/** A member group's name, for the election form; empty when the election has no group yet (or the group is gone). */
+export async function groupNameOf(ctx: UseCaseContext, groupId: string | null): Promise<string> {
+  return groupId ? ((await findGroup(ctx.knex, groupId))?.name ?? '') : '';
 }

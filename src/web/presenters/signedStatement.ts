@@ -1,8 +1,5 @@
 import { keyFingerprint } from '../../custody/index.ts';
-import type { Db } from '../../db/knex.ts';
-import { findGroup } from '../../elections/ledgerRepo.ts';
-import { findStatement } from '../../elections/signDraw.ts';
-import { findSigningKey } from '../../elections/signingKeyRepo.ts';
+import type { SignedStatementFacts } from '../../elections/statementLinks.ts';
 
 /** The signed statement's links and the key fingerprint, shown on every published result page. */
 export interface SignedStatementView {
@@ -17,12 +14,9 @@ export interface SignedStatementView {
   draws: number;
 }
 
-export async function signedStatementView(db: Db, electionId: string): Promise<SignedStatementView | null> {
-  const signed = await findStatement(db, electionId);
-  if (!signed) return null;
-  const s = signed.envelope.statement;
-  const key = await findSigningKey(db, signed.envelope.signature.keyId);
-  const group = await findGroup(db, s.ledger.groupId);
+export function signedStatementView(electionId: string, facts: SignedStatementFacts): SignedStatementView {
+  const { key, group } = facts;
+  const s = facts.envelope.statement;
   return {
     statementUrl: `/results/${electionId}/statement.json`,
     keyId: s.keyId,

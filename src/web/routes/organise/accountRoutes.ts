@@ -3,7 +3,7 @@ import { addOrganiser } from '../../../accounts/addOrganiser.ts';
 import { EmailTaken, FirstRunDone, SignInFailed } from '../../../accounts/errors.ts';
 import { createFirstOrganiser, isFirstRunOpen } from '../../../accounts/firstRun.ts';
 import { requireAdministrator } from '../../../accounts/manageOrganisers.ts';
-import { countOrganisers, findOrganiser, listOrganisers } from '../../../accounts/organiserRepo.ts';
+import { allOrganisers, getOrganiser, organiserCount } from '../../../accounts/organisers.ts';
 import { signIn } from '../../../accounts/signIn.ts';
 import { findDemo } from '../../../demo/seedDemo.ts';
 import { recordEvent } from '../../../elections/audit.ts';
@@ -49,7 +49,7 @@ export function accountRoutes(deps: AppDeps): Router {
 
   router.get(SIGN_IN_PATH, async (req, res) => {
     // Only when nobody at all can sign in: the demo's sample login can, while the first run stays open.
-    if ((await countOrganisers(ctx.knex)) === 0) return res.redirect(303, FIRST_RUN_PATH);
+    if ((await organiserCount(ctx)) === 0) return res.redirect(303, FIRST_RUN_PATH);
     const next = safeNext(req.query.next);
     if (req.session?.organiserId) return res.redirect(303, next ?? '/organise');
     renderSignIn(res, 200, '', next);
@@ -67,7 +67,7 @@ export function accountRoutes(deps: AppDeps): Router {
     try {
       if (!parsed) throw new SignInFailed();
       const { organiserId } = await signIn(ctx, { email: parsed.email, password: parsed.password });
-      const demo = (await findOrganiser(ctx.knex, organiserId))?.demo ?? false;
+      const demo = (await getOrganiser(ctx, organiserId))?.demo ?? false;
       await startSession(req, organiserId, ctx.now(), demo);
       res.redirect(303, next ?? '/organise');
     } catch (e) {
@@ -87,7 +87,7 @@ export function accountRoutes(deps: AppDeps): Router {
   const renderOrganisers = async (res: Response, status: number, email: string, errors: FieldErrors, added: boolean) =>
     res.status(status).render('organise/organisers', {
       title: 'Organisers',
-      organisers: await listOrganisers(ctx.knex),
+      organisers: await allOrganisers(ctx),
       me: organiserOf(res),
       email,
       errors,
@@ -96,13 +96,13 @@ export function accountRoutes(deps: AppDeps): Router {
     });
 
   router.get('/organise/organisers', requireOrganiser(deps), async (req, res) => {
-    await requireAdministrator(ctx.knex, organiserOf(res).id);
+    await requireAdministrator(ctx, organiserOf(res).id);
     res.locals.notice = req.query.removed === '1' ? 'Organiser removed. They can no longer sign in.' : null;
     await renderOrganisers(res, 200, '', {}, req.query.added === '1');
   });
 
   router.post('/organise/organisers', requireOrganiser(deps), async (req, res) => {
-    await requireAdministrator(ctx.knex, organiserOf(res).id);
+    await requireAdministrator(ctx, organiserOf(res).id);
     const form = readNewOrganiser(req.body);
     if (Object.keys(form.errors).length > 0) return renderOrganisers(res, 400, form.values.email, form.errors, false);
     try {

@@ -1,6 +1,6 @@
 import type { Request, RequestHandler } from 'express';
 import { demoLoginRetired } from '../../../accounts/demoOrganiser.ts';
-import { findOrganiser } from '../../../accounts/organiserRepo.ts';
+import { getOrganiser } from '../../../accounts/organisers.ts';
 import type { AppDeps } from '../../deps.ts';
 
 export const SIGN_IN_PATH = '/organise/sign-in';
@@ -27,7 +27,7 @@ export function signInUrl(wanted: string | null): string {
 export function requireOrganiser(deps: AppDeps): RequestHandler {
   return async (req, res, next) => {
     const id = req.session?.organiserId;
-    const found = id ? await findOrganiser(deps.ctx.knex, id) : null;
+    const found = id ? await getOrganiser(deps.ctx, id) : null;
     const organiser = found && !(await demoLoginRetired(deps.ctx.knex, found)) ? found : null;
     if (!organiser) {
       // 303 See Other (RFC 9110 §15.4.4) so any method continues as a GET of the sign-in page.

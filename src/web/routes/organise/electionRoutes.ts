@@ -10,7 +10,8 @@ import type { AppDeps } from '../../deps.ts';
 import { electionListView } from '../../presenters/electionList.ts';
 import { blankValues, electionFormView, valuesFromElection } from '../../presenters/electionForm.ts';
 import { organiserOf } from './auth.ts';
-import { groupBudget, groupNameOf } from './groupBudget.ts';
+import { groupBudget } from './groupBudget.ts';
+import { groupNameOf } from '../../../elections/ledger.ts';
 import { draftFromValues, intentSchema, MAX_ROWS, readElectionForm, readPassphrase, type ElectionFormValues } from './electionSchema.ts';
 import { errorsFrom, type FieldErrors } from './forms.ts';
 

@@ -1,5 +1,4 @@
-import { budgetPreview, type BudgetPreview } from '../../../elections/ledger.ts';
-import { DEFAULT_GROUP_NAME, findGroup } from '../../../elections/ledgerRepo.ts';
+import { budgetPreview, DEFAULT_GROUP_NAME, type BudgetPreview } from '../../../elections/ledger.ts';
 import type { UseCaseContext } from '../../../elections/context.ts';
 import { parseEpsilon } from '../../../mechanism/index.ts';
 import type { ElectionFormValues } from './electionSchema.ts';
@@ -15,8 +14,4 @@ export async function groupBudget(ctx: UseCaseContext, v: ElectionFormValues, el
   }
   const neighbour = v.neighbour === 'add-remove' ? 'add-remove' : 'replace-one';
   return budgetPreview(ctx.knex, ctx, { groupName: name, epsilon: v.epsilon.trim(), neighbour, electionId: electionId ?? undefined });
-}
-
-export async function groupNameOf(ctx: UseCaseContext, groupId: string | null): Promise<string> {
-  return groupId ? ((await findGroup(ctx.knex, groupId))?.name ?? '') : '';
 }

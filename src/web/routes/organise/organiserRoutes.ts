@@ -1,7 +1,7 @@
 import { Router, type Response } from 'express';
 import { CannotRemoveYourself, OrganiserNotFound, WrongCurrentPassword } from '../../../accounts/errors.ts';
 import { changeOwnPassword, removeOrganiser, requireAdministrator } from '../../../accounts/manageOrganisers.ts';
-import { findOrganiser } from '../../../accounts/organiserRepo.ts';
+import { getOrganiser } from '../../../accounts/organisers.ts';
 import { InvalidInput } from '../../../errors.ts';
 import type { AppDeps } from '../../deps.ts';
 import { organiserOf } from './auth.ts';
@@ -39,8 +39,8 @@ export function organiserRoutes(deps: AppDeps): Router {
 
   // Administrators only, checked before the target is looked up, so the answer says nothing about it.
   async function target(res: Response, id: string) {
-    await requireAdministrator(ctx.knex, organiserOf(res).id);
-    const o = await findOrganiser(ctx.knex, id);
+    await requireAdministrator(ctx, organiserOf(res).id);
+    const o = await getOrganiser(ctx, id);
     if (!o) throw new OrganiserNotFound();
     return o;
   }

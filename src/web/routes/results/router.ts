@@ -3,7 +3,9 @@ import type { AppDeps } from '../../deps.ts';
 import { noStore } from '../../middleware/security.ts';
 import { listEvents } from '../../../elections/audit.ts';
 import { checkReceipt } from '../../../elections/checkReceipt.ts';
-import { findElection, type Election } from '../../../elections/electionRepo.ts';
+import type { Election } from '../../../elections/electionRepo.ts';
+import { readElection } from '../../../elections/readElection.ts';
+import { loadSignedStatement } from '../../../elections/statementLinks.ts';
 import { ElectionNotFound } from '../../../elections/errors.ts';
 import { ReceiptMalformed } from '../../../custody/errors.ts';
 import { resultPageView, type ResultPageView } from '../../presenters/result.ts';
@@ -31,7 +33,7 @@ export function resultsRouter(deps: AppDeps): Router {
   async function publicElection(rawId: unknown): Promise<Election> {
     const param = idParam.safeParse({ id: rawId });
     if (!param.success) throw new ElectionNotFound();
-    const e = await findElection(ctx.knex, param.data.id);
+    const e = await readElection(ctx, param.data.id);
     if (!e || e.state === 'draft') throw new ElectionNotFound();
     return e;
   }
@@ -42,7 +44,8 @@ export function resultsRouter(deps: AppDeps): Router {
 
   async function render(res: Response, page: ResultPageView, receiptCheck: ReceiptCheckView | null = null): Promise<void> {
     if (page.result) {
-      const signed = await signedStatementView(ctx.knex, page.id);
+      const facts = await loadSignedStatement(ctx, page.id);
+      const signed = facts ? signedStatementView(page.id, facts) : null;
       res.render('results/result', { title: `Result: ${page.title}`, page, result: page.result, receiptCheck, signed });
     } else {
       res.render('results/pending', { title: `Result not yet published: ${page.title}`, page, receiptCheck });

@@ -3,7 +3,7 @@ import type { AppDeps } from '../../deps.ts';
 import { findElectionIdByShortRef } from '../../../elections/shortRef.ts';
 import { ElectionNotFound } from '../../../elections/errors.ts';
 import { findBallotByCode, listPublishedResults } from '../../../elections/findBallotByCode.ts';
-import { findElection } from '../../../elections/electionRepo.ts';
+import { readElection } from '../../../elections/readElection.ts';
 import { CodeMalformed, CodeTypo } from '../../../custody/errors.ts';
 import { normaliseCode } from '../../../custody/index.ts';
 import { memberSteps } from '../vote/stepCookie.ts';
@@ -66,7 +66,7 @@ export function siteRouter(deps: AppDeps): Router {
       if (e instanceof CodeMalformed || e instanceof CodeTypo) return renderHome(res, 400, code, e.message);
       throw e;
     }
-    const e = id ? await findElection(ctx.knex, id) : null;
+    const e = id ? await readElection(ctx, id) : null;
     if (!e) {
       return renderHome(
         res,

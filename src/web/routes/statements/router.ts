@@ -1,10 +1,11 @@
 import { Router } from 'express';
 import { keyFingerprint, publicKeyFromSeed, signingKeyId } from '../../../custody/index.ts';
-import { findElection } from '../../../elections/electionRepo.ts';
+import { readElection } from '../../../elections/readElection.ts';
 import { ElectionNotFound } from '../../../elections/errors.ts';
 import { loadGroupLedger } from '../../../elections/ledger.ts';
 import { findStatement } from '../../../elections/signDraw.ts';
-import { findSigningKey, listSigningKeys, type SigningKey } from '../../../elections/signingKeyRepo.ts';
+import type { SigningKey } from '../../../elections/signingKeyRepo.ts';
+import { publicSigningKey, publicSigningKeys } from '../../../elections/signingKeys.ts';
 import { NotFound } from '../../../errors.ts';
 import { canonicalJson } from '../../../mechanism/index.ts';
 import { STATEMENT_SCHEMA_URL, statementSchemaText } from '../../../statement/format.ts';
@@ -36,7 +37,7 @@ export function statementsRouter(deps: AppDeps): Router {
   router.get('/results/:id/statement.json', async (req, res) => {
     const param = idParam.safeParse(req.params);
     if (!param.success) throw new ElectionNotFound();
-    const e = await findElection(ctx.knex, param.data.id);
+    const e = await readElection(ctx, param.data.id);
     // Only a published result's statement is public; a tallied preview's is not.
     if (!e || e.state !== 'published') throw new ElectionNotFound();
     const signed = await findStatement(ctx.knex, e.id);
@@ -52,13 +53,13 @@ export function statementsRouter(deps: AppDeps): Router {
   });
 
   router.get(KEYS_URL, async (_req, res) => {
-    const keys = await listSigningKeys(ctx.knex);
+    const keys = await publicSigningKeys(ctx);
     res.type('application/json').send(JSON.stringify({ keys: keys.map(keyDocument) }, null, 2) + '\n');
   });
 
   router.get('/keys/:keyId.json', async (req, res) => {
     const param = keyIdParam.safeParse(req.params);
-    const key = param.success ? await findSigningKey(ctx.knex, param.data.keyId) : null;
+    const key = param.success ? await publicSigningKey(ctx, param.data.keyId) : null;
     if (!key) throw new NotFound('We could not find a signing key with that id.');
     res.type('application/json').set('Content-Disposition', `inline; filename="veiltally-key-${key.keyId}.json"`);
     res.send(JSON.stringify(keyDocument(key), null, 2) + '\n');
@@ -66,7 +67,7 @@ export function statementsRouter(deps: AppDeps): Router {
 
   router.get('/keys', async (_req, res) => {
     const activeId = signingKeyId(publicKeyFromSeed(ctx.secrets.signingSeed));
-    const keys = (await listSigningKeys(ctx.knex)).map((k) => ({ ...keyDocument(k), active: k.keyId === activeId }));
+    const keys = (await publicSigningKeys(ctx)).map((k) => ({ ...keyDocument(k), active: k.keyId === activeId }));
     res.render('statements/keys', { title: 'Signing keys', keys, keysUrl: KEYS_URL });
   });
 

@@ -3,7 +3,8 @@ import type { AppDeps } from '../../deps.ts';
 import { noStore } from '../../middleware/security.ts';
 import { castBallot } from '../../../elections/castBallot.ts';
 import { checkCode } from '../../../elections/checkCode.ts';
-import { findElection, type Election } from '../../../elections/electionRepo.ts';
+import type { Election } from '../../../elections/electionRepo.ts';
+import { readElection } from '../../../elections/readElection.ts';
 import { CodeAlreadySpent, CodeRevoked, ElectionNotFound, ElectionNotOpen } from '../../../elections/errors.ts';
 import { formatReceipt, parseApprovals, tickedOptions, votingElectionView, type VoteStep, type VotingElectionView } from '../../presenters/ballot.ts';
 import { generateCastToken, normaliseCode } from '../../../custody/index.ts';
@@ -48,7 +49,7 @@ export function voteRouter(deps: AppDeps): Router {
   async function memberElection(rawId: unknown): Promise<Election> {
     const param = idParam.safeParse({ id: rawId });
     if (!param.success) throw new ElectionNotFound();
-    const e = await findElection(ctx.knex, param.data.id);
+    const e = await readElection(ctx, param.data.id);
     if (!e) throw new ElectionNotFound();
     if (e.state === 'draft') throw new ElectionNotOpen('draft');
     return e;
