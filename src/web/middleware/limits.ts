@@ -40,17 +40,31 @@ interface Rule {
   readonly points: number;
   readonly windowMs: number;
   readonly key: KeyOf;
+  /**
+   * A shared ceiling (one account, one election) that every client adds to. Rules are counted in
+   * order and a ceiling comes last: a client past its own allowance adds nothing more to the
+   * ceiling, so no single client can fill it and lock the others out.
+   */
+  readonly ceiling?: boolean;
 }
 
 /** Keys hold addresses and e-mail addresses: store only a hash of them. */
 const hashed = (value: string) => crypto.createHash('sha256').update(value).digest('base64url').slice(0, 32);
 
 const clientOf: KeyOf = (req) => req.ip ?? req.socket.remoteAddress ?? 'unknown';
-const electionOf: KeyOf = (req) => (typeof req.params?.id === 'string' ? req.params.id.slice(0, 64) : null);
+/** Election ids are UUIDs, which PostgreSQL compares case-blind: key on the canonical lower-case form. */
+const electionOf: KeyOf = (req) => (typeof req.params?.id === 'string' ? req.params.id.slice(0, 64).toLowerCase() : null);
 const emailOf: KeyOf = (req) => {
   const v = (req.body as Record<string, unknown> | undefined)?.email;
   return typeof v === 'string' && v.length <= 254 ? v.trim().toLowerCase() : null;
 };
+const both =
+  (a: KeyOf, b: KeyOf): KeyOf =>
+  (req) => {
+    const x = a(req);
+    const y = b(req);
+    return x && y ? `${x}\u0000${y}` : null;
+  };
 
 /**
  * How a limit acts once reached:
@@ -78,41 +92,66 @@ export async function lockedOut(res: Response): Promise<LockedOut | null> {
   return check ? check() : null;
 }
 
+/**
+ * Clients that have succeeded before (a sign-in from this address to this account), remembered
+ * for `windowMs`: a shared ceiling does not apply to them, so whoever fills an account's ceiling
+ * from elsewhere cannot keep its owner out (NIST SP 800-63B §5.2.2 names this: accept attempts
+ * from addresses the subscriber has authenticated from before).
+ */
+interface Known {
+  readonly name: string;
+  readonly windowMs: number;
+  readonly key: KeyOf;
+}
+
+interface Key {
+  rule: Rule;
+  store: RateLimiterPostgres;
+  key: string;
+}
+
+const isLimiterAnswer = (e: unknown): e is RateLimiterRes => !(e instanceof Error) && typeof e === 'object' && e !== null && 'msBeforeNext' in e;
+
 export class AttemptLimit {
   private readonly limiters: Array<{ rule: Rule; store: RateLimiterPostgres }>;
+  private readonly known: { rule: Known; store: RateLimiterPostgres } | null;
 
   constructor(
     knex: Knex,
     private readonly what: string,
     private readonly mode: Mode,
     rules: readonly Rule[],
+    known?: Known,
   ) {
     const storeClient = knexStoreClient(knex);
-    this.limiters = rules.map((rule) => ({
-      rule,
-      store: new RateLimiterPostgres({
+    const storeFor = (name: string, points: number, windowMs: number) =>
+      new RateLimiterPostgres({
         storeClient,
         storeType: 'pool',
         tableName: RATE_LIMIT_TABLE,
         tableCreated: true, // made by a migration
-        keyPrefix: rule.name,
-        points: rule.points,
-        duration: Math.ceil(rule.windowMs / 1000),
-      }),
-    }));
+        keyPrefix: name,
+        points,
+        duration: Math.ceil(windowMs / 1000),
+      });
+    this.limiters = rules.map((rule) => ({ rule, store: storeFor(rule.name, rule.points, rule.windowMs) }));
+    this.known = known ? { rule: known, store: storeFor(known.name, Number.MAX_SAFE_INTEGER, known.windowMs) } : null;
   }
 
-  private keys(req: Request) {
+  /**
+   * The keys of this request, taken when it arrives: Express 5 clears route parameters once the
+   * router is done, so a count made when the answer ends must not read them again.
+   */
+  private keys(req: Request): Key[] {
     return this.limiters.flatMap(({ rule, store }) => {
       const k = rule.key(req);
       return k ? [{ rule, store, key: hashed(k) }] : [];
     });
   }
 
-  /** The longest wait among the limits this request has used up, or 0. */
-  private async lockedFor(req: Request): Promise<number> {
+  /** The longest wait among the limits these keys have used up, or 0. */
+  private async lockedFor(keys: readonly Key[]): Promise<number> {
     let wait = 0;
-    const keys = this.keys(req);
     const seen = await Promise.all(keys.map(({ store, key }) => store.get(key)));
     seen.forEach((r, i) => {
       if (r && r.consumedPoints >= keys[i]!.rule.points) wait = Math.max(wait, r.msBeforeNext);
@@ -120,8 +159,15 @@ export class AttemptLimit {
     return wait;
   }
 
-  private async count(req: Request, points: number): Promise<void> {
-    await Promise.all(this.keys(req).map(({ store, key }) => (points > 0 ? store.penalty(key, points) : store.reward(key, -points))));
+  /**
+   * One failure, counted in rule order, each an atomic increment in the database; once a
+   * client's own allowance is passed, the shared ceilings after it are left alone.
+   */
+  private async countFailure(keys: readonly Key[]): Promise<void> {
+    for (const { rule, store, key } of keys) {
+      const r = await store.penalty(key, 1);
+      if (!rule.ceiling && r.consumedPoints > rule.points) return;
+    }
   }
 
   private refuse(res: Response, next: (e: unknown) => void, retryAfterMs: number) {
@@ -129,47 +175,76 @@ export class AttemptLimit {
     next(new TooManyAttempts(this.what, retryAfterMs));
   }
 
+  private async isKnown(req: Request): Promise<boolean> {
+    const k = this.known?.rule.key(req);
+    return Boolean(k && (await this.known!.store.get(hashed(k))));
+  }
+
+  private async remember(req: Request): Promise<void> {
+    const k = this.known?.rule.key(req);
+    if (k) await this.known!.store.set(hashed(k), 1, Math.ceil(this.known!.rule.windowMs / 1000));
+  }
+
   readonly middleware: RequestHandler = async (req, res, next) => {
+    const keys = this.keys(req);
     if (this.mode === 'every') {
       try {
-        for (const { store, key } of this.keys(req)) await store.consume(key, 1);
+        for (const { store, key } of keys) await store.consume(key, 1);
         return next();
       } catch (e) {
-        if (e instanceof Error) return next(e);
-        return this.refuse(res, next, (e as RateLimiterRes).msBeforeNext);
+        if (!isLimiterAnswer(e)) return next(e);
+        return this.refuse(res, next, e.msBeforeNext);
       }
     }
     if (this.mode === 'failures-only') {
       // Whether this client is past the limit matters only once its attempt has failed, so it is
       // read then (lockedOut below), never on success: a correct cast costs the limit nothing.
       let check: Promise<LockedOut | null> | undefined;
-      const lockedOutNow = () => (check ??= this.lockedFor(req).then((wait) => (wait > 0 ? { what: this.what, retryAfterMs: wait } : null)));
+      const lockedOutNow = () => (check ??= this.lockedFor(keys).then((wait) => (wait > 0 ? { what: this.what, retryAfterMs: wait } : null)));
       res.locals[LOCKED_OUT_CHECK] = lockedOutNow;
       // Counted once known to have failed. Counting every attempt first and handing successes
       // back made each cast write the same two rows (the election's, the meeting's address) twice
       // more, so concurrent casts queued on those row locks (README, Performance). The cost: a
-      // burst sent at once can pass the allowance by its own size, which for 128-bit codes still
-      // bounds load, the reason this limit exists.
+      // burst sent at once can be answered "wrong code" rather than "wait" past the allowance;
+      // every failure is still counted, atomically, and a client past its own allowance adds
+      // nothing to the election's, so one address never locks a ballot for others.
       // The answer to a failure waits for its count, so the client's next attempt sees it.
       const end = res.end.bind(res) as (...args: unknown[]) => Response;
       res.end = ((...args: unknown[]) => {
         if (res.statusCode < 400) return end(...args);
-        this.count(req, 1)
+        this.countFailure(keys)
           .catch(() => undefined)
           .finally(() => end(...args));
         return res;
       }) as Response['end'];
       return next();
     }
-    const wait = await this.lockedFor(req);
-    if (wait > 0) return this.refuse(res, next, wait);
-    // Every attempt is counted before it runs (so the next request sees it, on any app server),
-    // and handed back once it turns out to have succeeded: in effect only failures count.
-    await this.count(req, 1);
-    res.on('finish', () => {
-      if (res.statusCode < 400) this.count(req, -1).catch(() => undefined);
-    });
-    next();
+    // 'refuse': reserve, then check. Each attempt takes its point with one atomic increment
+    // (INSERT … ON CONFLICT DO UPDATE … RETURNING) before the expensive check runs, and is refused
+    // when that point is past the allowance, so a burst sent at once cannot all be checked.
+    // A success hands its points back: in effect only failures count.
+    try {
+      const known = keys.some((k) => k.rule.ceiling) && (await this.isKnown(req));
+      const taken: Key[] = [];
+      for (const k of keys) {
+        if (k.rule.ceiling && known) continue;
+        try {
+          await k.store.consume(k.key, 1);
+          taken.push(k);
+        } catch (e) {
+          if (!isLimiterAnswer(e)) throw e;
+          // Stops here: a refused attempt adds nothing to the ceilings after its own allowance.
+          return this.refuse(res, next, e.msBeforeNext);
+        }
+      }
+      res.on('finish', () => {
+        if (res.statusCode >= 400) return;
+        Promise.all([...taken.map(({ store, key }) => store.reward(key, 1)), this.remember(req)]).catch(() => undefined);
+      });
+      next();
+    } catch (e) {
+      next(e);
+    }
   };
 }
 
@@ -193,23 +268,34 @@ export function createLimits(knex: Knex): Limits {
   return {
     codeAttempts: new AttemptLimit(knex, 'ballot code attempts', 'failures-only', [
       { name: 'code-client', points: 300, windowMs: 10 * MIN, key: clientOf },
-      { name: 'code-election', points: 3000, windowMs: 10 * MIN, key: electionOf },
+      { name: 'code-election', points: 3000, windowMs: 10 * MIN, key: electionOf, ceiling: true },
     ]).middleware,
-    signInAttempts: new AttemptLimit(knex, 'sign-in attempts', 'refuse', [
-      { name: 'signin-account', points: 10, windowMs: 15 * MIN, key: emailOf },
-      { name: 'signin-client', points: 100, windowMs: 15 * MIN, key: clientOf },
-    ]).middleware,
+    // Per (address, account) is the tight limit, so guessing from elsewhere never locks the owner's
+    // own address; the account's ceiling (NIST SP 800-63B §5.2.2: at most 100 consecutive failures
+    // per account) binds many addresses together, and spares an address the owner signed in from
+    // within the last 30 days.
+    signInAttempts: new AttemptLimit(
+      knex,
+      'sign-in attempts',
+      'refuse',
+      [
+        { name: 'signin-client-account', points: 10, windowMs: 15 * MIN, key: both(clientOf, emailOf) },
+        { name: 'signin-client', points: 100, windowMs: 15 * MIN, key: clientOf },
+        { name: 'signin-account', points: 100, windowMs: 15 * MIN, key: emailOf, ceiling: true },
+      ],
+      { name: 'signin-known', windowMs: 30 * 24 * 60 * MIN, key: both(clientOf, emailOf) },
+    ).middleware,
     passphraseAttempts: new AttemptLimit(knex, 'tally passphrase attempts', 'refuse', [
-      { name: 'passphrase-election', points: 10, windowMs: 15 * MIN, key: electionOf },
+      { name: 'passphrase-client-election', points: 10, windowMs: 15 * MIN, key: both(clientOf, electionOf) },
       { name: 'passphrase-client', points: 50, windowMs: 15 * MIN, key: clientOf },
+      { name: 'passphrase-election', points: 100, windowMs: 15 * MIN, key: electionOf, ceiling: true },
     ]).middleware,
     receiptChecks: new AttemptLimit(knex, 'receipt checks', 'every', [{ name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf }])
       .middleware,
-    // One failed look-up is one guess against every open election, so the site-wide key gives the
-    // same bound per election as 'code-election' does on the ballot steps.
+    // One failed look-up is one guess against every open election. It counts per address only: a
+    // site-wide allowance let one address's refused guesses lock the box for everyone.
     codeLookups: new AttemptLimit(knex, 'ballot code attempts', 'failures-only', [
       { name: 'lookup-client', points: 300, windowMs: 10 * MIN, key: clientOf },
-      { name: 'lookup-site', points: 3000, windowMs: 10 * MIN, key: () => 'site' },
     ]).middleware,
   };
 }
