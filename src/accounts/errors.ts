@@ -48,6 +48,40 @@ export class OrganiserNotFound extends VeiltallyError {
   }
 }
 
+/**
+ * Organiser accounts (adding, removing, listing them) are for administrators, whom the operator
+ * names from the command line. The same answer whatever the target, so it tells nothing about it.
+ */
+export class NotAdministrator extends VeiltallyError {
+  readonly code = 'NotAdministrator';
+  override readonly status = 403;
+  constructor() {
+    super(
+      'Only an administrator of this site can add or remove organisers. Ask the person who runs the site: they name administrators from the command line.',
+    );
+  }
+}
+
+/** An administrator is removed only after the operator has made them an ordinary organiser again. */
+export class CannotRemoveAdministrator extends VeiltallyError {
+  readonly code = 'CannotRemoveAdministrator';
+  override readonly status = 409;
+  constructor() {
+    super('That organiser is an administrator. The person who runs the site must first run `veiltally organiser demote` for them.');
+  }
+}
+
+/** Removing an organiser must not leave an election nobody can run, nor hand it to whoever removed them. */
+export class StillRunsElections extends VeiltallyError {
+  readonly code = 'StillRunsElections';
+  override readonly status = 409;
+  constructor(readonly count: number) {
+    super(
+      `That organiser alone runs ${count} election${count === 1 ? '' : 's'} not yet published. They can share ${count === 1 ? 'it' : 'them'} with another organiser first; nobody else can see ${count === 1 ? 'it' : 'them'}.`,
+    );
+  }
+}
+
 /** An organiser cannot remove their own account, so a site is never left with nobody by accident. */
 export class CannotRemoveYourself extends VeiltallyError {
   readonly code = 'CannotRemoveYourself';

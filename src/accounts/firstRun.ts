@@ -51,7 +51,8 @@ export async function createFirstOrganiser(ctx: UseCaseContext, input: { email: 
       .ignore()
       .returning('name');
     if (claimed.length !== 1 || (await countRealOrganisers(trx)) > 0) throw new FirstRunDone();
-    await insertOrganiser(trx, { id, email, passwordHash, createdBy: null, at: now });
+    // Whoever sets up the site administers its accounts; later changes only from the command line.
+    await insertOrganiser(trx, { id, email, passwordHash, createdBy: null, at: now, admin: true });
     await recordEvent(trx, { electionId: null, organiserId: id, action: 'first-organiser-created' }, now);
   });
   return { organiserId: id };

@@ -1,8 +1,15 @@
 import { recordEvent } from '../elections/audit.ts';
 import type { UseCaseContext } from '../elections/context.ts';
 import { InvalidInput } from '../errors.ts';
-import { CannotRemoveYourself, OrganiserNotFound, WrongCurrentPassword } from './errors.ts';
-import { findCredentials, findOrganiser, updatePasswordHash } from './organiserRepo.ts';
+import {
+  CannotRemoveAdministrator,
+  CannotRemoveYourself,
+  NotAdministrator,
+  OrganiserNotFound,
+  StillRunsElections,
+  WrongCurrentPassword,
+} from './errors.ts';
+import { electionsRunAlone, findCredentials, findOrganiser, markRemoved, setAdmin, updatePasswordHash } from './organiserRepo.ts';
 import { hashPassword, OWASP_PASSWORD_KDF, passwordSchema, verifyPassword } from './passwords.ts';
 import { deleteSessionsOf } from './sessionRepo.ts';
 
@@ -36,12 +43,14 @@ export async function changeOwnPassword(
 }
 
 /**
- * One organiser sets a new password for another (who lost theirs), to be passed on privately.
- * Every session of the other organiser ends, so whoever held their old password is signed out.
+ * The operator (command line only) sets a new password for an organiser who lost theirs, to be
+ * passed on privately. No organiser can do this for another from the web, administrators
+ * included: it would let them sign in as that organiser and run their elections. Every session
+ * of the organiser ends, so whoever held their old password is signed out.
  */
 export async function resetOrganiserPassword(
   ctx: UseCaseContext,
-  input: { organiserId: string | null; targetId: string; password: string; passwordAgain: string },
+  input: { targetId: string; password: string; passwordAgain: string },
 ): Promise<{ email: string }> {
   const target = await findOrganiser(ctx.knex, input.targetId);
   if (!target) throw new OrganiserNotFound();
@@ -51,47 +60,50 @@ export async function resetOrganiserPassword(
     await updatePasswordHash(trx, target.id, hash);
     await deleteSessionsOf(trx, target.id);
     // organiserId null: done by the operator on the command line.
-    await recordEvent(
-      trx,
-      { electionId: null, organiserId: input.organiserId, action: 'organiser-password-reset', detail: { email: target.email } },
-      ctx.now(),
-    );
+    await recordEvent(trx, { electionId: null, organiserId: null, action: 'organiser-password-reset', detail: { email: target.email } }, ctx.now());
   });
   return { email: target.email };
 }
 
+/** The acting organiser, who must be an administrator (NotAdministrator otherwise, whatever the target). */
+export async function requireAdministrator(ctx: UseCaseContext, organiserId: string): Promise<void> {
+  const me = await findOrganiser(ctx.knex, organiserId);
+  if (!me?.admin) throw new NotAdministrator();
+}
+
 /**
- * Removes another organiser: they can no longer sign in and their sessions end. Their row stays
- * (removed_at), so the activity record keeps naming who did what. Every election they owned or
- * shared goes on being run by the others; an election they owned alone is shared with the
- * organiser who removed them, so no election is left without an organiser.
+ * An administrator removes another organiser: they can no longer sign in and their sessions end.
+ * Their row stays (removed_at), so the activity record keeps naming who did what. Refused while
+ * they alone run an election not yet published: it would be left with nobody to run it, and
+ * handing it to the administrator would let one organiser into another's election. Another
+ * administrator is removed only after the operator demotes them.
  */
 export async function removeOrganiser(ctx: UseCaseContext, input: { organiserId: string; targetId: string }): Promise<{ email: string }> {
+  await requireAdministrator(ctx, input.organiserId);
   if (input.targetId === input.organiserId) throw new CannotRemoveYourself();
-  const target = await findOrganiser(ctx.knex, input.targetId);
-  if (!target) throw new OrganiserNotFound();
   const now = ctx.now();
-  await ctx.knex.transaction(async (trx) => {
-    await trx('organisers').where({ id: target.id }).whereNull('removed_at').update({ removed_at: now });
+  return ctx.knex.transaction(async (trx) => {
+    const target = await findOrganiser(trx, input.targetId);
+    if (!target) throw new OrganiserNotFound();
+    if (target.admin) throw new CannotRemoveAdministrator();
+    const alone = await electionsRunAlone(trx, target.id);
+    if (alone > 0) throw new StillRunsElections(alone);
+    await markRemoved(trx, target.id, now);
     await deleteSessionsOf(trx, target.id);
-    const orphans = await trx('elections as e')
-      .where('e.owner_id', target.id)
-      .whereNotExists(
-        trx('election_organisers as s').join('organisers as o', 'o.id', 's.organiser_id').whereRaw('s.election_id = e.id').whereNull('o.removed_at'),
-      )
-      .select('e.id');
-    for (const { id } of orphans) {
-      await trx('election_organisers')
-        .insert({ election_id: id, organiser_id: input.organiserId, added_by: input.organiserId, added_at: now })
-        .onConflict(['election_id', 'organiser_id'])
-        .ignore();
-      await recordEvent(
-        trx,
-        { electionId: id, organiserId: input.organiserId, action: 'shared', detail: { with: 'you, as its organiser was removed' } },
-        now,
-      );
-    }
     await recordEvent(trx, { electionId: null, organiserId: input.organiserId, action: 'organiser-removed', detail: { email: target.email } }, now);
+    return { email: target.email };
   });
-  return { email: target.email };
+}
+
+/** The operator (command line only) makes an organiser an administrator, or an ordinary organiser again. */
+export async function setOrganiserAdmin(ctx: UseCaseContext, input: { targetId: string; admin: boolean }): Promise<void> {
+  await ctx.knex.transaction(async (trx) => {
+    const target = await findOrganiser(trx, input.targetId);
+    if (!target || !(await setAdmin(trx, target.id, input.admin))) throw new OrganiserNotFound();
+    await recordEvent(
+      trx,
+      { electionId: null, organiserId: null, action: input.admin ? 'organiser-promoted' : 'organiser-demoted', detail: { email: target.email } },
+      ctx.now(),
+    );
+  });
 }

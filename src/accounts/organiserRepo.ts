@@ -8,6 +8,8 @@ export interface Organiser {
   createdByEmail: string | null;
   /** Created by the demo (`veiltally demo`): shown as a sample login everywhere it appears. */
   demo: boolean;
+  /** May add and remove organiser accounts; set only from the command line (`veiltally organiser promote`). */
+  admin: boolean;
 }
 
 export interface OrganiserCredentials {
@@ -57,7 +59,7 @@ function listQuery(db: Db) {
   return db('organisers as o')
     .whereNull('o.removed_at')
     .leftJoin('organisers as c', 'c.id', 'o.created_by')
-    .select('o.id', 'o.email', 'o.created_at', 'o.demo', 'c.email as created_by_email');
+    .select('o.id', 'o.email', 'o.created_at', 'o.demo', 'o.admin', 'c.email as created_by_email');
 }
 
 function fromRow(r: Record<string, unknown>): Organiser {
@@ -67,13 +69,14 @@ function fromRow(r: Record<string, unknown>): Organiser {
     createdAt: new Date(r.created_at as string),
     createdByEmail: (r.created_by_email as string | null) ?? null,
     demo: r.demo === true,
+    admin: r.admin === true,
   };
 }
 
 /** Inserts an organiser; false when the email is taken (unique index), so races cannot create twins. */
 export async function insertOrganiser(
   db: Db,
-  row: { id: string; email: string; passwordHash: string; createdBy: string | null; at: Date; demo?: boolean },
+  row: { id: string; email: string; passwordHash: string; createdBy: string | null; at: Date; demo?: boolean; admin?: boolean },
 ): Promise<boolean> {
   const inserted = await db('organisers')
     .insert({
@@ -83,6 +86,7 @@ export async function insertOrganiser(
       created_by: row.createdBy,
       created_at: row.at,
       demo: row.demo ?? false,
+      admin: row.admin ?? false,
     })
     .onConflict('email')
     .ignore()
@@ -92,4 +96,31 @@ export async function insertOrganiser(
 
 export async function updatePasswordHash(db: Db, id: string, passwordHash: string): Promise<void> {
   await db('organisers').where({ id }).update({ password_hash: passwordHash });
+}
+
+/** Makes an organiser an administrator or not; false when nobody current has that id. Command line only. */
+export async function setAdmin(db: Db, id: string, admin: boolean): Promise<boolean> {
+  if (!UUID.test(id)) return false;
+  return (await db('organisers').where({ id, demo: false }).whereNull('removed_at').update({ admin })) === 1;
+}
+
+/** Elections not yet published that this organiser alone runs (no other current organiser shares them). */
+export async function electionsRunAlone(db: Db, organiserId: string): Promise<number> {
+  const row = await db('elections as e')
+    .where('e.owner_id', organiserId)
+    .whereNot('e.state', 'published')
+    .whereNotExists(
+      db('election_organisers as s')
+        .join('organisers as o', 'o.id', 's.organiser_id')
+        .whereRaw('s.election_id = e.id')
+        .whereNot('s.organiser_id', organiserId)
+        .whereNull('o.removed_at'),
+    )
+    .count({ n: '*' })
+    .first();
+  return toCount(row?.n ?? 0);
+}
+
+export async function markRemoved(db: Db, id: string, at: Date): Promise<void> {
+  await db('organisers').where({ id }).whereNull('removed_at').update({ removed_at: at });
 }

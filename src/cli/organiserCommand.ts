@@ -1,7 +1,7 @@
 import crypto from 'node:crypto';
 import { z } from 'zod';
 import { listOrganisers } from '../accounts/organiserRepo.ts';
-import { resetOrganiserPassword } from '../accounts/manageOrganisers.ts';
+import { resetOrganiserPassword, setOrganiserAdmin } from '../accounts/manageOrganisers.ts';
 import { loadConfig } from '../config.ts';
 import { ALPHABET } from '../custody/crockford.ts';
 import { openConfiguredDatabase } from '../db/configured.ts';
@@ -14,12 +14,17 @@ import type { CliIo, Command } from './io.ts';
 
 const USAGE = `Usage: veiltally organiser list
        veiltally organiser reset-password --email EMAIL
+       veiltally organiser promote --email EMAIL
+       veiltally organiser demote --email EMAIL
 
-For the operator of the site, when an organiser (perhaps the only one) is locked out.
+For the operator of the site.
   list             the organisers who can sign in, with the date each was added
   reset-password   sets a new random password for the organiser with this email, prints it
                    once, and signs that organiser out everywhere; pass it on privately and
                    ask them to change it under "Your account" after signing in
+  promote          makes the organiser an administrator: they may add and remove organiser
+                   accounts (never read another's elections or set another's password)
+  demote           makes an administrator an ordinary organiser again
 
 Uses the same database as the server (DATABASE_URL, or the embedded database in
 VEILTALLY_DATA_DIR; stop the server first when it runs on the embedded database).
@@ -52,11 +57,11 @@ export function makeOrganiserCommand(open: ContextOpener = openConfigured): Comm
     usage: USAGE,
     async run(args: string[], io: CliIo) {
       const [action, ...rest] = args;
-      if (action !== 'list' && action !== 'reset-password') {
+      if (action !== 'list' && action !== 'reset-password' && action !== 'promote' && action !== 'demote') {
         throw new InvalidInput(
           action === undefined
-            ? 'say what to do: `list` or `reset-password --email EMAIL`'
-            : `unknown action "${action.slice(0, 40)}": use \`list\` or \`reset-password\``,
+            ? 'say what to do: `list`, `reset-password --email EMAIL`, `promote --email EMAIL` or `demote --email EMAIL`'
+            : `unknown action "${action.slice(0, 40)}": use \`list\`, \`reset-password\`, \`promote\` or \`demote\``,
         );
       }
       const flags =
@@ -67,14 +72,26 @@ export function makeOrganiserCommand(open: ContextOpener = openConfigured): Comm
           const organisers = await listOrganisers(ctx.knex);
           if (organisers.length === 0) io.stdout('No organisers yet: open the site and follow the first-run page.\n');
           for (const o of organisers)
-            io.stdout(`${o.email}\tadded ${o.createdAt.toISOString().slice(0, 10)}${o.demo ? '\tdemo sample login' : ''}\n`);
+            io.stdout(
+              `${o.email}\tadded ${o.createdAt.toISOString().slice(0, 10)}${o.admin ? '\tadministrator' : ''}${o.demo ? '\tdemo sample login' : ''}\n`,
+            );
           return 0;
         }
         const email = flags!.email.trim().toLowerCase();
         const target = (await listOrganisers(ctx.knex)).find((o) => o.email === email);
         if (!target) throw new InvalidInput(`no organiser with the email ${email.slice(0, 254)}; \`veiltally organiser list\` shows them`);
+        if (action === 'promote' || action === 'demote') {
+          if (target.demo) throw new InvalidInput('the demo sample login cannot be an administrator');
+          await setOrganiserAdmin(ctx, { targetId: target.id, admin: action === 'promote' });
+          io.stdout(
+            action === 'promote'
+              ? `${target.email} is now an administrator: they may add and remove organisers.\n`
+              : `${target.email} is now an ordinary organiser.\n`,
+          );
+          return 0;
+        }
         const password = randomPassword(ctx.random);
-        await resetOrganiserPassword(ctx, { organiserId: null, targetId: target.id, password, passwordAgain: password });
+        await resetOrganiserPassword(ctx, { targetId: target.id, password, passwordAgain: password });
         io.stdout(
           `New password for ${target.email}: ${password}\n` +
             'It is shown only now. Pass it on privately; they should change it under "Your account" after signing in.\n',

@@ -30,7 +30,7 @@ describe.each(engines)('veiltally organiser [%s]', (engine) => {
     await makeOrganiser(ctx, 'only@club.example');
     const { code, stdout } = await run(['list']);
     expect(code).toBe(0);
-    expect(stdout).toMatch(/^only@club\.example\tadded \d{4}-\d{2}-\d{2}\n$/);
+    expect(stdout).toMatch(/^only@club\.example\tadded \d{4}-\d{2}-\d{2}\tadministrator\n$/);
   });
 
   it('resets the only organiser’s password: the printed one signs in, the old one no longer does, and it is recorded', async () => {
@@ -49,9 +49,24 @@ describe.each(engines)('veiltally organiser [%s]', (engine) => {
     [['reset-password', '--email', 'nobody@club.example'], 'no organiser with the email nobody@club.example'],
     [['reset-password', '--emial', 'x'], 'unknown option "--emial"'],
     [[], 'say what to do'],
-    [['promote'], 'unknown action "promote"'],
+    [['promote'], '--email is missing'],
+    [['elevate'], 'unknown action "elevate"'],
   ])('%j says what is wrong', async (args, message) => {
     await expect(run(args)).rejects.toThrow(message);
+  });
+
+  it('promotes an organiser to administrator and demotes them, recorded as the operator’s doing', async () => {
+    await makeOrganiser(ctx, 'second@club.example');
+    const admin = async () => (await db.knex('organisers').where({ email: 'second@club.example' }).first('admin')).admin as boolean;
+    expect(await admin()).toBe(false);
+    expect((await run(['promote', '--email', 'Second@club.example'])).stdout).toContain('second@club.example is now an administrator');
+    expect(await admin()).toBe(true);
+    expect((await run(['list'])).stdout).toMatch(/second@club\.example\tadded \d{4}-\d{2}-\d{2}\tadministrator\n/);
+    expect((await run(['demote', '--email', 'second@club.example'])).stdout).toContain('is now an ordinary organiser');
+    expect(await admin()).toBe(false);
+    const events = await db.knex('audit_events').whereIn('action', ['organiser-promoted', 'organiser-demoted']).select('organiser_id');
+    expect(events).toEqual([{ organiser_id: null }, { organiser_id: null }]);
+    await expect(run(['promote', '--email', 'nobody@club.example'])).rejects.toThrow('no organiser with the email');
   });
 
   it('makes 100-bit passwords from the Crockford alphabet, grouped for reading out', () => {

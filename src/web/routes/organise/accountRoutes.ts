@@ -2,6 +2,7 @@ import { Router, type Response } from 'express';
 import { addOrganiser } from '../../../accounts/addOrganiser.ts';
 import { EmailTaken, FirstRunDone, SignInFailed } from '../../../accounts/errors.ts';
 import { createFirstOrganiser, isFirstRunOpen } from '../../../accounts/firstRun.ts';
+import { requireAdministrator } from '../../../accounts/manageOrganisers.ts';
 import { allOrganisers, getOrganiser, organiserCount } from '../../../accounts/organisers.ts';
 import { signIn } from '../../../accounts/signIn.ts';
 import { findDemo } from '../../../demo/seedDemo.ts';
@@ -95,16 +96,13 @@ export function accountRoutes(deps: AppDeps): Router {
     });
 
   router.get('/organise/organisers', requireOrganiser(deps), async (req, res) => {
-    res.locals.notice =
-      req.query.removed === '1'
-        ? 'Organiser removed. They can no longer sign in.'
-        : req.query.reset === '1'
-          ? 'New password set, and they have been signed out. Pass it on privately.'
-          : null;
+    await requireAdministrator(ctx, organiserOf(res).id);
+    res.locals.notice = req.query.removed === '1' ? 'Organiser removed. They can no longer sign in.' : null;
     await renderOrganisers(res, 200, '', {}, req.query.added === '1');
   });
 
   router.post('/organise/organisers', requireOrganiser(deps), async (req, res) => {
+    await requireAdministrator(ctx, organiserOf(res).id);
     const form = readNewOrganiser(req.body);
     if (Object.keys(form.errors).length > 0) return renderOrganisers(res, 400, form.values.email, form.errors, false);
     try {

@@ -1,6 +1,6 @@
 import { Router, type Response } from 'express';
 import { CannotRemoveYourself, OrganiserNotFound, WrongCurrentPassword } from '../../../accounts/errors.ts';
-import { changeOwnPassword, removeOrganiser, resetOrganiserPassword } from '../../../accounts/manageOrganisers.ts';
+import { changeOwnPassword, removeOrganiser, requireAdministrator } from '../../../accounts/manageOrganisers.ts';
 import { getOrganiser } from '../../../accounts/organisers.ts';
 import { InvalidInput } from '../../../errors.ts';
 import type { AppDeps } from '../../deps.ts';
@@ -9,9 +9,10 @@ import { readPasswords } from './basicsSchema.ts';
 import { errorsFrom, summaryOf, type FieldErrors } from './forms.ts';
 
 /**
- * Accounts after the first run: change one's own password, set a new password for another
- * organiser who lost theirs, remove another organiser. Passwords are never written back into
- * a page; every change ends the sessions it must (see accounts/manageOrganisers.ts).
+ * Accounts after the first run: change one's own password (with the current one); an
+ * administrator removes another organiser. Nobody sets another organiser's password from the
+ * web: the operator does, with `veiltally organiser reset-password`. Passwords are never written
+ * back into a page; every change ends the sessions it must (see accounts/manageOrganisers.ts).
  */
 export function organiserRoutes(deps: AppDeps): Router {
   const router = Router();
@@ -36,37 +37,18 @@ export function organiserRoutes(deps: AppDeps): Router {
     res.redirect(303, '/organise/account?changed=1');
   });
 
+  // Administrators only, checked before the target is looked up, so the answer says nothing about it.
   async function target(res: Response, id: string) {
+    await requireAdministrator(ctx, organiserOf(res).id);
     const o = await getOrganiser(ctx, id);
     if (!o) throw new OrganiserNotFound();
     return o;
   }
 
-  const renderReset = async (res: Response, id: string, status: number, errors: FieldErrors = {}) =>
-    res
-      .status(status)
-      .render('organise/organiser-password', { title: 'Set a new password', other: await target(res, id), errors, summary: summaryOf(errors) });
-
-  router.get('/organise/organisers/:oid/password', async (req, res) => {
-    if (req.params.oid === organiserOf(res).id) return res.redirect(303, '/organise/account');
-    await renderReset(res, req.params.oid, 200);
-  });
-
-  router.post('/organise/organisers/:oid/password', async (req, res) => {
-    const { password, passwordAgain } = readPasswords(req.body);
-    if (req.params.oid === organiserOf(res).id) return res.redirect(303, '/organise/account');
-    try {
-      await resetOrganiserPassword(ctx, { organiserId: organiserOf(res).id, targetId: req.params.oid, password, passwordAgain });
-    } catch (e) {
-      if (e instanceof InvalidInput) return renderReset(res, req.params.oid, 400, errorsFrom(e));
-      throw e;
-    }
-    res.redirect(303, '/organise/organisers?reset=1');
-  });
-
   router.get('/organise/organisers/:oid/remove', async (req, res) => {
-    if (req.params.oid === organiserOf(res).id) throw new CannotRemoveYourself();
-    res.render('organise/organiser-remove', { title: 'Remove an organiser', other: await target(res, req.params.oid) });
+    const other = await target(res, req.params.oid);
+    if (other.id === organiserOf(res).id) throw new CannotRemoveYourself();
+    res.render('organise/organiser-remove', { title: 'Remove an organiser', other });
   });
 
   router.post('/organise/organisers/:oid/remove', async (req, res) => {
