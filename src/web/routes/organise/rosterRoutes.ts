@@ -1,19 +1,9 @@
 import { Router, type Response } from 'express';
 import { InvalidInput } from '../../../errors.ts';
 import { RosterFrozen, RosterImportRejected, RosterInUse, type RosterRowError } from '../../../rosters/errors.ts';
-import {
-  addMember,
-  createRoster,
-  deleteRoster,
-  importMembers,
-  organisersRoster,
-  removeMember,
-  renameRoster,
-  rosterOrganisers,
-  shareRoster,
-} from '../../../rosters/manageRosters.ts';
+import { addMember, createRoster, deleteRoster, importMembers, removeMember, renameRoster, shareRoster } from '../../../rosters/manageRosters.ts';
 import { ROSTER_LIMITS } from '../../../rosters/rosterInput.ts';
-import { electionsUsingRoster, listRosterMembers, listRosters, rosterInUse } from '../../../rosters/rosterRepo.ts';
+import { rosterDeletion, rosterList, rosterPage } from '../../../rosters/rosterPages.ts';
 import type { AppDeps } from '../../deps.ts';
 import { noStore } from '../../middleware/security.ts';
 import { organiserOf } from './auth.ts';
@@ -34,7 +24,7 @@ export function rosterRoutes(deps: AppDeps): Router {
   async function renderList(res: Response, name = '', errors: FieldErrors = {}, notice: string | null = null) {
     res.render('organise/rosters', {
       title: 'Member rosters',
-      rosters: await listRosters(ctx.knex, me(res)),
+      rosters: await rosterList(ctx, me(res)),
       name,
       errors,
       summary: summaryOf(errors),
@@ -70,15 +60,15 @@ export function rosterRoutes(deps: AppDeps): Router {
   }
 
   async function renderRoster(res: Response, rosterId: string, kept: Kept = {}) {
-    const roster = await organisersRoster(ctx.knex, rosterId, me(res), { lock: false });
+    const { roster, members, organisers, elections, frozen } = await rosterPage(ctx, { organiserId: me(res), rosterId });
     const errors = kept.errors ?? {};
     res.render('organise/roster', {
       title: roster.name,
       roster,
-      members: await listRosterMembers(ctx.knex, roster.id),
-      organisers: await rosterOrganisers(ctx.knex, roster),
-      elections: await electionsUsingRoster(ctx.knex, roster.id),
-      frozen: await rosterInUse(ctx.knex, roster.id),
+      members,
+      organisers,
+      elections,
+      frozen,
       limits: ROSTER_LIMITS,
       me: organiserOf(res),
       name: kept.name ?? roster.name,
@@ -175,8 +165,7 @@ export function rosterRoutes(deps: AppDeps): Router {
   });
 
   router.get('/organise/rosters/:rid/delete', async (req, res) => {
-    const roster = await organisersRoster(ctx.knex, req.params.rid, me(res), { lock: false });
-    const using = await electionsUsingRoster(ctx.knex, roster.id);
+    const { roster, using } = await rosterDeletion(ctx, { organiserId: me(res), rosterId: req.params.rid });
     res.render('organise/roster-delete', { title: `Delete ${roster.name}`, roster, live: using.filter((e) => e.state !== 'published') });
   });
 

@@ -1,0 +1,43 @@
+import type { UseCaseContext } from '../elections/context.ts';
+import { organisersRoster, rosterOrganisers } from './manageRosters.ts';
+import { electionsUsingRoster, listRosterMembers, listRosters, rosterInUse, type Roster, type RosterMember } from './rosterRepo.ts';
+
+type ElectionUsing = { id: string; title: string; state: string };
+
+/** The rosters this organiser may reach, with their member counts. */
+export async function rosterList(ctx: UseCaseContext, organiserId: string): Promise<(Roster & { members: number })[]> {
+  return listRosters(ctx.knex, organiserId);
+}
+
+export interface RosterPage {
+  roster: Roster;
+  members: RosterMember[];
+  organisers: { id: string; email: string; owner: boolean }[];
+  elections: ElectionUsing[];
+  frozen: ElectionUsing[];
+}
+
+/** One roster's page: its members, organisers and the elections using it. One read-only transaction. */
+export async function rosterPage(ctx: UseCaseContext, input: { organiserId: string; rosterId: string }): Promise<RosterPage> {
+  return ctx.knex.transaction(async (trx) => {
+    const roster = await organisersRoster(trx, input.rosterId, input.organiserId, { lock: false });
+    return {
+      roster,
+      members: await listRosterMembers(trx, roster.id),
+      organisers: await rosterOrganisers(trx, roster),
+      elections: await electionsUsingRoster(trx, roster.id),
+      frozen: await rosterInUse(trx, roster.id),
+    };
+  });
+}
+
+/** What the delete page shows: the roster and the elections using it. */
+export async function rosterDeletion(
+  ctx: UseCaseContext,
+  input: { organiserId: string; rosterId: string },
+): Promise<{ roster: Roster; using: ElectionUsing[] }> {
+  return ctx.knex.transaction(async (trx) => {
+    const roster = await organisersRoster(trx, input.rosterId, input.organiserId, { lock: false });
+    return { roster, using: await electionsUsingRoster(trx, roster.id) };
+  });
+}
