@@ -121,6 +121,12 @@ export async function electionsRunAlone(db: Db, organiserId: string): Promise<nu
   return toCount(row?.n ?? 0);
 }
 
+/** The current (not removed) organiser with this email, compared as stored (lower case), or null. */
+export async function findCurrentOrganiserByEmail(db: Db, email: string): Promise<{ id: string; email: string } | null> {
+  const r = await db('organisers').where({ email }).whereNull('removed_at').first('id', 'email');
+  return r ? { id: r.id as string, email: r.email as string } : null;
+}
+
 export async function markRemoved(db: Db, id: string, at: Date): Promise<void> {
   await db('organisers').where({ id }).whereNull('removed_at').update({ removed_at: at });
 }

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import type { Db } from '../db/knex.ts';
+import { findCurrentOrganiserByEmail } from '../accounts/organiserRepo.ts';
 import { InvalidInput } from '../errors.ts';
 import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
@@ -44,7 +45,7 @@ export async function shareElection(
   if (!parsed.success) throw new InvalidInput(parsed.error.issues[0]!.message, [{ path: 'email', message: parsed.error.issues[0]!.message }]);
   return ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
-    const target = await trx('organisers').where({ email: parsed.data }).whereNull('removed_at').first('id', 'email');
+    const target = await findCurrentOrganiserByEmail(trx, parsed.data);
     const notFound = 'There is no organiser with that email on this site. Add them on the Organisers page first.';
     if (!target) throw new InvalidInput(notFound, [{ path: 'email', message: notFound }]);
     if (target.id === e.ownerId || target.id === input.organiserId) {
@@ -57,7 +58,7 @@ export async function shareElection(
       .onConflict(['election_id', 'organiser_id'])
       .ignore();
     await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'shared', detail: { with: target.email } }, now);
-    return { email: target.email as string };
+    return { email: target.email };
   });
 }
 

@@ -1,7 +1,7 @@
 import crypto from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
-import nodemailer from 'nodemailer';
+import type { Transporter } from 'nodemailer';
 import type { Mailer, MailOutcome, OutgoingMail } from '../elections/mailPort.ts';
 import { headerText, mailAddress } from './headers.ts';
 
@@ -10,7 +10,7 @@ import { headerText, mailAddress } from './headers.ts';
  * without one, nodemailer composes each message into a buffer and it is written as an .eml file into
  * the outbox folder (written under a temporary name and renamed, so a file in the outbox is always
  * whole). Nodemailer's own logging stays off: its debug output would include message bodies, and
- * so the codes.
+ * so the codes. nodemailer is loaded on the first message, not at start-up, which most runs never reach.
  */
 export interface MailSettings {
   readonly smtpUrl: string | undefined;
@@ -38,39 +38,42 @@ function answerOf(e: unknown): string {
   return headerText(text, 500) || 'the mail server did not accept the message';
 }
 
+/** One transport, made on first use; `close` only closes one that was made. */
+function lazyTransport(options: Record<string, unknown>) {
+  let made: Promise<Transporter> | null = null;
+  return {
+    get: () => (made ??= import('nodemailer').then(({ default: nodemailer }) => nodemailer.createTransport(options))),
+    close: async () => {
+      if (made) (await made).close();
+    },
+  };
+}
+
 export function createMailer(settings: MailSettings): Mailer {
   if (settings.smtpUrl) {
     const url = new URL(settings.smtpUrl);
-    const transport = nodemailer.createTransport({
-      url: settings.smtpUrl,
-      pool: true,
-      maxConnections: 4,
-      logger: false,
-      debug: false,
-    } as Parameters<typeof nodemailer.createTransport>[0]);
+    const transport = lazyTransport({ url: settings.smtpUrl, pool: true, maxConnections: 4, logger: false, debug: false });
     return {
       where: { kind: 'smtp', host: url.port ? `${url.hostname}:${url.port}` : url.hostname },
       async send(mail): Promise<MailOutcome> {
         try {
-          const info = await transport.sendMail(message(settings.from, mail));
+          const info = await (await transport.get()).sendMail(message(settings.from, mail));
           if (info.rejected?.length) return { ok: false, answer: headerText(String(info.response ?? 'recipient refused'), 500) };
           return { ok: true, answer: headerText(String(info.response ?? '250'), 500) };
         } catch (e) {
           return { ok: false, answer: answerOf(e) };
         }
       },
-      async close() {
-        transport.close();
-      },
+      close: transport.close,
     };
   }
   const folder = settings.outboxDir;
-  const transport = nodemailer.createTransport({ streamTransport: true, buffer: true, newline: 'windows' });
+  const transport = lazyTransport({ streamTransport: true, buffer: true, newline: 'windows' });
   return {
     where: { kind: 'outbox', folder },
     async send(mail): Promise<MailOutcome> {
       try {
-        const info = (await transport.sendMail(message(settings.from, mail))) as unknown as { message: Buffer };
+        const info = (await (await transport.get()).sendMail(message(settings.from, mail))) as unknown as { message: Buffer };
         await fs.promises.mkdir(folder, { recursive: true, mode: 0o700 });
         const name = `${new Date().toISOString().replace(/[:.]/g, '-')}-${crypto.randomBytes(6).toString('hex')}.eml`;
         const tmp = path.join(folder, `.${name}.part`);
@@ -87,8 +90,6 @@ export function createMailer(settings: MailSettings): Mailer {
         return { ok: false, answer: answerOf(e) };
       }
     },
-    async close() {
-      transport.close();
-    },
+    close: transport.close,
   };
 }

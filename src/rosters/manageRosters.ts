@@ -1,3 +1,5 @@
+import { findCurrentOrganiserByEmail } from '../accounts/organiserRepo.ts';
+import { randomUuid } from '../custody/index.ts';
 import type { Db } from '../db/knex.ts';
 import { recordEvent } from '../elections/audit.ts';
 import type { UseCaseContext } from '../elections/context.ts';
@@ -54,7 +56,8 @@ export async function createRoster(ctx: UseCaseContext, input: { organiserId: st
   const name = checkedName(input.name);
   return ctx.knex.transaction(async (trx) => {
     const now = ctx.now();
-    const rosterId = await insertRoster(trx, { ownerId: input.organiserId, name, at: now });
+    const rosterId = randomUuid(ctx.random);
+    await insertRoster(trx, { id: rosterId, ownerId: input.organiserId, name, at: now });
     await recordEvent(trx, event('roster-created', rosterId, input.organiserId), now);
     return { rosterId };
   });
@@ -109,7 +112,7 @@ export async function addMember(
       const message = `A roster holds at most ${ROSTER_LIMITS.members.toLocaleString('en')} members.`;
       throw new InvalidInput(message, [{ path: 'email', message }]);
     }
-    await insertMembers(trx, r.id, [{ email: email.data, displayName: name.data }]);
+    await insertMembers(trx, r.id, [{ id: randomUuid(ctx.random), email: email.data, displayName: name.data }]);
     await recordEvent(trx, event('roster-member-added', r.id, input.organiserId), ctx.now());
     return { email: email.data };
   });
@@ -146,7 +149,11 @@ export async function importMembers(ctx: UseCaseContext, input: { organiserId: s
         },
       ]);
     }
-    await insertMembers(trx, r.id, members);
+    await insertMembers(
+      trx,
+      r.id,
+      members.map((m) => ({ ...m, id: randomUuid(ctx.random) })),
+    );
     await recordEvent(trx, event('roster-imported', r.id, input.organiserId, { added: members.length }), ctx.now());
     return { added: members.length };
   });
@@ -157,7 +164,7 @@ export async function shareRoster(ctx: UseCaseContext, input: { organiserId: str
   const email = input.email.trim().toLowerCase().slice(0, 254);
   return ctx.knex.transaction(async (trx) => {
     const r = await organisersRoster(trx, input.rosterId, input.organiserId, { lock: true });
-    const target = email ? await trx('organisers').where({ email }).whereNull('removed_at').first('id', 'email') : null;
+    const target = email ? await findCurrentOrganiserByEmail(trx, email) : null;
     const notFound = 'There is no organiser with that email on this site. Add them on the Organisers page first.';
     if (!target) throw new InvalidInput(notFound, [{ path: 'shareEmail', message: notFound }]);
     if (target.id === r.ownerId || (await isRosterOrganiser(trx, r.id, target.id))) {
@@ -167,7 +174,7 @@ export async function shareRoster(ctx: UseCaseContext, input: { organiserId: str
     const now = ctx.now();
     await trx('roster_organisers').insert({ roster_id: r.id, organiser_id: target.id, added_by: input.organiserId, added_at: now });
     await recordEvent(trx, event('roster-shared', r.id, input.organiserId, { with: target.email }), now);
-    return { email: target.email as string };
+    return { email: target.email };
   });
 }
 

@@ -1,4 +1,4 @@
-import crypto from 'node:crypto';
+import { isUuid } from '../custody/index.ts';
 import type { Db } from '../db/knex.ts';
 
 /**
@@ -13,8 +13,6 @@ import type { Db } from '../db/knex.ts';
  * removed or imported (rosterInUse), so the members mailed a code are exactly the members the
  * draw is charged to.
  */
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
-export const isUuid = (v: string): boolean => UUID.test(v);
 
 /** An address compared as the roster compares them: trimmed, NFC, lower-cased. */
 export const canonicalEmail = (email: string): string => email.trim().normalize('NFC').toLowerCase();
@@ -70,10 +68,9 @@ export async function listRosters(db: Db, organiserId: string): Promise<(Roster 
   return rows.map((r) => ({ ...roster(r), members: Number(r.members) }));
 }
 
-export async function insertRoster(db: Db, row: { ownerId: string; name: string; at: Date }): Promise<string> {
-  const id = crypto.randomUUID();
-  await db('rosters').insert({ id, owner_id: row.ownerId, name: row.name, created_at: row.at });
-  return id;
+/** Ids come from the use-case's random source, like every other id of ours. */
+export async function insertRoster(db: Db, row: { id: string; ownerId: string; name: string; at: Date }): Promise<void> {
+  await db('rosters').insert({ id: row.id, owner_id: row.ownerId, name: row.name, created_at: row.at });
 }
 
 export async function renameRoster(db: Db, rosterId: string, name: string): Promise<void> {
@@ -118,9 +115,13 @@ export async function canonicalAddresses(db: Db, rosterId: string): Promise<stri
   return rows.map((r) => r.email_canonical as string);
 }
 
-export async function insertMembers(db: Db, rosterId: string, members: readonly { email: string; displayName: string | null }[]): Promise<void> {
+export async function insertMembers(
+  db: Db,
+  rosterId: string,
+  members: readonly { id: string; email: string; displayName: string | null }[],
+): Promise<void> {
   const rows = members.map((m) => ({
-    id: crypto.randomUUID(),
+    id: m.id,
     roster_id: rosterId,
     email: m.email.trim(),
     email_canonical: canonicalEmail(m.email),

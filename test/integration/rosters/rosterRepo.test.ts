@@ -27,12 +27,15 @@ describe.each(engines)('roster tables and repository [%s]', (engine) => {
 
   it('keeps members as entered, unique by canonical address, and ties an election to its roster', async () => {
     const at = new Date();
-    const rosterId = await insertRoster(db.knex, { ownerId: owner, name: 'Rowing club', at });
+    const rosterId = crypto.randomUUID();
+    await insertRoster(db.knex, { id: rosterId, ownerId: owner, name: 'Rowing club', at });
     await insertMembers(db.knex, rosterId, [
-      { email: 'Ann.Oar@Rowing.example', displayName: 'Ann' },
-      { email: 'ben@rowing.example', displayName: null },
+      { id: crypto.randomUUID(), email: 'Ann.Oar@Rowing.example', displayName: 'Ann' },
+      { id: crypto.randomUUID(), email: 'ben@rowing.example', displayName: null },
     ]);
-    await expect(insertMembers(db.knex, rosterId, [{ email: ' ANN.oar@rowing.example ', displayName: null }])).rejects.toThrow();
+    await expect(
+      insertMembers(db.knex, rosterId, [{ id: crypto.randomUUID(), email: ' ANN.oar@rowing.example ', displayName: null }]),
+    ).rejects.toThrow();
     expect(await listRosterMembers(db.knex, rosterId)).toEqual([
       { id: expect.any(String), email: 'Ann.Oar@Rowing.example', displayName: 'Ann' },
       { id: expect.any(String), email: 'ben@rowing.example', displayName: null },
