@@ -25,7 +25,7 @@ export const MAX_PREVIEW_MS = 48 * 3600_000;
 /**
  * The whole minute from which a draw queued at `queuedAt` may be shown: the first one at least a
  * minute away. A count that finishes within that minute (every realistic tally) is shown at the
- * same instant whatever the turnout, so its duration reveals nothing; DEVELOPERS.md states the limit.
+ * same instant whatever the turnout, so its duration reveals nothing; the README's threat model states the limit.
  */
 export function revealMinute(queuedAt: Date): Date {
   return new Date(Math.ceil((queuedAt.getTime() + 60_000) / 60_000) * 60_000);

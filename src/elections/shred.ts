@@ -42,7 +42,7 @@ const REWRITE_DUE = 'shred-rewrite-due';
  * contents of the table into a new disk file"), so afterwards no page of elections or ballots holds
  * the shredded key or ciphertexts. It holds an exclusive lock for the rewrite: elections is one row
  * per election and ballots only what is still sealed, so the pause is short. Runs outside any
- * transaction. The write-ahead log and older backups still hold them: see DEVELOPERS.md.
+ * transaction. The write-ahead log and older backups still hold them: see the README's threat model (Known limits).
  */
 export async function rewriteShreddedTables(db: Db, waitMs = 10_000): Promise<'done' | 'deferred' | 'nothing'> {
   const due = await db('instance_settings').where({ name: REWRITE_DUE }).delete();

@@ -11,7 +11,7 @@ import type { Db } from '../db/knex.ts';
  * statement each, in an order that carries no information (fresh random keys), so every
  * current row version has the tally's xmin and a new position. Dead versions remain on disk
  * until VACUUM reclaims them (vacuumAfterTally); the write-ahead log and backups taken during
- * voting keep them longer. DEVELOPERS.md ("What the database can reveal") says so.
+ * voting keep them longer. The README's threat model ("Live database access during voting") says so.
  */
 export async function rewriteVotingRows(trx: Db, electionId: string): Promise<void> {
   // Cast tokens only served retries during voting; kept, they would share each cast's xmin.
