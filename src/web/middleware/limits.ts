@@ -84,8 +84,8 @@ const LOCKED_OUT_CHECK = 'lockedOutCheck';
 
 /**
  * Behind a failures-only limit, after the attempt has failed: is this client past the limit (then
- * the failure is answered only with "wait")? Read from the database on the first call, before this
- * failure is counted; null outside such a limit.
+ * the failure is answered only with "wait")? The first call counts this failure in the database and
+ * answers from that count; null outside such a limit.
  */
 export async function lockedOut(res: Response): Promise<LockedOut | null> {
   const check = res.locals[LOCKED_OUT_CHECK] as (() => Promise<LockedOut | null>) | undefined;
@@ -149,25 +149,22 @@ export class AttemptLimit {
     });
   }
 
-  /** The longest wait among the limits these keys have used up, or 0. */
-  private async lockedFor(keys: readonly Key[]): Promise<number> {
-    let wait = 0;
-    const seen = await Promise.all(keys.map(({ store, key }) => store.get(key)));
-    seen.forEach((r, i) => {
-      if (r && r.consumedPoints >= keys[i]!.rule.points) wait = Math.max(wait, r.msBeforeNext);
-    });
-    return wait;
-  }
-
   /**
    * One failure, counted in rule order, each an atomic increment in the database; once a
-   * client's own allowance is passed, the shared ceilings after it are left alone.
+   * client's own allowance is passed, the shared ceilings after it are left alone. Answers the
+   * longest wait among the allowances this failure went past (0: none), so the decision rests on
+   * the increment's own result and concurrent failures cannot all see the same earlier count.
    */
-  private async countFailure(keys: readonly Key[]): Promise<void> {
+  private async countFailure(keys: readonly Key[]): Promise<number> {
+    let wait = 0;
     for (const { rule, store, key } of keys) {
       const r = await store.penalty(key, 1);
-      if (!rule.ceiling && r.consumedPoints > rule.points) return;
+      if (r.consumedPoints > rule.points) {
+        wait = Math.max(wait, r.msBeforeNext);
+        if (!rule.ceiling) return wait;
+      }
     }
+    return wait;
   }
 
   private refuse(res: Response, next: (e: unknown) => void, retryAfterMs: number) {
@@ -197,23 +194,23 @@ export class AttemptLimit {
       }
     }
     if (this.mode === 'failures-only') {
-      // Whether this client is past the limit matters only once its attempt has failed, so it is
-      // read then (lockedOut below), never on success: a correct cast costs the limit nothing.
-      let check: Promise<LockedOut | null> | undefined;
-      const lockedOutNow = () => (check ??= this.lockedFor(keys).then((wait) => (wait > 0 ? { what: this.what, retryAfterMs: wait } : null)));
-      res.locals[LOCKED_OUT_CHECK] = lockedOutNow;
-      // Counted once known to have failed. Counting every attempt first and handing successes
-      // back made each cast write the same two rows (the election's, the meeting's address) twice
-      // more, so concurrent casts queued on those row locks (README, Performance). The cost: a
-      // burst sent at once can be answered "wrong code" rather than "wait" past the allowance;
-      // every failure is still counted, atomically, and a client past its own allowance adds
-      // nothing to the election's, so one address never locks a ballot for others.
-      // The answer to a failure waits for its count, so the client's next attempt sees it.
+      // Counted only once the attempt has failed, never on success: a correct cast costs the limit
+      // nothing. (Counting every attempt first and handing successes back made each cast write the
+      // same two rows twice more, so concurrent casts queued on those row locks: README, Performance.)
+      // The failure is counted when the error handler asks whether to answer "wait" (lockedOut), and
+      // that answer comes from the atomic increment itself, so a burst sent at once gets at most the
+      // allowance of "wrong code" answers. A client past its own allowance adds nothing to the
+      // election's, so one address never locks a ballot for others.
+      let counted: Promise<number> | undefined;
+      const count = () => (counted ??= this.countFailure(keys));
+      res.locals[LOCKED_OUT_CHECK] = () => count().then((wait) => (wait > 0 ? { what: this.what, retryAfterMs: wait } : null));
+      // A failure nobody asked about is still counted; the answer waits for its count, so the
+      // client's next attempt sees it.
       const end = res.end.bind(res) as (...args: unknown[]) => Response;
       res.end = ((...args: unknown[]) => {
         if (res.statusCode < 400) return end(...args);
-        this.countFailure(keys)
-          .catch(() => undefined)
+        count()
+          .catch(() => 0)
           .finally(() => end(...args));
         return res;
       }) as Response['end'];
