@@ -74,8 +74,7 @@ export async function renameRoster(ctx: UseCaseContext, input: { organiserId: st
 
 /**
  * Deletes the roster with every address and name on it. Refused while an election that is not
- * yet published uses it (it still needs the addresses to send codes and notices). Published
- * elections keep only their ledger hashes (election_members) and forget the roster.
+ * yet published uses it (its electorate is fixed until then). Published elections forget the roster.
  */
 export async function deleteRoster(ctx: UseCaseContext, input: { organiserId: string; rosterId: string }): Promise<void> {
   await ctx.knex.transaction(async (trx) => {

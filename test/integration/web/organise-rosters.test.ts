@@ -55,6 +55,17 @@ describe.each(engines)('member rosters through their pages [%s]', (engine) => {
     expect(shown.headers['cache-control']).toBe('no-store');
   });
 
+  it('promises the organiser nothing the site does not do: codes are not mailed yet, and deleting keeps nothing', async () => {
+    const list = await agent.get('/organise/rosters');
+    expect(list.text).toContain('This site does not yet send ballot codes');
+    expect(list.text).not.toMatch(/sends each member|you never hold one/);
+    const id = await newRoster('Boat shed volunteers');
+    const del = await agent.get(`/organise/rosters/${id}/delete`);
+    expect(del.status).toBe(200);
+    expect(del.text).toContain('Every address and name on this roster will be deleted.');
+    expect(del.text).not.toMatch(/keyed hashes/);
+  });
+
   it('lists every bad row, imports nothing, and keeps the pasted text', async () => {
     const id = await newRoster('Tenants');
     const page = `/organise/rosters/${id}`;
