@@ -13,7 +13,7 @@ import { DemoRefused } from '../../../src/demo/errors.ts';
 import { ROWING_CLUB, TENANTS } from '../../../src/demo/scenarios.ts';
 import { inventBallots } from '../../../src/demo/seededBallots.ts';
 import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
-import { TEST_KDF, testContext } from '../../helpers/context.ts';
+import { testContext } from '../../helpers/context.ts';
 import { createDraft, createOrganiser } from '../../helpers/fixtures.ts';
 
 async function count(db: TestDatabase, table: string, where: Record<string, unknown> = {}): Promise<number> {
@@ -39,7 +39,7 @@ describe.each(engines)('demo seeding [%s]', (engine) => {
   let ctx: UseCaseContext;
   beforeEach(async () => {
     db = await freshDatabase(engine);
-    ctx = testContext(db, { passwordKdf: TEST_KDF });
+    ctx = testContext(db);
   });
   afterEach(async () => db.dispose());
 

@@ -6,15 +6,15 @@ import { createFirstOrganiser, isFirstRunOpen } from '../../../src/accounts/firs
 import type { UseCaseContext } from '../../../src/elections/context.ts';
 import { createElection } from '../../../src/elections/createElection.ts';
 import type { DraftInput } from '../../../src/elections/draft.ts';
-import { TEST_KDF, testClock, testContext, type TestClock } from '../../helpers/context.ts';
+import { testClock, testContext, type TestClock } from '../../helpers/context.ts';
 import type { TestDatabase } from '../../helpers/databases.ts';
 
-/** Shared by the organiser-area suites: a context with cheap Argon2 for passwords too, and form helpers. */
+/** Shared by the organiser-area suites: a context on the test clock (cheap Argon2, as every test context), and form helpers. */
 export const PASSWORD = 'rowing club boat name 2026';
 export const PASSPHRASE = 'heron kingfisher oarlock';
 
 export function organiseContext(db: TestDatabase, clock: TestClock = testClock()): UseCaseContext {
-  return testContext(db, { now: clock.now, passwordKdf: TEST_KDF });
+  return testContext(db, { now: clock.now });
 }
 
 /** The synchroniser token from the first hidden _csrf field of a page. */
