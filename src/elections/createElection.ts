@@ -3,6 +3,7 @@ import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
 import { checkDraft, type DraftInput } from './draft.ts';
 import { insertDraft } from './draftRepo.ts';
+import { checkElectorate } from './electorate.ts';
 
 /**
  * Creates a draft election and its key pair. The tally passphrase is used here once, to wrap
@@ -19,6 +20,7 @@ export async function createElection(
   const { publicKey, wrapped } = await createElectionKeys({ passphrase: input.passphrase, electionId: id, kdf: ctx.kdf, random: ctx.random });
   const now = ctx.now();
   await ctx.knex.transaction(async (trx) => {
+    await checkElectorate(trx, draft.rosterId, input.organiserId);
     await insertDraft(trx, { id, ownerId: input.organiserId, draft, publicKey, wrappedKey: wrapped, at: now });
     await recordEvent(trx, { electionId: id, organiserId: input.organiserId, action: 'created' }, now);
   });

@@ -29,6 +29,12 @@ export interface DraftInput {
    * Absent: the instance's default group on creation, unchanged on an edit.
    */
   memberGroup?: string;
+  /**
+   * The electorate: a roster of the organiser's (its id; the app mails each member a code), or
+   * null for printed codes (issued by hand, today's flow for a meeting in a room). Absent: printed
+   * codes on creation, unchanged on an edit.
+   */
+  rosterId?: string | null;
 }
 
 export const DRAFT_LIMITS = Object.freeze({
@@ -46,6 +52,8 @@ export const DRAFT_LIMITS = Object.freeze({
 });
 
 const L = DRAFT_LIMITS;
+/** The same words for a malformed id, a missing roster and someone else's roster, so ids cannot be probed. */
+export const ELECTORATE_MESSAGE = 'Choose one of your rosters, or printed codes.';
 /** Labels are compared trimmed and case-insensitively, so "Oak" and " oak " count as the same option. */
 export const labelKey = (label: string): string => label.trim().normalize('NFC').toLocaleLowerCase('en');
 
@@ -86,6 +94,7 @@ export const draftSchema = z
       .min(1, 'Name the group of members who vote, such as “Rowing club members”.')
       .max(L.groupMax, `Keep the group name to ${L.groupMax} characters or fewer.`)
       .optional(),
+    rosterId: z.uuid({ error: ELECTORATE_MESSAGE }).nullable().optional(),
   })
   .superRefine((d, issue) => {
     const seen = new Map<string, number>();

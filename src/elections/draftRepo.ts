@@ -30,6 +30,7 @@ export async function insertDraft(
     owner_id: row.ownerId,
     state: 'draft',
     ...draftColumns(row.draft),
+    roster_id: row.draft.rosterId ?? null,
     group_id: await groupIdFor(db, row.draft.memberGroup ?? DEFAULT_GROUP_NAME, row.at),
     public_key: row.publicKey,
     wrapped_key: JSON.stringify(row.wrappedKey),
@@ -41,9 +42,10 @@ export async function insertDraft(
 
 export async function updateDraftRow(db: Db, id: string, draft: DraftInput, at: Date): Promise<void> {
   const group = draft.memberGroup === undefined ? {} : { group_id: await groupIdFor(db, draft.memberGroup, at) };
+  const electorate = draft.rosterId === undefined ? {} : { roster_id: draft.rosterId };
   await db('elections')
     .where({ id, state: 'draft' })
-    .update({ ...draftColumns(draft), ...group, updated_at: at });
+    .update({ ...draftColumns(draft), ...group, ...electorate, updated_at: at });
   await db('options').where({ election_id: id }).delete();
   await writeOptions(db, id, draft.options);
 }

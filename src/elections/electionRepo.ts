@@ -52,6 +52,8 @@ export interface Election {
   createdAt: Date;
   /** The member group whose privacy ledger this election's draw is charged to. */
   groupId: string | null;
+  /** The electorate: a roster (the app mails each member a code), or null for printed codes. */
+  rosterId: string | null;
   options: ElectionOption[];
 }
 
@@ -93,6 +95,7 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     publishDueAt: date(r.publish_due_at),
     createdAt: new Date(r.created_at as string),
     groupId: (r.group_id as string | null | undefined) ?? null,
+    rosterId: (r.roster_id as string | null | undefined) ?? null,
     options,
   };
 }

@@ -3,6 +3,7 @@ import type { UseCaseContext } from './context.ts';
 import { checkDraft, type DraftInput } from './draft.ts';
 import { updateDraftRow } from './draftRepo.ts';
 import { ownedElection } from './electionAccess.ts';
+import { checkElectorate } from './electorate.ts';
 import { ElectionLocked } from './errors.ts';
 import { isEditable } from './status.ts';
 
@@ -12,6 +13,7 @@ export async function updateDraft(ctx: UseCaseContext, input: { electionId: stri
   await ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
     if (!isEditable(e)) throw new ElectionLocked();
+    await checkElectorate(trx, draft.rosterId, input.organiserId, e.rosterId);
     const now = ctx.now();
     await updateDraftRow(trx, e.id, draft, now);
     await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'draft-edited' }, now);

@@ -1,12 +1,37 @@
 import type { UseCaseContext } from '../elections/context.ts';
 import { organisersRoster, rosterOrganisers } from './manageRosters.ts';
-import { electionsUsingRoster, listRosterMembers, listRosters, rosterInUse, type Roster, type RosterMember } from './rosterRepo.ts';
+import {
+  countRosterMembers,
+  electionsUsingRoster,
+  findRoster,
+  listRosterMembers,
+  listRosters,
+  rosterInUse,
+  type Roster,
+  type RosterMember,
+} from './rosterRepo.ts';
 
 type ElectionUsing = { id: string; title: string; state: string };
 
 /** The rosters this organiser may reach, with their member counts. */
 export async function rosterList(ctx: UseCaseContext, organiserId: string): Promise<(Roster & { members: number })[]> {
   return listRosters(ctx.knex, organiserId);
+}
+
+/**
+ * The electorates the election form offers: the organiser's rosters, plus the roster the draft
+ * already names when the election (not the roster) was shared with this organiser, by name and
+ * size only, so that saving the form keeps it.
+ */
+export async function electorateChoices(
+  ctx: UseCaseContext,
+  input: { organiserId: string; currentRosterId: string | null },
+): Promise<{ id: string; name: string; members: number }[]> {
+  const mine = (await listRosters(ctx.knex, input.organiserId)).map((r) => ({ id: r.id, name: r.name, members: r.members }));
+  if (!input.currentRosterId || mine.some((r) => r.id === input.currentRosterId)) return mine;
+  const current = await findRoster(ctx.knex, input.currentRosterId);
+  if (!current) return mine;
+  return [...mine, { id: current.id, name: current.name, members: await countRosterMembers(ctx.knex, current.id) }];
 }
 
 export interface RosterPage {

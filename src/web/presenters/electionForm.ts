@@ -33,6 +33,7 @@ export function blankValues(now: Date, timeZone = 'UTC'): ElectionFormValues {
     retention: 'shred',
     retentionDays: '30',
     memberGroup: '',
+    electorate: 'printed',
   };
 }
 
@@ -58,6 +59,7 @@ export function valuesFromElection(e: Election, groupName = ''): ElectionFormVal
     retention: e.retentionDays === null ? 'shred' : 'keep',
     retentionDays: e.retentionDays === null ? '30' : String(e.retentionDays),
     memberGroup: groupName,
+    electorate: e.rosterId ?? 'printed',
   };
 }
 
@@ -68,6 +70,7 @@ export function fieldAnchor(key: string): string {
   if (key === 'options') return 'option-1-label';
   if (key === 'neighbour') return 'neighbour-replace-one';
   if (key === 'rule') return 'rule-exponential';
+  if (key === 'electorate') return 'electorate-printed';
   return key;
 }
 
@@ -92,6 +95,14 @@ export interface ElectionFormView {
   budget: BudgetPreview | null;
   /** A passphrase had been typed but the form came back: it is never echoed, so say it must be typed again. */
   passphraseCleared: boolean;
+  /** The rosters this organiser may choose as the electorate (and the draft's own, if shared with them). */
+  rosters: ElectorateChoice[];
+}
+
+export interface ElectorateChoice {
+  id: string;
+  name: string;
+  members: number;
 }
 
 export function electionFormView(input: {
@@ -103,6 +114,7 @@ export function electionFormView(input: {
   maxRows: number;
   budget?: BudgetPreview | null;
   passphraseCleared?: boolean;
+  rosters?: readonly ElectorateChoice[];
 }): ElectionFormView {
   const errors = input.errors ?? {};
   const values = { ...input.values, options: [...input.values.options] };
@@ -142,5 +154,6 @@ export function electionFormView(input: {
     canAddRows: values.options.length < input.maxRows,
     budget: input.budget ?? null,
     passphraseCleared: input.electionId === null && (input.passphraseCleared ?? false),
+    rosters: [...(input.rosters ?? [])],
   };
 }

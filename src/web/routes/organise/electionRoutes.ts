@@ -6,6 +6,7 @@ import { listElections } from '../../../elections/listElections.ts';
 import { isEditable } from '../../../elections/status.ts';
 import { updateDraft } from '../../../elections/updateDraft.ts';
 import { InvalidInput } from '../../../errors.ts';
+import { electorateChoices } from '../../../rosters/rosterPages.ts';
 import type { AppDeps } from '../../deps.ts';
 import { electionListView } from '../../presenters/electionList.ts';
 import { blankValues, electionFormView, valuesFromElection } from '../../presenters/electionForm.ts';
@@ -34,7 +35,9 @@ export function electionRoutes(deps: AppDeps): Router {
     extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphraseCleared?: boolean } = {},
   ) {
     const budget = await groupBudget(ctx, values, electionId);
-    const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, budget, ...extra });
+    const stored = electionId === null ? null : (await ownedElection(ctx.knex, electionId, organiserOf(res).id, { lock: false })).rosterId;
+    const rosters = await electorateChoices(ctx, { organiserId: organiserOf(res).id, currentRosterId: stored });
+    const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, budget, rosters, ...extra });
     res.status(status).render('organise/election-form', {
       title: electionId === null ? 'New election' : 'Edit the draft',
       form,

@@ -27,6 +27,8 @@ export interface ElectionFormValues {
   retentionDays: string;
   /** The member group the draw is charged to in the privacy ledger. */
   memberGroup: string;
+  /** 'printed' (codes issued by hand) or the id of a roster whose members the app mails a code. */
+  electorate: string;
 }
 
 /** Rows beyond this are never rendered or read; the option limit itself is checked by the draft rules. */
@@ -54,6 +56,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
     retention: field(body, 'retention') === 'keep' ? 'keep' : 'shred',
     retentionDays: cut(field(body, 'retentionDays'), 20),
     memberGroup: cut(field(body, 'memberGroup'), 400),
+    electorate: cut(field(body, 'electorate'), 40).trim() || 'printed',
   };
 }
 
@@ -109,6 +112,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     expectedVoters: votersGiven ? (expectedVoters ?? 1) : null,
     // Left empty: the instance's default group on creation, and no change on an edit.
     memberGroup: v.memberGroup.trim() === '' ? undefined : v.memberGroup,
+    rosterId: v.electorate === 'printed' ? null : v.electorate,
   };
   try {
     const draft = checkDraft(candidate);
@@ -118,7 +122,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     const timesFailed = !times.opensAt || !times.closesAt;
     for (const issue of e.issues) {
       const m = /^options\.(\d+)\.(label|description)$/.exec(issue.path);
-      const key = m ? `options.${rowOf[Number(m[1])]}.${m[2]}` : issue.path;
+      const key = m ? `options.${rowOf[Number(m[1])]}.${m[2]}` : issue.path === 'rosterId' ? 'electorate' : issue.path;
       if (key in errors || key === '') continue;
       if (key === 'closesAt' && timesFailed) continue;
       if (key === 'timeZone' && errors.timeZone) continue;
