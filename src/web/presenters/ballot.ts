@@ -41,6 +41,8 @@ export interface VotingElectionView {
   /** Short sentences shown before voting: how the result will be drawn. */
   howDrawn: string[];
   caution: string;
+  /** Two sentences of the promise, shown just under the code box; the full text follows on the same page. */
+  promise: [string, string];
   /** What members, the public and the organiser can each learn: read before voting. */
   parties: PartyText[];
 }
@@ -57,7 +59,7 @@ function howDrawn(e: Election): string[] {
   return [
     `When voting closes, ${who} at random, weighted toward the most approved options: an option that more members approve is more likely to be drawn, but not certain to be.`,
     RULE_SENTENCES[e.rule] ?? RULE_SENTENCES.exponential,
-    `The privacy level is ε = ${e.epsilon}. A smaller ε protects each ballot more strongly and makes the draw more random; a larger ε makes it follow the approvals more closely.`,
+    `The privacy setting, written ε (epsilon, a Greek letter), is ε = ${e.epsilon}. A smaller ε protects each ballot more strongly and makes the draw more random; a larger ε makes it follow the approvals more closely.`,
     'Nobody, including the organiser, is ever shown how many approvals any option received.',
   ];
 }
@@ -67,6 +69,15 @@ export const DRAW_CAUTION =
   'The winner is drawn at random, weighted toward the most approved options, so it is not always the option with the most approvals. ' +
   'With few voters or a small ε, chance plays a larger part, so a less approved option may well be drawn. ' +
   'Your organisation adopted this way of choosing before the vote, in line with its bylaws and local election law.';
+
+/** The same claims as howDrawn and the caution, shortened: nothing here that the full text does not also say. */
+function promiseOf(seats: number): [string, string] {
+  const drawn =
+    seats === 1
+      ? 'The winner is drawn at random, weighted toward the most approved options, so it is not always the option with the most approvals.'
+      : `The ${seats} winners are drawn at random, weighted toward the most approved options, so they are not always the options with the most approvals.`;
+  return ['Nobody, including the organiser, is ever shown how many approvals any option received.', drawn];
+}
 
 function closedAtOf(e: Election, now: Date): ShownTime | null {
   const closed = votingTimes(e, now).closed;
@@ -102,6 +113,7 @@ export function votingElectionView(e: Election, now: Date): VotingElectionView {
     resultsUrl: `/results/${e.id}`,
     howDrawn: howDrawn(e),
     caution: DRAW_CAUTION,
+    promise: promiseOf(e.seats),
     parties: partiesOf(e.epsilon, e.options.length, e.seats, e.neighbour, e.publishTurnout),
   };
 }
