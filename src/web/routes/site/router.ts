@@ -1,5 +1,6 @@
 import { Router, type Response } from 'express';
 import type { AppDeps } from '../../deps.ts';
+import { isFirstRunOpen } from '../../../accounts/firstRun.ts';
 import { findElectionIdByShortRef } from '../../../elections/shortRef.ts';
 import { ElectionNotFound } from '../../../elections/errors.ts';
 import { findBallotByCode, listPublishedResults } from '../../../elections/findBallotByCode.ts';
@@ -43,7 +44,8 @@ export function siteRouter(deps: AppDeps): Router {
       title: r.title,
       publishedAt: shownTime(r.publishedAt, r.timeZone),
     }));
-    res.status(status).render('site/home', { title: 'Private approval votes', code, problem, results });
+    const newSite = await isFirstRunOpen(ctx.knex);
+    res.status(status).render('site/home', { title: 'Private approval votes', code, problem, results, newSite });
   }
 
   router.get('/', async (_req, res) => {
