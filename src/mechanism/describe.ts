@@ -1,5 +1,6 @@
 import { describeBounds } from './describeBounds.ts';
 import { InvalidMechanismConfig } from './errors.ts';
+import { COSTS_ADD_UP, factorExplained } from './plainFactor.ts';
 import { RULE_SENTENCES } from './rule.ts';
 import type { PrivacyStatement } from './statement.ts';
 
@@ -36,7 +37,7 @@ function howDrawn(s: PrivacyStatement): string {
 }
 
 function privacyParagraph(s: PrivacyStatement): string {
-  const setting = `Here ε (epsilon), the privacy setting, is ${s.epsilon}.`;
+  const setting = `Here the privacy setting, written ε (epsilon), is ${s.epsilon}: the smaller it is, the more strongly each ballot is protected.`;
   const how = s.protects.howVoted;
   const whether = s.protects.whetherVoted;
   const turnoutNote = 'The turnout is published as an exact count and is not protected: it shows how many members voted.';
@@ -44,21 +45,21 @@ function privacyParagraph(s: PrivacyStatement): string {
   // itself, which no factor e^ε bounds (Dwork & Roth 2014, Def. 2.4): say so, never over-promise.
   const anyoneVoted = 'One thing is shown whatever the setting: whether anyone voted at all, since with no ballots no winner is drawn.';
   if (s.neighbour === 'replace-one') {
-    const first = `Whatever any one member ticked, the chance of this announcement changed by at most a factor of e^ε ≈ ${how.factorAtMost}.`;
+    const first = `Whatever any one member ticked could at most have multiplied or divided the chance of this announcement by ${factorExplained(how.factorAtMost, 'ε')}.`;
     const second = whether
       ? `This covers whether a member voted as well as how: not voting looks the same as a ballot with nothing ticked. ${anyoneVoted}`
       : turnoutNote;
-    return `${first} ${setting} ${second}`;
+    return `${setting} ${first} ${second}`;
   }
-  const ticked = `Whatever any one member ticked, the chance of this announcement changed by at most a factor of e^(2ε) ≈ ${how.factorAtMost}: a changed ballot counts as one ballot removed and another added. The organiser chose this weaker setting on purpose.`;
+  const ticked = `Whatever any one member ticked could at most have multiplied or divided the chance of this announcement by ${factorExplained(how.factorAtMost, '2ε')}: a changed ballot counts as one ballot removed and another added. The organiser chose this weaker setting on purpose.`;
   const first = whether
-    ? `Whether any one member voted changed the chance of this announcement by at most a factor of e^ε ≈ ${whether.factorAtMost}. ${anyoneVoted}`
+    ? `Whether any one member voted could at most have multiplied or divided the chance of this announcement by ${factorExplained(whether.factorAtMost, 'ε')}. ${anyoneVoted}`
     : turnoutNote;
-  return `${first} ${setting} ${ticked}`;
+  return `${setting} ${first} ${ticked}`;
 }
 
 function compositionParagraph(s: PrivacyStatement): string {
-  const total = `The privacy setting was split evenly over the ${s.seats} seats: each seat's draw used ε/${s.seats} = ${s.perRoundEpsilon}, and the costs of the draws add up to ε = ${s.epsilon} for the whole announcement (basic composition).`;
+  const total = `The privacy setting was split evenly over the ${s.seats} seats: each seat's draw used ε/${s.seats} = ${s.perRoundEpsilon}, and since ${COSTS_ADD_UP}, they come to ε = ${s.epsilon} for the whole announcement.`;
   if (s.neighbour === 'replace-one') return total;
   // Under add/remove each draw costs 2ε/k for a changed ballot, so the composed total is 2ε.
   return `${total} That total is for whether a member voted. For what a member ticked the total is 2ε = ${s.protects.howVoted.epsilon}, as above.`;

@@ -18,8 +18,9 @@ export function describeBounds(b: Bounds, seats: number, tense: 'past' | 'future
     return `${method} that, with probability at least ${percent}%, the option it draws has at least as many approvals as the most approved option, minus ${b.withinApprovals}. If the most approved option leads every other option by at least ${m95}, the method draws it with probability at least 95%.`;
   }
   const all = new Decimal(1).minus(new Decimal(b.beta).times(seats));
+  const miss = new Decimal(b.beta).times(100).toString();
   const allSeats = all.gt(0)
-    ? ` For all ${seats} seats together, the same holds with probability at least ${all.times(100).toString()}% (that is 1 − ${seats}β, by the union bound).`
-    : ` Taken over all ${seats} seats together, this gives no useful guarantee at this level (1 − ${seats}β is not above zero).`;
+    ? ` For all ${seats} seats together, the same holds with probability at least ${all.times(100).toString()}%: each seat may miss with a chance of at most ${miss}%, and ${seats} such chances add up to at most ${new Decimal(b.beta).times(seats).times(100).toString()}%.`
+    : ` Taken over all ${seats} seats together, this gives no useful guarantee at this level: a chance of at most ${miss}% of missing for each seat, added over ${seats} seats, reaches 100%.`;
   return `${method}, for each seat, that with probability at least ${percent}% the option it draws has at least as many approvals as the most approved option still in play, minus ${b.withinApprovals}.${allSeats} If that option leads every other option still in play by at least ${m95}, the method gives it the seat with probability at least 95%.`;
 }

@@ -1,4 +1,5 @@
 import type { PrivacyCost, Neighbour } from './draw.ts';
+import { factorExplained } from './plainFactor.ts';
 import { factorAtMost } from './statement.ts';
 
 /**
@@ -26,14 +27,14 @@ function hours(n: number): string {
 }
 
 export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyText[] {
-  const how = `e^${s.neighbour === 'replace-one' ? 'ε' : '(2ε)'} ≈ ${factorAtMost(privacy.howVoted)}`;
-  const whetherFactor = `e^ε ≈ ${factorAtMost(privacy.whetherVoted)}`;
-  const howVoted = `How a member voted: whatever one member ticks changes the chance of any announced result by at most a factor of ${how}, with ε = ${privacy.epsilon}. No count of approvals is ever shown.`;
+  const how = factorExplained(factorAtMost(privacy.howVoted), s.neighbour === 'replace-one' ? 'ε' : '2ε');
+  const whetherFactor = factorExplained(factorAtMost(privacy.whetherVoted), 'ε');
+  const howVoted = `How a member voted: with the privacy setting at ε = ${privacy.epsilon}, whatever one member ticks can at most multiply or divide the chance of any announced result by ${how}. No count of approvals is ever shown.`;
   const whetherVoted = s.publishTurnout
     ? 'Whether a member voted: the organiser chose before opening to publish the turnout, so the exact number of ballots is published and is not protected. It shows how many members voted, and whether a given member voted to anyone who knows what all the others did.'
     : s.neighbour === 'replace-one'
-      ? `Whether a member voted: protected like the ballot itself, since not voting looks the same as a ballot with nothing ticked; the chance of any announced result changes by at most a factor of ${whetherFactor}. The turnout is never published.`
-      : `Whether a member voted: the chance of any announced result changes by at most a factor of ${whetherFactor}. The turnout is never published.`;
+      ? `Whether a member voted: protected like the ballot itself, since not voting looks the same as a ballot with nothing ticked; voting or not can at most multiply or divide the chance of any announced result by ${whetherFactor}. The turnout is never published.`
+      : `Whether a member voted: voting or not can at most multiply or divide the chance of any announced result by ${whetherFactor}. The turnout is never published.`;
   const liveForOthers = 'While voting runs: nothing about who has voted, or how many, is shown, only the opening and closing times.';
   const anyone = 'Whether anyone voted at all is shown: with no ballots no winner is drawn, and the result says so.';
   const published = `Every drawn result is published, at the latest ${hours(s.previewHours)} after the draw, so a draw cannot be kept back and made again.`;

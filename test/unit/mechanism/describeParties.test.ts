@@ -8,10 +8,10 @@ import { describeBounds, describeParties, makeExponentialDraw } from '../../../s
  * two decimals: e^1 = 2.71828…, e^2 = 7.38905…, e^0.5 = 1.64872…, e^(1/3) = 1.39561….
  */
 const cases = [
-  { epsilon: '1', neighbour: 'replace-one', how: 'e^ε ≈ 2.72', whether: 'e^ε ≈ 2.72' },
-  { epsilon: '1', neighbour: 'add-remove', how: 'e^(2ε) ≈ 7.39', whether: 'e^ε ≈ 2.72' },
-  { epsilon: '0.5', neighbour: 'replace-one', how: 'e^ε ≈ 1.65', whether: 'e^ε ≈ 1.65' },
-  { epsilon: '0.5', neighbour: 'add-remove', how: 'e^(2ε) ≈ 2.72', whether: 'e^ε ≈ 1.65' },
+  { epsilon: '1', neighbour: 'replace-one', how: '2.72 (that is e^ε:', whether: '2.72 (that is e^ε:' },
+  { epsilon: '1', neighbour: 'add-remove', how: '7.39 (that is e^(2ε):', whether: '2.72 (that is e^ε:' },
+  { epsilon: '0.5', neighbour: 'replace-one', how: '1.65 (that is e^ε:', whether: '1.65 (that is e^ε:' },
+  { epsilon: '0.5', neighbour: 'add-remove', how: '2.72 (that is e^(2ε):', whether: '1.65 (that is e^ε:' },
 ] as const;
 
 const table = cases.flatMap((c) =>
@@ -32,14 +32,22 @@ describe('what each party can learn, for every combination of settings', () => {
     expect(members).toContain('does not show how you voted');
 
     // The public: how, whether, live, anyone at all, and that every draw is published.
-    expect(pub).toContain(`at most a factor of ${c.how}, with ε = ${c.epsilon}`);
+    // Plain words first ("multiply or divide the chance … by 2.72"), the symbol explained where it appears.
+    expect(pub).toContain(
+      `with the privacy setting at ε = ${c.epsilon}, whatever one member ticks can at most multiply or divide the chance of any announced result by ${c.how}`,
+    );
+    expect(pub).toContain('the number e ≈ 2.718 raised to the power');
     if (c.publishTurnout) {
       expect(pub).toContain('exact number of ballots is published and is not protected');
-      expect(pub).not.toContain(c.whether + '. The turnout is never published');
+      expect(pub).not.toContain('The turnout is never published');
     } else {
-      expect(pub).toContain(`at most a factor of ${c.whether}. The turnout is never published.`);
+      const whetherSentence = pub.split('Whether a member voted:')[1] ?? '';
+      expect(whetherSentence).toContain(`multiply or divide the chance of any announced result by ${c.whether}`);
+      expect(whetherSentence).toContain('The turnout is never published.');
       expect(pub).toContain(
-        c.neighbour === 'replace-one' ? 'not voting looks the same as a ballot with nothing ticked' : 'Whether a member voted: the chance',
+        c.neighbour === 'replace-one'
+          ? 'not voting looks the same as a ballot with nothing ticked'
+          : 'Whether a member voted: voting or not can at most multiply',
       );
     }
     expect(pub).toContain('nothing about who has voted, or how many, is shown');
@@ -71,9 +79,14 @@ describe('the accuracy sentence with k seats gives the all-seats guarantee as a 
       if (seats === 1) expect(text).not.toContain('seats together');
       else if (seats < 20)
         expect(text).toContain(
-          `For all ${seats} seats together, the same holds with probability at least ${Math.round((1 - seats * 0.05) * 100)}% (that is 1 − ${seats}β, by the union bound)`,
+          `For all ${seats} seats together, the same holds with probability at least ${Math.round((1 - seats * 0.05) * 100)}%: each seat may miss with a chance of at most 5%, and ${seats} such chances add up to at most ${Math.round(seats * 5)}%.`,
         );
-      else expect(text).toContain('no useful guarantee');
+      else
+        expect(text).toContain(
+          `no useful guarantee at this level: a chance of at most 5% of missing for each seat, added over ${seats} seats, reaches 100%`,
+        );
+      // No symbol or theorem name is left undefined in the member's sentence.
+      expect(text).not.toMatch(/β|union bound/);
     }
   });
 });

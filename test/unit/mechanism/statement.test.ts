@@ -50,8 +50,10 @@ describe('buildStatement', () => {
       howVoted: { epsilon: '2', factorAtMost: 7.39 },
     });
     const text = describeStatement(s).paragraphs.join(' ');
-    expect(text).toContain('Whether any one member voted changed the chance of this announcement by at most a factor of e^ε ≈ 2.72');
-    expect(text).toContain('e^(2ε) ≈ 7.39');
+    expect(text).toContain(
+      'Whether any one member voted could at most have multiplied or divided the chance of this announcement by 2.72 (that is e^ε:',
+    );
+    expect(text).toContain('by 7.39 (that is e^(2ε): the number e ≈ 2.718 raised to the power 2ε');
     expect(text).toContain('one ballot removed and another added');
   });
 
@@ -72,11 +74,13 @@ describe('buildStatement', () => {
     const text = describeStatement(s);
     expect(text.headline).toBe('The 3 seats were drawn, in this order: Swift, Heron, Kingfisher.');
     expect(text.paragraphs.join(' ')).toContain('ε/3 = 1/3');
-    expect(text.paragraphs.join(' ')).toContain('basic composition');
+    expect(text.paragraphs.join(' ')).toContain(
+      'the privacy costs of separate draws over the same people add up (the rule called basic composition)',
+    );
     expect(text.boundsSentence).toMatch(/^The drawing method used here guarantees, for each seat, that with probability at least 95%/);
     // Union bound over the seats (Boole's inequality): 1 − kβ = 1 − 3 × 0.05.
     expect(text.boundsSentence).toContain(
-      'For all 3 seats together, the same holds with probability at least 85% (that is 1 − 3β, by the union bound).',
+      'For all 3 seats together, the same holds with probability at least 85%: each seat may miss with a chance of at most 5%, and 3 such chances add up to at most 15%.',
     );
   });
 
@@ -116,10 +120,12 @@ describe('describeStatement', () => {
   const s = buildStatement({ draw: make('1'), optionLabels: labels, winners: [0], turnout: null, electionTitle: 'New boat' });
   const text = describeStatement(s);
 
-  it('gives the plain-language privacy sentence with e^ε ≈ 2.72 for ε = 1', () => {
+  it('gives the plain-language privacy sentence for ε = 1: the factor 2.72 first, then what e^ε means', () => {
     expect(text.headline).toBe('New boat: Heron was drawn as the winner.');
     expect(text.paragraphs.join(' ')).toContain(
-      'Whatever any one member ticked, the chance of this announcement changed by at most a factor of e^ε ≈ 2.72.',
+      'Here the privacy setting, written ε (epsilon), is 1: the smaller it is, the more strongly each ballot is protected. ' +
+        'Whatever any one member ticked could at most have multiplied or divided the chance of this announcement by 2.72 ' +
+        '(that is e^ε: the number e ≈ 2.718 raised to the power ε; the nearer to 1, the stronger the protection, and 1 would mean no effect at all).',
     );
     expect(text.paragraphs.join(' ')).toContain('Never published: how many approvals any option received, any ballot or the turnout.');
   });
