@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { InvalidInput } from '../errors.ts';
-import { EPSILON_RULE, MAX_OPTIONS, makeDraw, type ExponentialDraw, type Neighbour } from '../mechanism/index.ts';
+import { EPSILON_RULE, MAX_DRAW_OPTIONS, makeDraw, type ExponentialDraw, type Neighbour } from '../mechanism/index.ts';
 
 /** Probabilities as the web shows them: a percentage with two decimals, e.g. 45.31%. */
 export const percent = (p: number): string => `${(p * 100).toFixed(2)}%`;
@@ -19,7 +19,7 @@ const wholeNumber = (flag: string, min: number, max: number) =>
 
 export const mechanismFlagSchema = {
   epsilon: z.string({ error: `--epsilon is missing: ${EPSILON_RULE}` }),
-  seats: wholeNumber('seats', 1, MAX_OPTIONS - 1).optional(),
+  seats: wholeNumber('seats', 1, MAX_DRAW_OPTIONS - 1).optional(),
   neighbour: z.enum(['replace', 'replace-one', 'add-remove'], { error: '--neighbour must be "replace" or "add-remove"' }).optional(),
   rule: z.enum(['exponential', 'permute-and-flip'], { error: '--rule must be "exponential" or "permute-and-flip"' }).optional(),
   json: z.literal(true).optional(),

@@ -13,11 +13,14 @@ import { sodium, wipe } from './sodium.ts';
  */
 export const BALLOT_VERSION = 1;
 const HEADER = 17;
-/** Option count bound; far above any real approval ballot, keeps the encoding small. */
-export const MAX_OPTIONS = 4096;
+/**
+ * The most options a sealed ballot's bitset encodes; far above any real approval ballot, keeps the
+ * encoding small. Not the draw's limit (MAX_DRAW_OPTIONS in src/mechanism/draw.ts).
+ */
+export const MAX_SEALED_OPTIONS = 4096;
 
 export function ballotLength(optionCount: number): number {
-  if (!Number.isInteger(optionCount) || optionCount < 1 || optionCount > MAX_OPTIONS) {
+  if (!Number.isInteger(optionCount) || optionCount < 1 || optionCount > MAX_SEALED_OPTIONS) {
     throw new RangeError('option count out of range');
   }
   return HEADER + Math.ceil(optionCount / 8);

@@ -21,7 +21,7 @@ export {
   ballotLength,
   sealedLength,
   BALLOT_VERSION,
-  MAX_OPTIONS,
+  MAX_SEALED_OPTIONS,
 } from './ballot.ts';
 export type { OpeningKey } from './ballot.ts';
 export { codeHash, receiptHash, hmacSha256 } from './keyedHash.ts';

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import {
-  MAX_OPTIONS,
+  MAX_SEALED_OPTIONS,
   castTokenHash,
   codeHash,
   encodeAndSeal,
@@ -27,9 +27,9 @@ const approvalsSchema = z
       .number()
       .int()
       .min(0)
-      .max(MAX_OPTIONS - 1),
+      .max(MAX_SEALED_OPTIONS - 1),
   )
-  .max(MAX_OPTIONS);
+  .max(MAX_SEALED_OPTIONS);
 const RECEIPT_ATTEMPTS = 8;
 
 /**

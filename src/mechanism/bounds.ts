@@ -1,7 +1,7 @@
 import { decimalWithPrecision, type Dec } from './decimal.ts';
 import { InvalidMechanismConfig } from './errors.ts';
 import type { Rational } from './rational.ts';
-import type { DrawRule } from './rule.ts';
+import type { DrawRuleModule } from './rules/rule.ts';
 
 /**
  * Guarantees that depend only on ε, d and k, never on ballots, so publishing
@@ -40,53 +40,33 @@ function accuracyMargin(d: number, a: Dec, beta: Dec): Dec {
     .div(a);
 }
 
-/** If the leader is ahead of all d − 1 others by ≥ m: P(leader) ≥ 1/(1 + (d − 1)·e^(−a·m)). */
-function leaderProbabilityExponential(d: number, a: Dec, m: number): Dec {
-  return new Decimal(1).div(new Decimal(d - 1).times(Decimal.exp(a.times(m).neg())).plus(1));
-}
-
 /**
- * Permute-and-flip, leader ahead of all d − 1 others by ≥ m, x = e^(−a·m):
- * P(leader) ≥ (1/d)·Σ_{t=0}^{d−1} (1 − x)^t = (1 − (1 − x)^d)/(d·x).
- * Proof (ours, from McKenna & Sheldon 2020, Algorithm 1): the leader's coin always succeeds, so
- * it is drawn iff every option visited before it fails; each of those fails with probability
- * ≥ 1 − x, independently, and the number visited before the leader is uniform on {0, …, d − 1}.
- * Equality when the others are tied exactly m below. It is never below the exponential
- * mechanism's bound: on that two-level profile the expected shortfall is m·(1 − P(leader)), and
- * McKenna & Sheldon 2020 prove permute-and-flip's expected shortfall never exceeds the exponential
- * mechanism's (abstract; the theorem number, Thm. 2, is from memory). Also checked on a grid in
- * test/unit/mechanism/permuteAndFlip.test.ts.
+ * Smallest whole margin m ≥ 0 whose leader bound (the rule's leaderChance, which grows with m) reaches p,
+ * found from the rule's first guess: down or up in doubling steps, then by bisection. For the exponential
+ * mechanism the guess is its closed form and two evaluations settle it; for a rule whose guess is far
+ * too high, such as permute-and-flip's (the exponential closed form), the search takes O(log m) steps.
  */
-function leaderProbabilityPermuteAndFlip(d: number, a: Dec, m: number): Dec {
-  if (m === 0) return new Decimal(1).div(d);
-  const x = Decimal.exp(a.times(m).neg());
-  return new Decimal(1).minus(new Decimal(1).minus(x).pow(d)).div(x.times(d));
-}
-
-function leaderProbabilityFor(rule: DrawRule): (d: number, a: Dec, m: number) => Dec {
-  return rule === 'permute-and-flip' ? leaderProbabilityPermuteAndFlip : leaderProbabilityExponential;
-}
-
-/** Smallest whole margin whose guarantee reaches p, checked directly after a closed-form first guess. */
-function marginReaching(d: number, a: Dec, p: Dec, rule: DrawRule): number {
-  const leaderProbability = leaderProbabilityFor(rule);
-  const reaches = (m: number) => leaderProbability(d, a, m).minus(NUDGE).gte(p);
-  const ratio = new Decimal(d - 1).times(p).div(new Decimal(1).minus(p));
-  // The exponential mechanism's closed form; permute-and-flip never needs more (see above).
-  let m = ratio.lte(1) ? 0 : Decimal.ln(ratio).div(a).ceil().toNumber();
-  if (rule === 'permute-and-flip' && m > 0 && reaches(m)) {
-    // The guarantee grows with m, so bisect down: the margin can be far below the first guess.
-    let [lo, hi] = [-1, m];
-    while (hi - lo > 1) {
-      const mid = Math.floor((lo + hi) / 2);
-      if (mid >= 0 && reaches(mid)) hi = mid;
-      else lo = mid;
-    }
-    return hi;
+function marginReaching(d: number, a: Dec, p: Dec, rule: LeaderBound): number {
+  const reaches = (m: number) => rule.leaderChance(d, a, m).minus(NUDGE).gte(p);
+  const guess = rule.marginGuess(d, a, p);
+  // lo never reaches p (−1 stands for "below every margin"), hi always does.
+  let lo: number;
+  let hi: number;
+  if (reaches(guess)) {
+    hi = guess;
+    lo = guess - 1;
+    for (let step = 2; lo >= 0 && reaches(lo); step *= 2) [hi, lo] = [lo, Math.max(-1, lo - step)];
+  } else {
+    lo = guess;
+    hi = guess + 1;
+    for (let step = 2; !reaches(hi); step *= 2) [lo, hi] = [hi, hi + step];
   }
-  while (m > 0 && reaches(m - 1)) m -= 1;
-  while (!reaches(m)) m += 1;
-  return m;
+  while (hi - lo > 1) {
+    const mid = Math.floor((lo + hi) / 2);
+    if (reaches(mid)) hi = mid;
+    else lo = mid;
+  }
+  return hi;
 }
 
 function tableMargins(upTo: number, marked: number[]): number[] {
@@ -108,9 +88,11 @@ export function validateBeta(beta: unknown): number {
   return beta;
 }
 
-export function computeBounds(d: number, scale: Rational, perRoundEpsilon: string, betaInput: unknown, rule: DrawRule = 'exponential'): Bounds {
+/** The part of a draw rule the bounds read (src/mechanism/rules/rule.ts). */
+type LeaderBound = Pick<DrawRuleModule, 'leaderChance' | 'marginGuess'>;
+
+export function computeBounds(d: number, scale: Rational, perRoundEpsilon: string, betaInput: unknown, rule: LeaderBound): Bounds {
   const beta = validateBeta(betaInput);
-  const leaderProbability = leaderProbabilityFor(rule);
   const a = new Decimal(scale.num.toString()).div(scale.den.toString());
   const within = accuracyMargin(d, a, new Decimal(beta)).plus(NUDGE).toDecimalPlaces(2, Decimal.ROUND_CEIL);
   const marginFor = {
@@ -122,7 +104,8 @@ export function computeBounds(d: number, scale: Rational, perRoundEpsilon: strin
   const marginTable = tableMargins(last, [marginFor['0.9'], marginFor['0.95'], marginFor['0.99']]).map((m) => ({
     margin: m,
     // At m = 0 the bound is exactly 1/d, so it needs no nudge before rounding down.
-    minProbability: leaderProbability(d, a, m)
+    minProbability: rule
+      .leaderChance(d, a, m)
       .minus(m === 0 ? 0 : NUDGE)
       .toDecimalPlaces(4, Decimal.ROUND_FLOOR)
       .toNumber(),

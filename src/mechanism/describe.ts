@@ -1,7 +1,7 @@
 import { describeBounds } from './describeBounds.ts';
 import { InvalidMechanismConfig } from './errors.ts';
 import { COSTS_ADD_UP, factorExplained } from './plainFactor.ts';
-import { RULE_SENTENCES } from './rule.ts';
+import { ruleOfStatementMechanism } from './rules/index.ts';
 import type { PrivacyStatement } from './statement.ts';
 
 export interface StatementText {
@@ -23,9 +23,9 @@ function headlineOf(s: PrivacyStatement): string {
   return `${prefix}The ${s.seats} seats were drawn, in this order: ${s.winners.join(', ')}.`;
 }
 
-/** The draw rule in plain words, for members (see RULE_SENTENCES in rule.ts). */
+/** The draw rule in plain words, for members (each rule's `sentence`, src/mechanism/rules/). */
 export function ruleSentence(s: Pick<PrivacyStatement, 'mechanism'>): string {
-  return s.mechanism === 'permute-and-flip' ? RULE_SENTENCES['permute-and-flip'] : RULE_SENTENCES.exponential;
+  return ruleOfStatementMechanism(s.mechanism).sentence;
 }
 
 function howDrawn(s: PrivacyStatement): string {

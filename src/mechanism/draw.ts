@@ -1,23 +1,16 @@
 import { computeBounds, type Bounds } from './bounds.ts';
 import { toEpsilon, type Epsilon } from './epsilon.ts';
 import { InvalidMechanismConfig, InvalidScores, quoteForMessage } from './errors.ts';
-import { drawSeats, firstSeatProbabilities } from './exponential.ts';
-import { PF_EXACT_MAX_OPTIONS, permuteAndFlipProbabilities, permuteAndFlipSeats } from './permuteAndFlip.ts';
+import { NEIGHBOURS, SENSITIVITY, type Neighbour } from './neighbour.ts';
+import { peelSeats } from './peeling.ts';
 import { divideByInteger, multiplyByInteger, rational, rationalToNumber, rationalToText, type Rational } from './rational.ts';
 import type { RandomSource } from './random.ts';
-import { DRAW_RULES, type DrawRule } from './rule.ts';
+import { DEFAULT_DRAW_RULE, ruleModule, type DrawRule } from './rules/index.ts';
 
-/**
- * replace-one: one member's ballot swapped for any other (covers whether and how they voted).
- * add-remove: one ballot added or removed (covers whether they voted; how, only at 2ε).
- */
-export type Neighbour = 'replace-one' | 'add-remove';
-export const NEIGHBOURS: readonly Neighbour[] = ['replace-one', 'add-remove'];
+export { NEIGHBOURS, SENSITIVITY, type Neighbour };
 
-/** Largest number of options we accept; a sanity limit for approval ballots, not a mathematical one. */
-export const MAX_OPTIONS = 10_000;
-/** Sensitivity of an approval count: one ballot moves each count by at most 1. */
-export const SENSITIVITY = 1;
+/** Largest number of options a draw accepts; a sanity limit for approval ballots, not a mathematical one. */
+export const MAX_DRAW_OPTIONS = 10_000;
 
 export interface PrivacyCost {
   /** Total ε for the whole announcement, as entered. */
@@ -30,7 +23,7 @@ export interface PrivacyCost {
   composition: 'single-draw' | 'basic';
 }
 
-/** A checked draw for one election's settings, under either draw rule (see rule.ts). */
+/** A checked draw for one election's settings, under any draw rule (src/mechanism/rules/). */
 export interface SeatDraw {
   readonly rule: DrawRule;
   readonly epsilon: Epsilon;
@@ -46,10 +39,12 @@ export interface SeatDraw {
   readonly privacy: PrivacyCost;
   draw(scores: readonly number[], random: RandomSource): number[];
   /**
-   * First-seat probabilities in floating point, for display and reports only. For
-   * permute-and-flip this costs O(d³) and is refused above PF_EXACT_MAX_OPTIONS options.
+   * First-seat probabilities in floating point, for display and reports only. Refused above the
+   * rule's exactMaxOptions (for permute-and-flip they cost O(d³); PF_EXACT_MAX_OPTIONS).
    */
   exactProbabilities(scores: readonly number[]): number[];
+  /** Whether exactProbabilities is computed for this many options under this rule. */
+  readonly hasExactProbabilities: boolean;
   bounds(beta?: number): Bounds;
 }
 /** The name the exponential draw was first given; both rules share the interface. */
@@ -88,12 +83,10 @@ export function makePermuteAndFlipDraw(cfg: Omit<DrawConfig, 'rule'>): SeatDraw 
 
 export function makeDraw(cfg: DrawConfig): SeatDraw {
   if (cfg === null || typeof cfg !== 'object') throw new InvalidMechanismConfig('mechanism settings are missing');
-  const rule = cfg.rule ?? 'exponential';
-  if (!DRAW_RULES.includes(rule)) {
-    throw new InvalidMechanismConfig(`the draw rule must be "exponential" or "permute-and-flip" (got ${quoteForMessage(rule)})`);
-  }
+  const module = ruleModule(cfg.rule ?? DEFAULT_DRAW_RULE);
+  const rule = module.id;
   const epsilon = toEpsilon(cfg.epsilon);
-  const options = checkWholeNumber('the number of options', cfg.options, 2, MAX_OPTIONS);
+  const options = checkWholeNumber('the number of options', cfg.options, 2, MAX_DRAW_OPTIONS);
   const seats = checkWholeNumber('the number of seats', cfg.seats, 1, options - 1);
   const neighbour = cfg.neighbour;
   if (!NEIGHBOURS.includes(neighbour)) {
@@ -101,16 +94,8 @@ export function makeDraw(cfg: DrawConfig): SeatDraw {
   }
   const total = rational(epsilon.num, epsilon.den);
   const perRound = divideByInteger(total, BigInt(seats));
-  // Dwork & Roth 2014, Thm. 3.10 uses ε/(2Δ). When every score can only rise as a
-  // ballot is added (approval counts are monotone), ε/Δ suffices for add/remove
-  // neighbours (Dwork & Roth 2014, §3.4 remark on monotone utilities; cited from memory).
-  // Permute-and-flip takes the same scale: ε/(2Δ) is McKenna & Sheldon 2020, Thm. 1 (number from memory); for
-  // monotone scores ε/Δ follows from its equivalence with report-noisy-max with exponential
-  // noise of rate a (Ding, Kifer et al. 2021): the argument of Dwork & Roth 2014, Claim 3.9
-  // (report-noisy-max on monotone counts) needs only P(Z ≥ t + 1) ≥ e^(−a)·P(Z ≥ t) for every t,
-  // which exponential noise satisfies. Both scales are also checked on exact probabilities, one
-  // and two seats, in test/unit/mechanism/permuteAndFlip.test.ts.
-  const perRoundScale = divideByInteger(perRound, BigInt(neighbour === 'replace-one' ? 2 * SENSITIVITY : SENSITIVITY));
+  // The rule's privacy cost: the scale at which one round is (ε/k)-DP (its module gives the sources).
+  const perRoundScale = module.scale(perRound, neighbour);
   const perRoundEpsilon = rationalToText(perRound);
   const doubled = rationalToText(multiplyByInteger(total, 2n));
   const privacy: PrivacyCost = Object.freeze({
@@ -130,6 +115,7 @@ export function makeDraw(cfg: DrawConfig): SeatDraw {
       if (!Number.isSafeInteger(s) || s < 0) throw new InvalidScores('every score must be a whole number ≥ 0');
     }
   };
+  const hasExactProbabilities = options <= module.exactMaxOptions;
 
   return Object.freeze({
     rule,
@@ -140,23 +126,21 @@ export function makeDraw(cfg: DrawConfig): SeatDraw {
     sensitivity: SENSITIVITY,
     perRoundScale,
     privacy,
+    hasExactProbabilities,
     draw(scores: readonly number[], random: RandomSource): number[] {
       checkScores(scores);
       if (typeof random !== 'function') throw new InvalidMechanismConfig('a random source is required');
-      return rule === 'permute-and-flip'
-        ? permuteAndFlipSeats(scores, seats, perRoundScale, random)
-        : drawSeats(scores, seats, perRoundScale, random);
+      return peelSeats(module, scores, seats, perRoundScale, random);
     },
     exactProbabilities(scores: readonly number[]): number[] {
       checkScores(scores);
-      if (rule === 'exponential') return firstSeatProbabilities(scores, rationalToNumber(perRoundScale));
-      if (options > PF_EXACT_MAX_OPTIONS) {
-        throw new InvalidMechanismConfig(`exact permute-and-flip probabilities are computed for at most ${PF_EXACT_MAX_OPTIONS} options`);
+      if (!hasExactProbabilities) {
+        throw new InvalidMechanismConfig(`exact ${module.name} probabilities are computed for at most ${module.exactMaxOptions} options`);
       }
-      return permuteAndFlipProbabilities(scores, rationalToNumber(perRoundScale));
+      return module.exactProbabilities(scores, rationalToNumber(perRoundScale));
     },
     bounds(beta = 0.05): Bounds {
-      return computeBounds(options, perRoundScale, perRoundEpsilon, beta, rule);
+      return computeBounds(options, perRoundScale, perRoundEpsilon, beta, module);
     },
   });
 }

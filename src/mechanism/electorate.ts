@@ -1,6 +1,7 @@
 import { decimalWithPrecision, type Dec } from './decimal.ts';
 import type { ExponentialDraw } from './draw.ts';
 import { InvalidMechanismConfig } from './errors.ts';
+import { ruleModule } from './rules/index.ts';
 
 /**
  * - uncertain: even a favourite every voter approves, with no approval for anything else (a lead of n),
@@ -60,23 +61,17 @@ const floor4 = (x: Dec): number => x.toDecimalPlaces(4, Decimal.ROUND_FLOOR).toN
 
 /**
  * The probability that an option leading every other by `lead` approvals is drawn, for this draw's rule,
- * ε, options and seats. Data-free: it depends on the settings and the lead only. With n options in play
- * and w = e^(−a·lead), one round draws the leader with at least
- * - exponential mechanism (Dwork & Roth 2014, Def. 3.4: P(i) ∝ exp(a·sᵢ)): 1/(1 + (n−1)·w);
- * - permute-and-flip (McKenna & Sheldon 2020, Algorithm 1): (1 − (1 − w)^n)/(n·w), since the leader's coin
- *   always succeeds, each other coin succeeds with probability ≤ w, and the number of options visited
- *   before the leader is uniform on {0, …, n−1} (bounds.ts);
- * both exact when every other option trails by exactly `lead`.
+ * ε, options and seats. Data-free: it depends on the settings and the lead only. With n options in play,
+ * one round draws the leader with at least the rule's leader bound (leaderChance in src/mechanism/rules/),
+ * e.g. 1/(1 + (n−1)·e^(−a·lead)) for the exponential mechanism (Dwork & Roth 2014, Def. 3.4), exact when
+ * every other option trails by exactly `lead`.
  */
 export function leadChance(draw: ExponentialDraw, lead: number): LeadChance {
   if (!Number.isSafeInteger(lead) || lead < 0) throw new InvalidMechanismConfig('a lead must be a whole number of approvals, at least 0');
-  const w = Decimal.exp(scaleOf(draw).times(lead).neg());
+  const rule = ruleModule(draw.rule);
+  const a = scaleOf(draw);
   const one = new Decimal(1);
-  const round = (n: number): Dec => {
-    if (draw.rule !== 'permute-and-flip') return one.div(new Decimal(n - 1).times(w).plus(1));
-    if (lead === 0) return one.div(n);
-    return one.minus(one.minus(w).pow(n)).div(w.times(n));
-  };
+  const round = (n: number): Dec => rule.leaderChance(n, a, lead);
   const d = draw.options;
   const first = round(d);
   let missed = one;

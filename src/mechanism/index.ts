@@ -13,14 +13,30 @@ export {
   type SeatDraw,
   type PrivacyCost,
   NEIGHBOURS,
-  MAX_OPTIONS,
+  MAX_DRAW_OPTIONS,
   SENSITIVITY,
   makeExponentialDraw,
   makePermuteAndFlipDraw,
   makeDraw,
 } from './draw.ts';
-export { type DrawRule, DRAW_RULES, DEFAULT_DRAW_RULE, RULE_NAMES, RULE_SENTENCES } from './rule.ts';
-export { PF_EXACT_MAX_OPTIONS } from './permuteAndFlip.ts';
+export {
+  type DrawRule,
+  type DrawRuleModule,
+  type StatementMechanism,
+  type StatementSampler,
+  RULES,
+  DRAW_RULES,
+  DRAW_RULE_CHOICES,
+  DEFAULT_DRAW_RULE,
+  RULE_NAMES,
+  RULE_SENTENCES,
+  STATEMENT_MECHANISMS,
+  drawRuleOr,
+  isDrawRule,
+  ruleModule,
+  ruleOfStatementMechanism,
+} from './rules/index.ts';
+export { PF_EXACT_MAX_OPTIONS } from './rules/permuteAndFlip.ts';
 export { type Bounds } from './bounds.ts';
 export {
   type ElectorateAssessment,

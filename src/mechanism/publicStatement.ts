@@ -5,7 +5,7 @@ import { makeDraw } from './draw.ts';
 import { InvalidMechanismConfig } from './errors.ts';
 import { epsilonExceeds, type LedgerTotals, type UnprotectedRelease } from './ledger.ts';
 import { rationalToText } from './rational.ts';
-import { DRAW_RULES, type DrawRule } from './rule.ts';
+import { DRAW_RULES, isDrawRule, ruleModule, type DrawRule } from './rules/index.ts';
 import { factorAtMost, type Protection } from './statement.ts';
 
 /**
@@ -151,7 +151,7 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
   const checks: ParameterCheck[] = [];
   let draw: ExponentialDraw;
   try {
-    if (!DRAW_RULES.includes(s.mechanism.rule)) throw new InvalidMechanismConfig(`unknown draw rule ${JSON.stringify(s.mechanism.rule)}`);
+    if (!isDrawRule(s.mechanism.rule)) throw new InvalidMechanismConfig(`unknown draw rule ${JSON.stringify(s.mechanism.rule)}`);
     draw = makeDraw({
       epsilon: s.mechanism.epsilon,
       options: s.options.length,
@@ -169,10 +169,8 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
     m.composition === draw.privacy.composition && m.perRoundEpsilon === draw.privacy.perRoundEpsilon,
     `ε = ${m.epsilon} over ${m.seats} seat(s) gives ε = ${draw.privacy.perRoundEpsilon} per seat (${draw.privacy.composition === 'basic' ? 'basic composition' : 'a single draw'})`,
   );
-  const scaleWhere =
-    draw.rule === 'permute-and-flip'
-      ? 'in each coin exp(−a · (top approvals − approvals)) of permute-and-flip (McKenna & Sheldon 2020)'
-      : 'in P(option) ∝ exp(a · approvals) of the exponential mechanism';
+  const rule = ruleModule(draw.rule);
+  const scaleWhere = rule.scaleRole;
   add(
     m.perRoundScale === rationalToText(draw.perRoundScale),
     `the draw's scale a = ${rationalToText(draw.perRoundScale)} ${scaleWhere}, for the "${m.neighbour}" neighbour relation`,
@@ -211,7 +209,7 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
   add(
     bounds !== null && isDeepStrictEqual(s.bounds, bounds),
     bounds
-      ? `the accuracy bound (within ${bounds.withinApprovals} approvals of the top option with probability ≥ ${1 - bounds.beta}, Dwork & Roth 2014 Cor. 3.12, which holds for both draw rules) and all ${bounds.marginTable.length} rows of the ${draw.rule === 'permute-and-flip' ? 'permute-and-flip ' : ''}margin table`
+      ? `the accuracy bound (within ${bounds.withinApprovals} approvals of the top option with probability ≥ ${1 - bounds.beta}, Dwork & Roth 2014 Cor. 3.12, which holds for both draw rules) and all ${bounds.marginTable.length} rows of the ${rule.marginTableName}margin table`
       : 'the bounds could not be recomputed',
   );
   const l = s.ledger;

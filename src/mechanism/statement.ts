@@ -3,6 +3,7 @@ import type { Bounds } from './bounds.ts';
 import type { ExponentialDraw, Neighbour } from './draw.ts';
 import { InvalidMechanismConfig } from './errors.ts';
 import { rationalToText } from './rational.ts';
+import { ruleModule, type StatementMechanism, type StatementSampler } from './rules/index.ts';
 
 /** One privacy guarantee: ε and the factor e^ε it bounds, rounded up (never understated). */
 export interface Protection {
@@ -25,9 +26,9 @@ export interface PrivacyStatement {
   /** Option labels in seat order; empty when no ballots were cast. */
   winners: string[];
   optionLabels: string[];
-  /** The draw rule for each seat (see rule.ts); both are exact and share ε, scale and peeling. */
-  mechanism: 'exponential-mechanism' | 'permute-and-flip';
-  sampler: 'exact-bigint-rejection' | 'exact-bigint-permute-and-flip';
+  /** The draw rule for each seat, by its statement name (src/mechanism/rules/); all are exact and share ε and peeling. */
+  mechanism: StatementMechanism;
+  sampler: StatementSampler;
   scoreFunction: 'approval-count';
   sensitivity: number;
   epsilon: string;
@@ -108,14 +109,15 @@ export function buildStatement(input: {
     throw new InvalidMechanismConfig('the election title must be text of at most 200 characters');
   }
   const published = turnout !== null;
+  const rule = ruleModule(draw.rule);
   return {
     statementVersion: 1,
     electionTitle: title?.trim() ? title.trim() : null,
     outcome: winners === null ? 'no-ballots' : 'winners',
     winners: winners === null ? [] : winners.map((i) => labels[i] as string),
     optionLabels: labels,
-    mechanism: draw.rule === 'permute-and-flip' ? 'permute-and-flip' : 'exponential-mechanism',
-    sampler: draw.rule === 'permute-and-flip' ? 'exact-bigint-permute-and-flip' : 'exact-bigint-rejection',
+    mechanism: rule.statementMechanism,
+    sampler: rule.sampler,
     scoreFunction: 'approval-count',
     sensitivity: draw.sensitivity,
     epsilon: draw.epsilon.text,

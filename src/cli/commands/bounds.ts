@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { describeBounds, MAX_OPTIONS, RANDOM_WINNER_CAUTION, RULE_NAMES } from '../../mechanism/index.ts';
+import { describeBounds, MAX_DRAW_OPTIONS, RANDOM_WINNER_CAUTION, RULE_NAMES } from '../../mechanism/index.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
 import { RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
@@ -9,7 +9,7 @@ const spec = { ...mechanismFlagSpec, options: 'value', beta: 'value' } as const;
 const betaError = '--beta must be a decimal strictly between 0 and 1, such as 0.05';
 const schema = z.object({
   ...mechanismFlagSchema,
-  options: wholeNumber('options', 1, MAX_OPTIONS),
+  options: wholeNumber('options', 1, MAX_DRAW_OPTIONS),
   beta: z
     .string()
     .regex(/^0?\.[0-9]{1,12}$/, { error: betaError })

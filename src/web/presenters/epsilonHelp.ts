@@ -1,4 +1,4 @@
-import { describeBounds, makeExponentialDraw, makePermuteAndFlipDraw, MAX_OPTIONS } from '../../mechanism/index.ts';
+import { describeBounds, makeExponentialDraw, makePermuteAndFlipDraw, MAX_DRAW_OPTIONS } from '../../mechanism/index.ts';
 
 /** The ε values the comparison table walks through: from strong protection to weak. */
 export const EPSILON_STEPS = ['0.25', '0.5', '1', '1.5', '2', '3', '5'] as const;
@@ -57,6 +57,6 @@ export function epsilonHelpView(input: { options: number; seats: number; epsilon
       lead95: chosen.marginFor['0.95'],
       lead99: chosen.marginFor['0.99'],
     },
-    maxOptions: MAX_OPTIONS,
+    maxOptions: MAX_DRAW_OPTIONS,
   };
 }

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { makeExponentialDraw } from '../../../src/mechanism/index.ts';
-import { firstSeatProbabilities } from '../../../src/mechanism/exponential.ts';
+import { firstSeatProbabilities } from '../../../src/mechanism/rules/exponential.ts';
 import { D, firstSeatReference, orderedOutcomeReference, scaleOf } from './support/exactReference.ts';
 
 const single = (epsilon: string, options: number, neighbour: 'replace-one' | 'add-remove' = 'replace-one') =>

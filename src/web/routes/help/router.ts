@@ -1,6 +1,6 @@
 import { Router } from 'express';
 import { z } from 'zod';
-import { EPSILON_RULE, MAX_OPTIONS, parseEpsilon } from '../../../mechanism/index.ts';
+import { EPSILON_RULE, MAX_DRAW_OPTIONS, parseEpsilon } from '../../../mechanism/index.ts';
 import { epsilonHelpView } from '../../presenters/epsilonHelp.ts';
 
 export const HELP_DRAWN_PATH = '/help/how-the-result-is-drawn';
@@ -18,8 +18,8 @@ const whole = (min: number, max: number, fallback: number) =>
 
 /** The settings a reader may try on the ε page; anything else falls back to a message and the defaults. */
 const epsilonQuery = z.object({
-  options: whole(2, MAX_OPTIONS, 6),
-  seats: whole(1, MAX_OPTIONS - 1, 1),
+  options: whole(2, MAX_DRAW_OPTIONS, 6),
+  seats: whole(1, MAX_DRAW_OPTIONS - 1, 1),
   epsilon: z.preprocess((v) => (v === undefined || v === '' ? '1' : v), z.string().max(16)),
 });
 
@@ -35,7 +35,7 @@ export function helpRouter(): Router {
     const parsed = epsilonQuery.safeParse(req.query);
     let problem: string | null = null;
     let input = { options: 6, seats: 1, epsilon: '1' };
-    if (!parsed.success) problem = `Options must be a whole number from 2 to ${MAX_OPTIONS}, and seats from 1 to one fewer than the options.`;
+    if (!parsed.success) problem = `Options must be a whole number from 2 to ${MAX_DRAW_OPTIONS}, and seats from 1 to one fewer than the options.`;
     else if (parsed.data.seats >= parsed.data.options) problem = 'There must be fewer seats than options.';
     else {
       try {

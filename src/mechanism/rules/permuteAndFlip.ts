@@ -1,6 +1,13 @@
-import { bernoulliExpMinusSplit } from './bernoulli.ts';
-import type { Rational } from './rational.ts';
-import { uniformBelowSmall, type RandomSource } from './random.ts';
+import { bernoulliExpMinusSplit } from '../bernoulli.ts';
+import { decimalWithPrecision, type Dec } from '../decimal.ts';
+import { exponentialScale, type Neighbour } from '../neighbour.ts';
+import type { Rational } from '../rational.ts';
+import { uniformBelowSmall, type RandomSource } from '../random.ts';
+import { exponentialMarginGuess } from './exponential.ts';
+import { defineRule } from './rule.ts';
+
+// 60 significant digits, as in bounds.ts.
+const Decimal = decimalWithPrecision(60);
 
 /**
  * One round of permute-and-flip (McKenna & Sheldon 2020, Algorithm 1) over the
@@ -39,18 +46,6 @@ export function permuteAndFlipRound(scores: readonly number[], candidates: reado
   }
   // Unreachable: the candidate at the maximum has γ = 0, and that coin always succeeds.
   throw new Error('permute-and-flip visited every candidate without a success');
-}
-
-/** k seats by peeling, as for the exponential mechanism: each round at the per-round scale. */
-export function permuteAndFlipSeats(scores: readonly number[], seats: number, scale: Rational, random: RandomSource): number[] {
-  const remaining = scores.map((_, i) => i);
-  const winners: number[] = [];
-  for (let round = 0; round < seats; round += 1) {
-    const winner = permuteAndFlipRound(scores, remaining, scale, random);
-    winners.push(winner);
-    remaining.splice(remaining.indexOf(winner), 1);
-  }
-  return winners;
 }
 
 /**
@@ -92,3 +87,51 @@ export function permuteAndFlipProbabilities(scores: readonly number[], scaleValu
     return (pi * e.reduce((x, y) => x + y, 0)) / n;
   });
 }
+
+/**
+ * Permute-and-flip, leader ahead of all n − 1 others by ≥ m, x = e^(−a·m):
+ * P(leader) ≥ (1/n)·Σ_{t=0}^{n−1} (1 − x)^t = (1 − (1 − x)^n)/(n·x).
+ * Proof (ours, from McKenna & Sheldon 2020, Algorithm 1): the leader's coin always succeeds, so
+ * it is drawn iff every option visited before it fails; each of those fails with probability
+ * ≥ 1 − x, independently, and the number visited before the leader is uniform on {0, …, n − 1}.
+ * Equality when the others are tied exactly m below. It is never below the exponential
+ * mechanism's bound: on that two-level profile the expected shortfall is m·(1 − P(leader)), and
+ * McKenna & Sheldon 2020 prove permute-and-flip's expected shortfall never exceeds the exponential
+ * mechanism's (abstract; the theorem number, Thm. 2, is from memory). Also checked on a grid in
+ * test/unit/mechanism/permuteAndFlip.test.ts.
+ */
+export function permuteAndFlipLeaderChance(n: number, a: Dec, m: number): Dec {
+  if (m === 0) return new Decimal(1).div(n);
+  const x = Decimal.exp(a.times(m).neg());
+  return new Decimal(1).minus(new Decimal(1).minus(x).pow(n)).div(x.times(n));
+}
+
+/**
+ * Permute-and-flip takes the exponential mechanism's scale: ε/(2Δ) is McKenna & Sheldon 2020, Thm. 1
+ * (number from memory); for monotone scores ε/Δ follows from its equivalence with report-noisy-max with
+ * exponential noise of rate a (Ding, Kifer et al. 2021): the argument of Dwork & Roth 2014, Claim 3.9
+ * (report-noisy-max on monotone counts) needs only P(Z ≥ t + 1) ≥ e^(−a)·P(Z ≥ t) for every t, which
+ * exponential noise satisfies. Both scales are also checked on exact probabilities, one and two seats,
+ * in test/unit/mechanism/permuteAndFlip.test.ts.
+ */
+function permuteAndFlipScale(perRoundEpsilon: Rational, neighbour: Neighbour): Rational {
+  return exponentialScale(perRoundEpsilon, neighbour);
+}
+
+export const permuteAndFlipRule = defineRule({
+  id: 'permute-and-flip',
+  statementMechanism: 'permute-and-flip',
+  sampler: 'exact-bigint-permute-and-flip',
+  name: 'permute-and-flip',
+  sentence:
+    'Draw rule: permute-and-flip. The options are put in a random order and each in turn is kept or passed over by a weighted coin; the most approved option is always kept when its turn comes, so on average the winner has at least as many approvals as under the exponential mechanism, with the same privacy.',
+  scaleRole: 'in each coin exp(−a · (top approvals − approvals)) of permute-and-flip (McKenna & Sheldon 2020)',
+  marginTableName: 'permute-and-flip ',
+  scale: permuteAndFlipScale,
+  drawRound: permuteAndFlipRound,
+  leaderChance: permuteAndFlipLeaderChance,
+  // Never needs a larger lead than the exponential mechanism (above), so its closed form is a start.
+  marginGuess: exponentialMarginGuess,
+  exactProbabilities: permuteAndFlipProbabilities,
+  exactMaxOptions: PF_EXACT_MAX_OPTIONS,
+});

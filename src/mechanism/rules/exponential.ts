@@ -1,6 +1,12 @@
-import { bernoulliExpMinusSplit } from './bernoulli.ts';
-import type { Rational } from './rational.ts';
-import { uniformBelowSmall, type RandomSource } from './random.ts';
+import { bernoulliExpMinusSplit } from '../bernoulli.ts';
+import { decimalWithPrecision, type Dec } from '../decimal.ts';
+import { exponentialScale } from '../neighbour.ts';
+import type { Rational } from '../rational.ts';
+import { uniformBelowSmall, type RandomSource } from '../random.ts';
+import { defineRule } from './rule.ts';
+
+// 60 significant digits, as in bounds.ts.
+const Decimal = decimalWithPrecision(60);
 
 /**
  * One round of the exponential mechanism (McSherry & Talwar 2007; Dwork & Roth
@@ -50,23 +56,6 @@ export function drawOneRound(scores: readonly number[], candidates: readonly num
 }
 
 /**
- * k seats by peeling: k rounds, each drawing one winner among the options not yet
- * drawn, each at the per-round scale. Basic composition (Dwork & Roth 2014,
- * Thm. 3.16) gives the total privacy cost as the sum of the rounds' costs; it
- * holds although each round depends on the earlier winners (adaptive composition).
- */
-export function drawSeats(scores: readonly number[], seats: number, scale: Rational, random: RandomSource): number[] {
-  const remaining = scores.map((_, i) => i);
-  const winners: number[] = [];
-  for (let round = 0; round < seats; round += 1) {
-    const winner = drawOneRound(scores, remaining, scale, random);
-    winners.push(winner);
-    remaining.splice(remaining.indexOf(winner), 1);
-  }
-  return winners;
-}
-
-/**
  * First-seat probabilities in floating point, for tests and planning displays
  * only (never to decide an outcome): exp(a(sᵢ − m)) / Σⱼ exp(a(sⱼ − m)).
  */
@@ -76,3 +65,38 @@ export function firstSeatProbabilities(scores: readonly number[], scaleValue: nu
   const total = weights.reduce((a, b) => a + b, 0);
   return weights.map((w) => w / total);
 }
+
+/**
+ * If the leader is ahead of all n − 1 others by ≥ m: P(leader) ≥ 1/(1 + (n − 1)·e^(−a·m)), since each
+ * other weight is at most e^(−a·m) times the leader's (Dwork & Roth 2014, Def. 3.4); exact when every
+ * other option trails by exactly m, and a lower bound when any trails by more.
+ */
+export function exponentialLeaderChance(n: number, a: Dec, m: number): Dec {
+  return new Decimal(1).div(new Decimal(n - 1).times(Decimal.exp(a.times(m).neg())).plus(1));
+}
+
+/**
+ * The closed form of the smallest margin for P(leader) ≥ p: (1/a)·ln((n − 1)·p/(1 − p)), rounded up
+ * (0 when that is not positive). Also a valid start for rules never worse than this one.
+ */
+export function exponentialMarginGuess(n: number, a: Dec, p: Dec): number {
+  const ratio = new Decimal(n - 1).times(p).div(new Decimal(1).minus(p));
+  return ratio.lte(1) ? 0 : Decimal.ln(ratio).div(a).ceil().toNumber();
+}
+
+export const exponentialRule = defineRule({
+  id: 'exponential',
+  statementMechanism: 'exponential-mechanism',
+  sampler: 'exact-bigint-rejection',
+  name: 'the exponential mechanism',
+  sentence:
+    'Draw rule: the exponential mechanism. Each option’s chance grows with its approvals: every extra approval multiplies its weight in the draw by the same factor.',
+  scaleRole: 'in P(option) ∝ exp(a · approvals) of the exponential mechanism',
+  marginTableName: '',
+  scale: exponentialScale,
+  drawRound: drawOneRound,
+  leaderChance: exponentialLeaderChance,
+  marginGuess: exponentialMarginGuess,
+  exactProbabilities: firstSeatProbabilities,
+  exactMaxOptions: Number.POSITIVE_INFINITY,
+});
