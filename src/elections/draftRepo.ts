@@ -31,7 +31,7 @@ export async function insertDraft(
     state: 'draft',
     ...draftColumns(row.draft),
     roster_id: row.draft.rosterId ?? null,
-    group_id: await groupIdFor(db, row.draft.memberGroup ?? DEFAULT_GROUP_NAME, row.at),
+    group_id: await groupIdFor(db, row.ownerId, row.draft.memberGroup ?? DEFAULT_GROUP_NAME, row.at),
     public_key: row.publicKey,
     wrapped_key: JSON.stringify(row.wrappedKey),
     created_at: row.at,
@@ -40,8 +40,9 @@ export async function insertDraft(
   await writeOptions(db, row.id, row.draft.options);
 }
 
-export async function updateDraftRow(db: Db, id: string, draft: DraftInput, at: Date): Promise<void> {
-  const group = draft.memberGroup === undefined ? {} : { group_id: await groupIdFor(db, draft.memberGroup, at) };
+/** ownerId: the election's owner, whose group the draft names (a shared organiser edits the owner's). */
+export async function updateDraftRow(db: Db, id: string, ownerId: string, draft: DraftInput, at: Date): Promise<void> {
+  const group = draft.memberGroup === undefined ? {} : { group_id: await groupIdFor(db, ownerId, draft.memberGroup, at) };
   const electorate = draft.rosterId === undefined ? {} : { roster_id: draft.rosterId };
   await db('elections')
     .where({ id, state: 'draft' })

@@ -1,7 +1,7 @@
 import { checkBudget, howVotedCost, ledgerTotals, sumEpsilons, yearBefore, type BudgetCheck, type LedgerTotals } from '../mechanism/index.ts';
 import type { Db } from '../db/knex.ts';
 import { DEFAULT_LEDGER_POLICY, type UseCaseContext } from './context.ts';
-import { findGroup, findGroupByName, listLedger, pendingDraws, type LedgerRow, type MemberGroup } from './ledgerRepo.ts';
+import { electionOwner, findGroup, findGroupByName, listLedger, pendingDraws, type LedgerRow, type MemberGroup } from './ledgerRepo.ts';
 import { NotFound } from '../errors.ts';
 
 export { DEFAULT_GROUP_NAME } from './ledgerRepo.ts';
@@ -39,14 +39,16 @@ export interface BudgetPreview extends BudgetCheck {
 /**
  * What opening one more election at this ε would do to the group's 12-month total. Used by the
  * election form (a warning) and by openElection (a refusal unless the configuration allows it).
+ * The group is the election owner's (ownerId for an election not made yet): groups are per organiser.
  */
 export async function budgetPreview(
   db: Db,
   ctx: Pick<UseCaseContext, 'now' | 'ledgerPolicy'>,
-  input: { groupName: string; epsilon: string; neighbour: 'replace-one' | 'add-remove'; electionId?: string },
+  input: { ownerId: string; groupName: string; epsilon: string; neighbour: 'replace-one' | 'add-remove'; electionId?: string },
 ): Promise<BudgetPreview> {
   const policy = ctx.ledgerPolicy ?? DEFAULT_LEDGER_POLICY;
-  const group = await findGroupByName(db, input.groupName);
+  const ownerId = (input.electionId ? await electionOwner(db, input.electionId) : null) ?? input.ownerId;
+  const group = await findGroupByName(db, ownerId, input.groupName);
   const rows = group ? await listLedger(db, group.id) : [];
   // Every charge of the last 12 months counts, including one stamped at the coming minute.
   const now = ctx.now();

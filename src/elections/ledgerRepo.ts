@@ -17,11 +17,17 @@ export interface MemberGroup {
 /** Names are compared trimmed, NFC-normalised and case-insensitively. */
 export const groupKey = (name: string): string => name.trim().normalize('NFC').toLocaleLowerCase('en');
 
-/** The group with this name, created on first use. */
-export async function groupIdFor(db: Db, name: string, at: Date): Promise<string> {
+/**
+ * The organiser's group with this name, created on first use. Groups belong to one organiser
+ * (migration 20261203160000): the same name typed by two organisers is two groups and two budgets.
+ */
+export async function groupIdFor(db: Db, ownerId: string, name: string, at: Date): Promise<string> {
   const key = groupKey(name);
-  await db('member_groups').insert({ id: crypto.randomUUID(), name: name.trim(), name_key: key, created_at: at }).onConflict('name_key').ignore();
-  const row = await db('member_groups').where({ name_key: key }).first('id');
+  await db('member_groups')
+    .insert({ id: crypto.randomUUID(), owner_id: ownerId, name: name.trim(), name_key: key, created_at: at })
+    .onConflict(['owner_id', 'name_key'])
+    .ignore();
+  const row = await db('member_groups').where({ owner_id: ownerId, name_key: key }).first('id');
   return row.id as string;
 }
 
@@ -31,9 +37,9 @@ export async function findGroup(db: Db, id: string): Promise<MemberGroup | null>
   return row ? { id: row.id, name: row.name } : null;
 }
 
-export async function findGroupByName(db: Db, name: string): Promise<MemberGroup | null> {
+export async function findGroupByName(db: Db, ownerId: string, name: string): Promise<MemberGroup | null> {
   const row = await db('member_groups')
-    .where({ name_key: groupKey(name) })
+    .where({ owner_id: ownerId, name_key: groupKey(name) })
     .first('id', 'name');
   return row ? { id: row.id, name: row.name } : null;
 }
@@ -79,6 +85,12 @@ export async function chargeDraw(
     whether_voted_epsilon: row.whetherVoted,
     unprotected: JSON.stringify(row.unprotected),
   });
+}
+
+/** Who owns an election (and so its group), or null when there is no such election. */
+export async function electionOwner(db: Db, electionId: string): Promise<string | null> {
+  const row = await db('elections').where({ id: electionId }).first('owner_id');
+  return (row?.owner_id as string | undefined) ?? null;
 }
 
 /** Elections of the group that are open or closed but not yet drawn: each will be charged at its draw. */

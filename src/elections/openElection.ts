@@ -32,10 +32,16 @@ export async function openElection(
       throw new ElectionStateConflict('The opening time has already passed, so there is nothing to schedule. Choose “Open now” instead.');
     }
     // The group row lock serialises openings in one group, so two cannot both squeeze under the budget.
-    const groupId = e.groupId ?? (await groupIdFor(trx, DEFAULT_GROUP_NAME, now));
+    const groupId = e.groupId ?? (await groupIdFor(trx, e.ownerId, DEFAULT_GROUP_NAME, now));
     const group = await trx('member_groups').where({ id: groupId }).forUpdate().first('name');
     if (!e.groupId) await trx('elections').where({ id: e.id }).update({ group_id: groupId });
-    const budget = await budgetPreview(trx, ctx, { groupName: group.name, epsilon: e.epsilon, neighbour: e.neighbour, electionId: e.id });
+    const budget = await budgetPreview(trx, ctx, {
+      ownerId: e.ownerId,
+      groupName: group.name,
+      epsilon: e.epsilon,
+      neighbour: e.neighbour,
+      electionId: e.id,
+    });
     if (budget.exceeds && !budget.allowOverBudget) throw new OverBudget(budget.groupName, budget.projected, budget.budget);
     const opensAt = input.mode === 'now' && e.opensAt > now ? now : e.opensAt;
     await trx('elections').where({ id: e.id }).update({ state: 'open', opens_at: opensAt, opened_at: now, updated_at: now });

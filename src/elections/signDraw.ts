@@ -30,7 +30,7 @@ export async function chargeAndSign(
   const { election: e, draw, at } = input;
   // One election, one draw: if a statement exists (an election reset behind the app's back), refuse.
   if (await trx('statements').where({ election_id: e.id }).first('draw_sequence')) throw new AlreadyTallied();
-  const groupId = e.groupId ?? (await groupIdFor(trx, DEFAULT_GROUP_NAME, at));
+  const groupId = e.groupId ?? (await groupIdFor(trx, e.ownerId, DEFAULT_GROUP_NAME, at));
   if (!e.groupId) await trx('elections').where({ id: e.id }).update({ group_id: groupId });
   const group = (await findGroup(trx, groupId))!;
   await chargeDraw(trx, {

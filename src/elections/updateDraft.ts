@@ -15,7 +15,7 @@ export async function updateDraft(ctx: UseCaseContext, input: { electionId: stri
     if (!isEditable(e)) throw new ElectionLocked();
     await checkElectorate(trx, draft.rosterId, input.organiserId, e.rosterId);
     const now = ctx.now();
-    await updateDraftRow(trx, e.id, draft, now);
+    await updateDraftRow(trx, e.id, e.ownerId, draft, now);
     await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'draft-edited' }, now);
   });
 }

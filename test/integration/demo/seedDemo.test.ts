@@ -71,10 +71,10 @@ describe.each(engines)('demo seeding [%s]', (engine) => {
     expect(pub.ownerId).toBe(open.ownerId);
     expect(await checkReceipt(ctx, { electionId: pub.id, receipt: s.published.receipt })).toBe(true);
     // The draw was charged to the tenants' own group ledger, once.
-    const group = await findGroupByName(ctx.knex, TENANTS.group);
+    const group = await findGroupByName(ctx.knex, open.ownerId, TENANTS.group);
     expect(group?.id).toBe(s.published.groupId);
     expect(await listLedger(ctx.knex, group!.id)).toHaveLength(1);
-    expect((await findElection(ctx.knex, s.open.id))!.groupId).toBe((await findGroupByName(ctx.knex, ROWING_CLUB.group))!.id);
+    expect((await findElection(ctx.knex, s.open.id))!.groupId).toBe((await findGroupByName(ctx.knex, open.ownerId, ROWING_CLUB.group))!.id);
 
     const organiser = (await findOrganiser(ctx.knex, open.ownerId))!;
     expect(organiser).toMatchObject({ email: s.organiser.email, demo: true });

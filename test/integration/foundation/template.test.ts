@@ -31,15 +31,13 @@ describe('the embedded database template', () => {
       const done = await db.knex('schema_migrations').pluck('name');
       expect([...done].sort()).toEqual([...migrations].sort());
       expect(await db.knex('elections').count({ n: '*' }).first()).toMatchObject({ n: 0 });
-      await db
-        .knex('member_groups')
-        .insert({ id: '7f1d6c38-4a8e-4a57-9d1e-3b2c6f0e9a11', name: 'Tenants', name_key: 'tenants', created_at: new Date() });
+      await db.knex('signing_keys').insert({ key_id: 'tenants', public_key: Buffer.alloc(32, 7), added_at: new Date() });
     } finally {
       await db.close();
     }
     const again = openDatabase({ engine: 'pglite', dataDir: dir, template });
     try {
-      expect(await again.knex('member_groups').pluck('name')).toEqual(['Tenants']);
+      expect(await again.knex('signing_keys').pluck('key_id')).toEqual(['tenants']);
     } finally {
       await again.close();
     }

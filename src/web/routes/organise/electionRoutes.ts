@@ -34,7 +34,7 @@ export function electionRoutes(deps: AppDeps): Router {
     values: ElectionFormValues,
     extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphraseCleared?: boolean } = {},
   ) {
-    const budget = await groupBudget(ctx, values, electionId);
+    const budget = await groupBudget(ctx, values, electionId, organiserOf(res).id);
     const stored = electionId === null ? null : (await ownedElection(ctx.knex, electionId, organiserOf(res).id, { lock: false })).rosterId;
     const rosters = await electorateChoices(ctx, { organiserId: organiserOf(res).id, currentRosterId: stored });
     const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, budget, rosters, ...extra });

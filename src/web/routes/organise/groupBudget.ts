@@ -4,7 +4,12 @@ import { parseEpsilon } from '../../../mechanism/index.ts';
 import type { ElectionFormValues } from './electionSchema.ts';
 
 /** The privacy-ledger preview the election form shows; null while the group or ε is not usable yet. */
-export async function groupBudget(ctx: UseCaseContext, v: ElectionFormValues, electionId: string | null): Promise<BudgetPreview | null> {
+export async function groupBudget(
+  ctx: UseCaseContext,
+  v: ElectionFormValues,
+  electionId: string | null,
+  organiserId: string,
+): Promise<BudgetPreview | null> {
   const name = v.memberGroup.trim() || DEFAULT_GROUP_NAME;
   if (name.length > 120) return null;
   try {
@@ -13,5 +18,11 @@ export async function groupBudget(ctx: UseCaseContext, v: ElectionFormValues, el
     return null;
   }
   const neighbour = v.neighbour === 'add-remove' ? 'add-remove' : 'replace-one';
-  return budgetPreview(ctx.knex, ctx, { groupName: name, epsilon: v.epsilon.trim(), neighbour, electionId: electionId ?? undefined });
+  return budgetPreview(ctx.knex, ctx, {
+    ownerId: organiserId,
+    groupName: name,
+    epsilon: v.epsilon.trim(),
+    neighbour,
+    electionId: electionId ?? undefined,
+  });
 }
