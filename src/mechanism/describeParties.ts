@@ -28,7 +28,9 @@ function hours(n: number): string {
 
 export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyText[] {
   const how = factorExplained(factorAtMost(privacy.howVoted), s.neighbour === 'replace-one' ? 'ε' : '2ε');
-  const whetherFactor = factorExplained(factorAtMost(privacy.whetherVoted), 'ε');
+  // Under replace-one the two factors are the same, explained once in the sentence before.
+  const whetherFactor =
+    s.neighbour === 'replace-one' ? `${factorAtMost(privacy.whetherVoted)}, as above` : factorExplained(factorAtMost(privacy.whetherVoted), 'ε');
   const howVoted = `How a member voted: with the privacy setting at ε = ${privacy.epsilon}, whatever one member ticks can at most multiply or divide the chance of any announced result by ${how}. No count of approvals is ever shown.`;
   const whetherVoted = s.publishTurnout
     ? 'Whether a member voted: the organiser chose before opening to publish the turnout, so the exact number of ballots is published and is not protected. It shows how many members voted, and whether a given member voted to anyone who knows what all the others did.'

@@ -8,9 +8,9 @@ import { describeBounds, describeParties, makeExponentialDraw } from '../../../s
  * two decimals: e^1 = 2.71828…, e^2 = 7.38905…, e^0.5 = 1.64872…, e^(1/3) = 1.39561….
  */
 const cases = [
-  { epsilon: '1', neighbour: 'replace-one', how: '2.72 (that is e^ε:', whether: '2.72 (that is e^ε:' },
+  { epsilon: '1', neighbour: 'replace-one', how: '2.72 (that is e^ε:', whether: '2.72, as above' },
   { epsilon: '1', neighbour: 'add-remove', how: '7.39 (that is e^(2ε):', whether: '2.72 (that is e^ε:' },
-  { epsilon: '0.5', neighbour: 'replace-one', how: '1.65 (that is e^ε:', whether: '1.65 (that is e^ε:' },
+  { epsilon: '0.5', neighbour: 'replace-one', how: '1.65 (that is e^ε:', whether: '1.65, as above' },
   { epsilon: '0.5', neighbour: 'add-remove', how: '2.72 (that is e^(2ε):', whether: '1.65 (that is e^ε:' },
 ] as const;
 
