@@ -129,12 +129,8 @@ export async function openStoredBallots(ctx: UseCaseContext, electionId: string)
   }
 }
 
-/** The CSRF token a page's form carries (the synchroniser token in the hidden _csrf field). */
-export function csrfFrom(html: string): string {
-  const m = /name="_csrf" value="([^"]+)"/.exec(html);
-  if (!m) throw new Error('page has no CSRF field');
-  return m[1]!;
-}
+/** The CSRF token a page's form carries (test/helpers/csrf.ts). */
+export { csrfFrom } from './csrf.ts';
 
 /** An urlencoded body the way a browser sends it: a repeated name for each ticked box. */
 export function formBody(fields: Record<string, string | readonly string[] | undefined>): string {

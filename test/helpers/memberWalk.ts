@@ -1,3 +1,5 @@
+import { csrfFrom as csrfOf } from './csrf.ts';
+
 /**
  * One way to walk a member through the voting pages over HTTP, shared by the integration tests,
  * the reliability harness, the killed-server test and the intake benchmark: GET the code page,
@@ -21,11 +23,7 @@ export interface MemberHttp {
 
 export const RECEIPT = /<p class="receipt">([0-9A-Z]{5}-[0-9A-Z]{5})<\/p>/;
 
-export function csrfOf(html: string): string {
-  const m = /name="_csrf" value="([^"]+)"/.exec(html);
-  if (!m) throw new Error('page has no CSRF field');
-  return m[1]!;
-}
+export { csrfOf };
 
 /** The hidden fields of the first form posting to an address ending with `suffix`. */
 export function hiddenFields(html: string, suffix: string): { action: string; fields: [string, string][] } {

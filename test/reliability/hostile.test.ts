@@ -289,7 +289,7 @@ describe.runIf(process.env.TEST_DATABASE_URL)('hostile input at volume [postgres
         /unsafe-inline/.test(csp) ||
         res.headers.get('x-content-type-options') !== 'nosniff' ||
         res.headers.get('x-frame-options') !== 'DENY' ||
-        res.headers.get('referrer-policy') !== 'no-referrer' ||
+        res.headers.get('referrer-policy') !== 'same-origin' ||
         !res.headers.get('permissions-policy')
       ) {
         headerProblems++;

@@ -3,7 +3,7 @@ import type { RequestHandler } from 'express';
 import { Forbidden } from '../errors.ts';
 
 /**
- * Headers per OWASP ASVS 5.0 §3.4: a CSP that allows no inline script, no referrer,
+ * Headers per OWASP ASVS 5.0 §3.4: a CSP that allows no inline script, no referrer to other sites,
  * HSTS only when the site is served over TLS.
  */
 export function securityHeaders(secure: boolean): RequestHandler {
@@ -22,7 +22,10 @@ export function securityHeaders(secure: boolean): RequestHandler {
         ...(secure ? { 'upgrade-insecure-requests': [] } : {}),
       },
     },
-    referrerPolicy: { policy: 'no-referrer' },
+    // same-origin, not no-referrer: other sites still get no Referer, and our own form posts keep a
+    // real Origin header. Under no-referrer a browser sends `Origin: null` with every form post
+    // (WHATWG Fetch, "append a request `Origin` header"), which sameOriginOnly refuses.
+    referrerPolicy: { policy: 'same-origin' },
     strictTransportSecurity: secure ? { maxAge: 31_536_000, includeSubDomains: true } : false,
     crossOriginEmbedderPolicy: false,
     // Matches frame-ancestors 'none' for browsers that only read the older header.
@@ -45,7 +48,7 @@ export const noStore: RequestHandler = (_req, res, next) => {
 /**
  * A second CSRF line beside the token (OWASP CSRF Prevention Cheat Sheet, "Verifying origin with
  * standard headers" and Fetch Metadata): refuse state changes that a browser says came from another
- * site. The Origin is compared with the configured public origin (PUBLIC_URL), so a proxy that
+ * site, or from an opaque origin (`Origin: null`). The Origin is compared with the configured public origin (PUBLIC_URL), so a proxy that
  * rewrites Host or sets X-Forwarded-Host does not break forms; a match with the Host the browser
  * sent is also accepted, since a forged cross-site request carries its own site's Origin.
  */
@@ -58,7 +61,12 @@ export function sameOriginOnly(publicUrl: string): RequestHandler {
       return next(new Forbidden('This form was sent from another site, so we did not act on it.'));
     }
     const origin = req.get('origin');
-    if (origin && origin !== 'null') {
+    // A sandboxed frame, a data: or file: page, or a post redirected across origins sends
+    // `Origin: null`: a page of ours never does (see the referrer policy above).
+    if (origin === 'null') {
+      return next(new Forbidden('This form came from a page with no address of its own, so we did not act on it.'));
+    }
+    if (origin) {
       let parsed: URL;
       try {
         parsed = new URL(origin);
@@ -92,7 +100,7 @@ export function answerClientError(err: NodeJS.ErrnoException, socket: import('no
       "Content-Security-Policy: default-src 'none'; script-src 'self'; frame-ancestors 'none'; base-uri 'none'; form-action 'self'",
       'X-Content-Type-Options: nosniff',
       'X-Frame-Options: DENY',
-      'Referrer-Policy: no-referrer',
+      'Referrer-Policy: same-origin',
       'Permissions-Policy: camera=(), microphone=(), geolocation=(), payment=(), usb=(), fullscreen=()',
       '',
       body,

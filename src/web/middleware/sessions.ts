@@ -1,6 +1,6 @@
 import crypto from 'node:crypto';
 import session from 'express-session';
-import type { RequestHandler } from 'express';
+import type { Request, RequestHandler } from 'express';
 import { csrfSync } from 'csrf-sync';
 import { DatabaseSessionStore } from './sessionStore.ts';
 import { CsrfRejected } from '../errors.ts';
@@ -60,13 +60,33 @@ const csrf = csrfSync({
 });
 
 /**
- * CSRF tokens (OWASP CSRF Prevention Cheat Sheet). Signed-in organisers get the synchroniser token,
- * kept in their session. Everyone else (members voting, checking a receipt, the sign-in form) gets a
- * signed double-submit token: a random nonce in a cookie and HMAC-SHA-256(session secret, nonce) in
- * the form. That needs no stored session, so anonymous visitors write no row to the database.
+ * CSRF tokens (OWASP CSRF Prevention Cheat Sheet). Three kinds, and each route takes exactly one:
+ *
+ * - Signed in: the synchroniser token kept in the session (csrf-sync). Nothing else is accepted, so
+ *   a token an attacker fetched for themselves, with its cookie planted in the victim's browser (from
+ *   a sibling subdomain, or on the path over plain http), cannot act in a victim's session.
+ * - Not signed in, in the organiser area (sign-in, first run, sign-in to keep a form): a signed
+ *   double-submit token bound to the client's address as well, HMAC-SHA-256(session secret,
+ *   nonce, address). These forms decide whose account a browser is signed in to ("login CSRF"):
+ *   a nonce and token fetched from the attacker's address do not verify from the victim's, even
+ *   with the nonce cookie planted. The cheat sheet's other answer, a pre-session, would write a
+ *   session row for every view of the sign-in page, and a planted session cookie defeats it alike.
+ * - Not signed in, member forms (the code box, the ballot steps, the receipt check): the signed
+ *   double-submit token, HMAC-SHA-256(session secret, nonce), not bound to an address, since a
+ *   member's address may change between steps; a forged member post can only use codes the
+ *   attacker already holds. It needs no stored session, so members write no session row.
+ *
+ * Over https the nonce lives in a `__Host-` cookie, which neither a sibling subdomain nor a plain
+ * http response can set (RFC 6265bis, cookie name prefixes). Over plain http anyone on the path can set any
+ * cookie, the session's included; the threat model in the README says so.
  */
 const ANON_PREFIX = 'a.';
+const SIGN_IN_PREFIX = 'o.';
 const NONCE = /^[A-Za-z0-9_-]{43}$/;
+/** Posts that take the member token; every other anonymous post takes the address-bound one. */
+const MEMBER_POST = /^\/(?:ballot|vote|results)(?:\/|$)/i;
+/** Pages whose forms sign someone in. Any other anonymous page's forms are member forms. */
+const ORGANISER_PAGE = /^\/organise(?:\/|$)/i;
 
 /** One cookie's value from a Cookie header (hand-written: Express parses no cookies without cookie-parser, a dependency for two reads). */
 export function cookieValue(header: string | undefined, name: string): string | undefined {
@@ -86,21 +106,34 @@ function anonymousToken(secret: string, nonce: string): string {
   return ANON_PREFIX + crypto.createHmac('sha256', secret).update(`veiltally csrf ${nonce}`).digest('base64url');
 }
 
+function signInToken(secret: string, nonce: string, address: string): string {
+  return SIGN_IN_PREFIX + crypto.createHmac('sha256', secret).update(`veiltally sign-in csrf ${nonce} ${address}`).digest('base64url');
+}
+
+/** The client's address as Express reads it (forwarded only from TRUST_PROXY's proxies). */
+function addressOf(req: Request): string {
+  return req.ip ?? req.socket.remoteAddress ?? '';
+}
+
+function sameToken(expected: string, given: string): boolean {
+  const a = Buffer.from(expected);
+  const b = Buffer.from(given);
+  return a.length === b.length && crypto.timingSafeEqual(a, b);
+}
+
 /** Synchroniser-token or signed double-submit check on every state-changing request. */
 export function csrfProtection(deps: AppDeps): RequestHandler {
   const cookieName = csrfCookieName(isSecureSite(deps.config.publicUrl));
   return (req, res, next) => {
     if (req.method === 'GET' || req.method === 'HEAD' || req.method === 'OPTIONS') return next();
+    // Signed in: the session's own token only, never an anonymous one.
+    if (req.session?.organiserId) return csrf.csrfSynchronisedProtection(req, res, next);
     const body = req.body as Record<string, unknown> | undefined;
     const token = typeof body?._csrf === 'string' ? body._csrf : undefined;
-    if (token?.startsWith(ANON_PREFIX)) {
-      const nonce = cookieValue(req.headers.cookie, cookieName);
-      const expected = nonce && NONCE.test(nonce) ? Buffer.from(anonymousToken(deps.sessionSecret, nonce)) : null;
-      const given = Buffer.from(token);
-      if (expected && expected.length === given.length && crypto.timingSafeEqual(expected, given)) return next();
-      return next(new CsrfRejected());
-    }
-    return csrf.csrfSynchronisedProtection(req, res, next);
+    const nonce = cookieValue(req.headers.cookie, cookieName);
+    if (!token || !nonce || !NONCE.test(nonce)) return next(new CsrfRejected());
+    const expected = MEMBER_POST.test(req.path) ? anonymousToken(deps.sessionSecret, nonce) : signInToken(deps.sessionSecret, nonce, addressOf(req));
+    return sameToken(expected, token) ? next() : next(new CsrfRejected());
   };
 }
 
@@ -109,6 +142,7 @@ export function csrfLocals(deps: AppDeps): RequestHandler {
   const secure = isSecureSite(deps.config.publicUrl);
   const cookieName = csrfCookieName(secure);
   return (req, res, next) => {
+    const organiserPage = ORGANISER_PAGE.test(req.path);
     let anonymous: string | undefined;
     res.locals.csrf = () => {
       if (req.session?.organiserId) return csrf.generateToken(req);
@@ -118,7 +152,7 @@ export function csrfLocals(deps: AppDeps): RequestHandler {
         nonce = crypto.randomBytes(32).toString('base64url');
         res.cookie(cookieName, nonce, { httpOnly: true, sameSite: 'lax', secure, path: '/' });
       }
-      anonymous = anonymousToken(deps.sessionSecret, nonce);
+      anonymous = organiserPage ? signInToken(deps.sessionSecret, nonce, addressOf(req)) : anonymousToken(deps.sessionSecret, nonce);
       return anonymous;
     };
     next();

@@ -33,10 +33,10 @@ describe.each(engines)('health and home page [%s]', (engine) => {
     expect(res.status).toBe(200);
     expect(res.text).toContain('<main id="main"');
     expect(res.text).toContain('drawn at random, weighted toward the most approved');
-    // OWASP ASVS 5.0 §3.4: CSP without inline script, no referrer.
+    // OWASP ASVS 5.0 §3.4: CSP without inline script, no referrer to other sites.
     expect(res.headers['content-security-policy']).toContain("script-src 'self'");
     expect(res.headers['content-security-policy']).not.toContain('unsafe-inline');
-    expect(res.headers['referrer-policy']).toBe('no-referrer');
+    expect(res.headers['referrer-policy']).toBe('same-origin');
     expect(res.headers['x-powered-by']).toBeUndefined();
     // A read-only visit creates no session: the only cookie is the anonymous form's signed
     // double-submit token (the home page has a code box), and no session row is written.

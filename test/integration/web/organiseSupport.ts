@@ -8,6 +8,7 @@ import { createElection } from '../../../src/elections/createElection.ts';
 import type { DraftInput } from '../../../src/elections/draft.ts';
 import { testClock, testContext, type TestClock } from '../../helpers/context.ts';
 import type { TestDatabase } from '../../helpers/databases.ts';
+import { csrfFrom as tokenIn } from '../../helpers/csrf.ts';
 
 /** Shared by the organiser-area suites: a context on the test clock (cheap Argon2, as every test context), and form helpers. */
 export const PASSWORD = 'rowing club boat name 2026';
@@ -17,12 +18,8 @@ export function organiseContext(db: TestDatabase, clock: TestClock = testClock()
   return testContext(db, { now: clock.now });
 }
 
-/** The synchroniser token from the first hidden _csrf field of a page. */
-export function tokenIn(html: string): string {
-  const m = /name="_csrf" value="([^"]+)"/.exec(html);
-  if (!m) throw new Error('no CSRF token on the page');
-  return m[1]!;
-}
+/** The CSRF token from the first hidden _csrf field of a page (test/helpers/csrf.ts). */
+export { tokenIn };
 
 export async function csrfFrom(agent: Agent, path: string): Promise<string> {
   const res = await agent.get(path);
