@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { InvalidInput } from '../errors.ts';
-import { DRAW_RULES, parseEpsilon, type DrawRule } from '../mechanism/index.ts';
+import { DEFAULT_DRAW_RULE, DRAW_RULES, parseEpsilon, type DrawRule } from '../mechanism/index.ts';
 import type { Neighbour } from './electionRepo.ts';
 import { isTimeZone } from './time.ts';
 
@@ -71,7 +71,7 @@ export const draftSchema = z
     seats: z.number().int('Seats must be a whole number.').min(1, 'There must be at least 1 seat.'),
     epsilon: z.string(),
     neighbour: z.enum(['replace-one', 'add-remove']),
-    rule: z.enum(DRAW_RULES as [DrawRule, ...DrawRule[]]).default('exponential'),
+    rule: z.enum(DRAW_RULES).default(DEFAULT_DRAW_RULE),
     opensAt: z.date(),
     closesAt: z.date(),
     timeZone: z.string().refine(isTimeZone, 'Choose a time zone from the list.'),

@@ -1,4 +1,5 @@
 import type { Db } from '../db/knex.ts';
+import { DEFAULT_DRAW_RULE } from '../mechanism/index.ts';
 import type { DraftInput } from './draft.ts';
 import { DEFAULT_GROUP_NAME, groupIdFor } from './ledgerRepo.ts';
 
@@ -11,7 +12,7 @@ function draftColumns(d: DraftInput) {
     seats: d.seats,
     epsilon: d.epsilon,
     neighbour: d.neighbour,
-    draw_rule: d.rule ?? 'exponential',
+    draw_rule: d.rule ?? DEFAULT_DRAW_RULE,
     opens_at: d.opensAt,
     closes_at: d.closesAt,
     time_zone: d.timeZone,

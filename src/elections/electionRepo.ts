@@ -1,6 +1,6 @@
 import type { Db } from '../db/knex.ts';
 import { toBuffer } from '../db/knex.ts';
-import type { DrawRule } from '../mechanism/index.ts';
+import { drawRuleOr, type DrawRule } from '../mechanism/index.ts';
 
 export type ElectionState = 'draft' | 'open' | 'closed' | 'tallied' | 'published';
 export type Neighbour = 'replace-one' | 'add-remove';
@@ -71,7 +71,7 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     seats: r.seats as number,
     epsilon: r.epsilon as string,
     neighbour: r.neighbour as Neighbour,
-    rule: r.draw_rule === 'permute-and-flip' ? 'permute-and-flip' : 'exponential',
+    rule: drawRuleOr(r.draw_rule),
     opensAt: new Date(r.opens_at as string),
     closesAt: new Date(r.closes_at as string),
     timeZone: r.time_zone as string,

@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { describeBounds, MAX_DRAW_OPTIONS, RANDOM_WINNER_CAUTION, RULE_NAMES } from '../../mechanism/index.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
-import { RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
+import { RULE_CHOICES_USAGE, RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
 import { formatTable, jsonOut, wrap } from '../table.ts';
 
 const spec = { ...mechanismFlagSpec, options: 'value', beta: 'value' } as const;
@@ -19,13 +19,13 @@ const schema = z.object({
 });
 
 const usage = `Usage: veiltally bounds --options D --epsilon E [--seats K] [--neighbour replace|add-remove]
-                       [--rule exponential|permute-and-flip] [--beta 0.05] [--json]
+                       [--rule ${RULE_CHOICES_USAGE}] [--beta 0.05] [--json]
 
 Prints guarantees that depend on no ballots: how far below the top the winner can be
 (with probability 1 − beta), and how large a lead the most approved option needs to be
 drawn with 90%, 95% and 99% probability. For several seats the figures hold for each
 seat's draw at ε/k. The accuracy margin is the same for both rules; permute-and-flip
-has its own, smaller, lead table (see src/mechanism/bounds.ts for the proofs).
+has its own, smaller, lead table (see src/mechanism/rules/ for the proofs).
 
 ${RULE_USAGE}`;
 

@@ -3,7 +3,7 @@ import { buildStatement, cryptoRandom, parseEpsilon } from '../../mechanism/inde
 import { readBallotFile } from '../ballotFiles.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
-import { RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec } from '../mechanismFlags.ts';
+import { RULE_CHOICES_USAGE, RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec } from '../mechanismFlags.ts';
 import { renderStatement } from '../statementText.ts';
 import { formatTable, jsonOut, wrap } from '../table.ts';
 
@@ -25,7 +25,7 @@ const schema = z.object({
 });
 
 const usage = `Usage: veiltally draw --ballots FILE --epsilon E [--seats K] [--neighbour replace|add-remove]
-                      [--rule exponential|permute-and-flip] [--title TEXT] [--publish-turnout] [--json]
+                      [--rule ${RULE_CHOICES_USAGE}] [--title TEXT] [--publish-turnout] [--json]
 
 Draws the winners of an approval vote collected on paper or elsewhere, with the
 exact exponential mechanism (or exact permute-and-flip with --rule), and prints them

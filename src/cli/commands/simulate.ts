@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { PF_EXACT_MAX_OPTIONS, RULE_NAMES, cryptoRandom, parseEpsilon } from '../../mechanism/index.ts';
+import { RULES, RULE_NAMES, cryptoRandom, parseEpsilon } from '../../mechanism/index.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
-import { RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
+import { RULE_CHOICES_USAGE, RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
 import { formatTable, jsonOut, wrap } from '../table.ts';
 
 export const MAX_RUNS = 1_000_000;
@@ -17,12 +17,17 @@ const schema = z.object({
   runs: wholeNumber('runs', 1, MAX_RUNS),
 });
 
+/** "; for permute-and-flip, up to 200 options": the rules whose exact probabilities have a size limit. */
+const EXACT_LIMITS = RULES.filter((r) => Number.isFinite(r.exactMaxOptions))
+  .map((r) => `; for ${r.name}, up to ${r.exactMaxOptions} options`)
+  .join('');
+
 const usage = `Usage: veiltally simulate --scores 40,35,20 --epsilon E [--seats K] [--neighbour replace|add-remove]
-                         [--rule exponential|permute-and-flip] --runs N [--json]
+                         [--rule ${RULE_CHOICES_USAGE}] --runs N [--json]
 
 Planning aid: runs the real exact sampler N times (N ≤ ${MAX_RUNS.toLocaleString('en-GB')}) on hypothetical
 approval counts and compares how often each option won the first seat with the exact
-probability (shown for single-seat draws only; for permute-and-flip, up to ${PF_EXACT_MAX_OPTIONS} options).
+probability (shown for single-seat draws only${EXACT_LIMITS}).
 Options are numbered from 1 in the order of --scores; probabilities are percentages
 (--json gives fractions).
 
@@ -37,7 +42,7 @@ export const simulateCommand: Command = {
     const flags = checkFlags(schema, parseFlags('simulate', args, spec));
     parseEpsilon(flags.epsilon);
     const draw = drawFromFlags(flags, flags.scores.length);
-    const exactKnown = draw.seats === 1 && (draw.rule === 'exponential' || draw.options <= PF_EXACT_MAX_OPTIONS);
+    const exactKnown = draw.seats === 1 && draw.hasExactProbabilities;
     const exact = exactKnown ? draw.exactProbabilities(flags.scores) : null;
     const wins = new Array<number>(draw.options).fill(0);
     for (let i = 0; i < flags.runs; i += 1) {

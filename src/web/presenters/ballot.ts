@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { memoised } from './memo.ts';
 import type { Election } from '../../elections/electionRepo.ts';
 import { InvalidBallot } from '../../elections/errors.ts';
-import { RULE_SENTENCES } from '../../mechanism/index.ts';
+import { drawRuleOr, ruleModule } from '../../mechanism/index.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
 import { votingTimes } from '../../elections/votingTimes.ts';
 import { describeParties, makeExponentialDraw, type PartyText } from '../../mechanism/index.ts';
@@ -58,7 +58,7 @@ function howDrawn(e: Election): string[] {
   const who = e.seats === 1 ? 'one winner is drawn' : `${e.seats} winners are drawn, one seat at a time,`;
   return [
     `When voting closes, ${who} at random, weighted toward the most approved options: an option that more members approve is more likely to be drawn, but not certain to be.`,
-    RULE_SENTENCES[e.rule] ?? RULE_SENTENCES.exponential,
+    ruleModule(drawRuleOr(e.rule)).sentence,
     `The privacy setting, written ε (epsilon, a Greek letter), is ε = ${e.epsilon}. A smaller ε protects each ballot more strongly and makes the draw more random; a larger ε makes it follow the approvals more closely.`,
     'Nobody, including the organiser, is ever shown how many approvals any option received.',
   ];

@@ -12,7 +12,9 @@ import {
   type ElectorateWarning,
   type ProtectionWarning,
 } from './electorate.ts';
-import { makeExponentialDraw } from '../../mechanism/index.ts';
+import { RULE_NAMES, drawRuleOr, makeExponentialDraw } from '../../mechanism/index.ts';
+
+const capitalised = (text: string): string => text.charAt(0).toUpperCase() + text.slice(1);
 
 const plural = (n: number, word: string) => `${n.toLocaleString('en')} ${word}${n === 1 ? '' : 's'}`;
 
@@ -186,7 +188,7 @@ export function dashboardView(d: Dashboard): DashboardView {
       { term: 'Seats', value: String(e.seats) },
       { term: 'Privacy level', value: `ε = ${e.epsilon}` },
       { term: 'What ε protects', value: protects },
-      { term: 'Draw rule', value: e.rule === 'permute-and-flip' ? 'Permute-and-flip' : 'The exponential mechanism' },
+      { term: 'Draw rule', value: capitalised(RULE_NAMES[drawRuleOr(e.rule)]) },
       { term: 'Expected voters', value: e.expectedVoters === null ? 'not given' : e.expectedVoters.toLocaleString('en') },
       ...timeSettings(d),
       { term: 'Turnout', value: e.publishTurnout ? 'Published as an exact, unprotected count' : 'Not published' },

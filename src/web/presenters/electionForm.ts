@@ -5,6 +5,7 @@ import type { ElectionFormValues } from '../routes/organise/electionSchema.ts';
 import { summaryOf, type FieldErrors } from '../routes/organise/forms.ts';
 import { guidanceFor, type GuidanceView } from './guidance.ts';
 import { ruleComparisonFor, type RuleComparisonView } from './ruleComparison.ts';
+import { DEFAULT_DRAW_RULE, drawRuleOr } from '../../mechanism/index.ts';
 
 export const DEFAULT_ROWS = 4;
 export const DEFAULT_EPSILON = '1';
@@ -24,7 +25,7 @@ export function blankValues(now: Date, timeZone = 'UTC'): ElectionFormValues {
     seats: '1',
     epsilon: DEFAULT_EPSILON,
     neighbour: 'replace-one',
-    rule: 'exponential',
+    rule: DEFAULT_DRAW_RULE,
     expectedVoters: '',
     opensAt: at(1, 9),
     closesAt: at(8, 18),
@@ -69,7 +70,7 @@ export function fieldAnchor(key: string): string {
   if (m) return `option-${Number(m[1]) + 1}-${m[2]}`;
   if (key === 'options') return 'option-1-label';
   if (key === 'neighbour') return 'neighbour-replace-one';
-  if (key === 'rule') return 'rule-exponential';
+  if (key === 'rule') return `rule-${DEFAULT_DRAW_RULE}`;
   if (key === 'electorate') return 'electorate-printed';
   return key;
 }
@@ -123,7 +124,7 @@ export function electionFormView(input: {
   const filled = values.options.filter((o) => o.label.trim() !== '').length;
   const seats = /^\d{1,6}$/.test(values.seats.trim()) ? Number(values.seats.trim()) : NaN;
   const voters = /^\d{1,9}$/.test(values.expectedVoters.trim()) ? Number(values.expectedVoters.trim()) : null;
-  const rule = values.rule === 'permute-and-flip' ? 'permute-and-flip' : 'exponential';
+  const rule = drawRuleOr(values.rule);
   const base = input.electionId === null ? '/organise/elections/new' : `/organise/elections/${input.electionId}`;
   return {
     mode: input.electionId === null ? 'new' : 'edit',

@@ -4,13 +4,15 @@ import type { AuditRow } from '../../elections/audit.ts';
 import type { Election } from '../../elections/electionRepo.ts';
 import { resultHidden } from '../../elections/status.ts';
 import {
-  RULE_NAMES,
+  STATEMENT_MECHANISMS,
   describeParties,
   describeStatement,
   makeDraw,
   makeExponentialDraw,
+  ruleOfStatementMechanism,
   type PartyText,
   type PrivacyStatement,
+  type StatementMechanism,
 } from '../../mechanism/index.ts';
 import { DRAW_CAUTION, votingWindow, type VotingWindow } from './ballot.ts';
 import { marginChart, marginRows, type MarginChart } from './marginChart.ts';
@@ -26,7 +28,7 @@ const protection = z.object({ epsilon: z.string(), factorAtMost: z.number() });
 const statementShape = z
   .object({
     statementVersion: z.literal(1),
-    mechanism: z.enum(['exponential-mechanism', 'permute-and-flip']),
+    mechanism: z.enum(STATEMENT_MECHANISMS),
     outcome: z.enum(['winners', 'no-ballots']),
     winners: z.array(z.string()),
     optionLabels: z.array(z.string()),
@@ -148,11 +150,11 @@ function resultChartOf(s: {
   optionLabels: string[];
   seats: number;
   neighbour: 'replace-one' | 'add-remove';
-  mechanism: 'exponential-mechanism' | 'permute-and-flip';
+  mechanism: StatementMechanism;
 }): ResultChart | null {
   let draw;
   try {
-    const rule = s.mechanism === 'permute-and-flip' ? 'permute-and-flip' : 'exponential';
+    const rule = ruleOfStatementMechanism(s.mechanism).id;
     draw = makeDraw({ epsilon: s.epsilon, options: s.optionLabels.length, seats: s.seats, neighbour: s.neighbour, rule });
   } catch {
     return null; // a stored statement always passed these checks; without them there is nothing honest to draw
@@ -215,7 +217,7 @@ function publishedResultViewOf(stored: unknown): PublishedResultView {
       epsilon: statement.epsilon,
       seats: statement.seats,
       optionCount: statement.optionLabels.length,
-      ruleName: RULE_NAMES[statement.mechanism === 'permute-and-flip' ? 'permute-and-flip' : 'exponential'],
+      ruleName: ruleOfStatementMechanism(statement.mechanism).name,
       neighbourName: neighbour.name,
       neighbourMeans: neighbour.means,
       howVoted: statement.protects.howVoted,

@@ -3,6 +3,7 @@ import { InvalidInput } from '../../../errors.ts';
 import { tallyPassphraseSchema } from '../../../custody/index.ts';
 import { checkDraft, DRAFT_LIMITS, type DraftInput } from '../../../elections/draft.ts';
 import { zonedToUtc } from '../../../elections/time.ts';
+import { drawRuleOr } from '../../../mechanism/index.ts';
 import { field, fields, type FieldErrors } from './forms.ts';
 
 type Body = Record<string, unknown> | undefined;
@@ -47,7 +48,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
     seats: cut(field(body, 'seats'), 20),
     epsilon: cut(field(body, 'epsilon'), 20),
     neighbour: field(body, 'neighbour') === 'add-remove' ? 'add-remove' : 'replace-one',
-    rule: field(body, 'rule') === 'permute-and-flip' ? 'permute-and-flip' : 'exponential',
+    rule: drawRuleOr(field(body, 'rule')),
     expectedVoters: cut(field(body, 'expectedVoters'), 20),
     opensAt: cut(field(body, 'opensAt'), 40),
     closesAt: cut(field(body, 'closesAt'), 40),
@@ -103,7 +104,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     seats: seats ?? 1,
     epsilon: v.epsilon.trim(),
     neighbour: v.neighbour === 'add-remove' ? 'add-remove' : 'replace-one',
-    rule: v.rule === 'permute-and-flip' ? 'permute-and-flip' : 'exponential',
+    rule: drawRuleOr(v.rule),
     opensAt: times.opensAt ?? new Date(0),
     closesAt: times.closesAt ?? new Date(1),
     timeZone: v.timeZone,
