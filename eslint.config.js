@@ -67,6 +67,27 @@ export default tseslint.config(
     },
   },
   {
+    // The mechanism core takes randomness and clocks as arguments: no operating-system source, no I/O.
+    files: ['src/mechanism/**/*.ts'],
+    rules: {
+      'no-restricted-imports': [
+        'error',
+        {
+          paths: ['crypto', 'fs', 'fs/promises', 'os', 'net', 'http', 'https', 'child_process', 'worker_threads'].flatMap((name) =>
+            [name, `node:${name}`].map((p) => ({
+              name: p,
+              message: 'The mechanism core is pure: randomness is passed in (src/osRandom.ts is the shells’ source), and it does no I/O.',
+            })),
+          ),
+        },
+      ],
+      'no-restricted-properties': [
+        'error',
+        { object: 'Math', property: 'random', message: 'The mechanism core takes its randomness as an argument (a RandomSource).' },
+      ],
+    },
+  },
+  {
     // Routes and presenters call use-cases; only a record's type may come from a repository.
     files: ['src/web/routes/**/*.ts', 'src/web/presenters/**/*.ts'],
     rules: {

@@ -1,9 +1,9 @@
-import crypto from 'node:crypto';
 import type { Knex } from 'knex';
 import type { Engine } from '../db/knex.ts';
 
 import type { KdfParams } from '../custody/kdf.ts';
 import type { RandomSource } from '../mechanism/random.ts';
+import { pooledRandomBytes } from '../osRandom.ts';
 import type { Mailer } from './mailPort.ts';
 
 /** n random bytes. Production passes node:crypto; tests pass a seeded source. The type lives in the core. */
@@ -70,24 +70,5 @@ export function liveContext(db: { knex: Knex; engine: Engine }, secrets: Instanc
   };
 }
 
-/**
- * node:crypto's CSPRNG, drawn 4 KiB at a time: each randomBytes call costs a trip into OpenSSL, and a
- * cast asks for small amounts several times (receipt, ballot id, nonces), which showed in its profile.
- * Node's own crypto.randomUUID batches the same way. Every byte is handed out once, as a copy (callers
- * may wipe it), and the handed-out part of the pool is zeroed; requests larger than the pool go straight through.
- */
-export function pooledRandomBytes(poolSize = 4096): RandomBytes {
-  const pool = Buffer.alloc(poolSize);
-  let at = poolSize;
-  return (n) => {
-    if (n > poolSize) return crypto.randomBytes(n);
-    if (at + n > poolSize) {
-      crypto.randomFillSync(pool);
-      at = 0;
-    }
-    const out = Buffer.from(pool.subarray(at, at + n));
-    pool.fill(0, at, at + n);
-    at += n;
-    return out;
-  };
-}
+/** The live source of randomness, kept here under its old name for callers of the context. */
+export { pooledRandomBytes };

@@ -2,7 +2,7 @@
  * The mechanism core: exact exponential-mechanism draws over approval counts,
  * data-free bounds and the privacy statement. Pure: no I/O, randomness passed in.
  */
-export { type RandomSource, cryptoRandom, uniformBelow, uniformBelowSmall } from './random.ts';
+export { type RandomSource, uniformBelow, uniformBelowSmall } from './random.ts';
 export { type Epsilon, parseEpsilon, EPSILON_RULE, EPSILON_MIN_TEXT, EPSILON_MAX_TEXT, EPSILON_MAX_DECIMALS } from './epsilon.ts';
 export { InvalidEpsilon, InvalidMechanismConfig, InvalidScores } from './errors.ts';
 export type { Rational } from './rational.ts';

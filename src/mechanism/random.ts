@@ -1,29 +1,8 @@
-import { randomFillSync } from 'node:crypto';
-
-/** Returns exactly `byteCount` uniformly random bytes. Passed in, so the core does no I/O of its own. */
-export type RandomSource = (byteCount: number) => Uint8Array;
-
-const POOL_SIZE = 4096;
-let pool = new Uint8Array(0);
-let used = 0;
-
 /**
- * The operating system's CSPRNG through node:crypto. Bytes are fetched in blocks
- * of 4 KiB because the sampler asks for one or two bytes at a time and a system
- * call per byte would dominate the draw; every byte is still served only once.
+ * Returns exactly `byteCount` uniformly random bytes. Passed in, so the core does no I/O of its own:
+ * the operating system's source is src/osRandom.ts, which the shells hand to the core; tests pass a seeded one.
  */
-export const cryptoRandom: RandomSource = (byteCount) => {
-  if (!Number.isSafeInteger(byteCount) || byteCount < 0) throw new RangeError('byteCount must be a whole number ≥ 0');
-  if (byteCount > POOL_SIZE) return randomFillSync(new Uint8Array(byteCount));
-  if (used + byteCount > pool.length) {
-    pool = randomFillSync(new Uint8Array(POOL_SIZE));
-    used = 0;
-  }
-  const out = pool.slice(used, used + byteCount);
-  pool.fill(0, used, used + byteCount);
-  used += byteCount;
-  return out;
-};
+export type RandomSource = (byteCount: number) => Uint8Array;
 
 function readBytes(random: RandomSource, count: number): Uint8Array {
   const bytes = random(count);

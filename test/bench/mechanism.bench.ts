@@ -3,11 +3,12 @@
  * Gumbel noise; equal in law in exact arithmetic, but floats decide its outcome, which is what
  * Mironov 2012 and Ilvento 2020 warn against). The baseline is the ceiling. One and 10 seats,
  * d = 20, 100, 1000; scores are seeded uniform integers up to 1000 (an electorate of 1000).
- * A new draw rule adds one entry to SAMPLERS.
+ * Every rule of the registry (src/mechanism/rules/) is measured.
  */
 import { uniformInt } from 'pure-rand/distribution/uniformInt';
 import { xoroshiro128plus } from 'pure-rand/generator/xoroshiro128plus';
-import { cryptoRandom, makeExponentialDraw, makePermuteAndFlipDraw } from '../../src/mechanism/index.ts';
+import { RULES, makeDraw } from '../../src/mechanism/index.ts';
+import { pooledRandomBytes } from '../../src/osRandom.ts';
 import { figure, type BenchOptions, type Figure } from './support/figures.ts';
 
 interface Sampler {
@@ -16,23 +17,16 @@ interface Sampler {
   make(scores: readonly number[], seats: number): () => unknown;
 }
 
-const SAMPLERS: Sampler[] = [
-  {
-    name: 'exponential (exact)',
-    make(scores, seats) {
-      const draw = makeExponentialDraw({ epsilon: '1', options: scores.length, seats, neighbour: 'replace-one' });
-      return () => draw.draw(scores, cryptoRandom);
-    },
+// One per rule in the registry; permute-and-flip (McKenna & Sheldon 2020) draws a lazy Fisher–Yates order and
+// the same exact exp(−γ) coins, at most d per round.
+const random = pooledRandomBytes();
+const SAMPLERS: Sampler[] = RULES.map((rule) => ({
+  name: `${rule.id} (exact)`,
+  make(scores, seats) {
+    const draw = makeDraw({ epsilon: '1', options: scores.length, seats, neighbour: 'replace-one', rule: rule.id });
+    return () => draw.draw(scores, random);
   },
-  {
-    // McKenna & Sheldon 2020: lazy Fisher–Yates and the same exact exp(−γ) coins, at most d per round.
-    name: 'permute-and-flip (exact)',
-    make(scores, seats) {
-      const draw = makePermuteAndFlipDraw({ epsilon: '1', options: scores.length, seats, neighbour: 'replace-one' });
-      return () => draw.draw(scores, cryptoRandom);
-    },
-  },
-];
+}));
 
 /** The float baseline, peeling seats at ε/k each like the exact draw. */
 function gumbelMax(scores: readonly number[], seats: number): () => unknown {

@@ -1,5 +1,6 @@
 import { z } from 'zod';
-import { buildStatement, cryptoRandom, parseEpsilon } from '../../mechanism/index.ts';
+import { buildStatement, parseEpsilon } from '../../mechanism/index.ts';
+import { pooledRandomBytes } from '../../osRandom.ts';
 import { readBallotFile } from '../ballotFiles.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
@@ -55,7 +56,7 @@ export const drawCommand: Command = {
     parseEpsilon(flags.epsilon); // a bad ε fails before any ballot is read
     const tally = await readBallotFile(flags.ballots);
     const draw = drawFromFlags(flags, tally.labels.length);
-    const winners = tally.ballots === 0 ? null : draw.draw(tally.scores, cryptoRandom);
+    const winners = tally.ballots === 0 ? null : draw.draw(tally.scores, pooledRandomBytes());
     const statement = buildStatement({
       draw,
       optionLabels: tally.labels,

@@ -1,5 +1,6 @@
 import { z } from 'zod';
-import { RULES, RULE_NAMES, cryptoRandom, parseEpsilon } from '../../mechanism/index.ts';
+import { RULES, RULE_NAMES, parseEpsilon } from '../../mechanism/index.ts';
+import { pooledRandomBytes } from '../../osRandom.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
 import { RULE_CHOICES_USAGE, RULE_USAGE, drawFromFlags, mechanismFlagSchema, mechanismFlagSpec, percent, wholeNumber } from '../mechanismFlags.ts';
@@ -45,8 +46,9 @@ export const simulateCommand: Command = {
     const exactKnown = draw.seats === 1 && draw.hasExactProbabilities;
     const exact = exactKnown ? draw.exactProbabilities(flags.scores) : null;
     const wins = new Array<number>(draw.options).fill(0);
+    const random = pooledRandomBytes();
     for (let i = 0; i < flags.runs; i += 1) {
-      const first = draw.draw(flags.scores, cryptoRandom)[0] as number;
+      const first = draw.draw(flags.scores, random)[0] as number;
       wins[first] = (wins[first] ?? 0) + 1;
     }
     // Options are numbered from 1, as on the ballot and the result page.

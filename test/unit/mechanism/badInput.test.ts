@@ -5,7 +5,6 @@ import {
   bernoulliExpMinus,
   bernoulliRational,
   buildStatement,
-  cryptoRandom,
   describeStatement,
   InvalidEpsilon,
   InvalidMechanismConfig,
@@ -15,6 +14,10 @@ import {
   uniformBelowSmall,
   type RandomSource,
 } from '../../../src/mechanism/index.ts';
+import { pooledRandomBytes } from '../../../src/osRandom.ts';
+
+// The operating system's source, as the shells pass it in (the core holds none).
+const osRandom = pooledRandomBytes();
 
 // Bad inputs that must be refused with a typed error (common practice: reject at
 // construction, never mid-draw). Each row names the input it tries.
@@ -62,7 +65,7 @@ describe('draw and exactProbabilities refuse bad scores', () => {
     ['text', ['1', 0, 0]],
     ['not an array', '1,2,3'],
   ])('%s', (_name, scores) => {
-    expect(() => draw.draw(scores as never, cryptoRandom)).toThrow(InvalidScores);
+    expect(() => draw.draw(scores as never, osRandom)).toThrow(InvalidScores);
     expect(() => draw.exactProbabilities(scores as never)).toThrow(InvalidScores);
   });
 
@@ -122,21 +125,21 @@ describe('describeStatement refuses statements it has no words for', () => {
 
 describe('samplers refuse impossible parameters', () => {
   it.each([
-    ['cryptoRandom(-1)', () => cryptoRandom(-1)],
-    ['cryptoRandom(1.5)', () => cryptoRandom(1.5)],
-    ['cryptoRandom(NaN)', () => cryptoRandom(Number.NaN)],
-    ['uniformBelow(0)', () => uniformBelow(0n, cryptoRandom)],
-    ['uniformBelow(-3)', () => uniformBelow(-3n, cryptoRandom)],
-    ['uniformBelow(number)', () => uniformBelow(3 as never, cryptoRandom)],
-    ['uniformBelowSmall(0)', () => uniformBelowSmall(0, cryptoRandom)],
-    ['uniformBelowSmall(2^32 + 1)', () => uniformBelowSmall(2 ** 32 + 1, cryptoRandom)],
-    ['uniformBelowSmall(2.5)', () => uniformBelowSmall(2.5, cryptoRandom)],
-    ['Bernoulli(p > 1)', () => bernoulliRational(4n, 3n, cryptoRandom)],
-    ['Bernoulli(p < 0)', () => bernoulliRational(-1n, 3n, cryptoRandom)],
-    ['Bernoulli(den 0)', () => bernoulliRational(0n, 0n, cryptoRandom)],
-    ['Bernoulli(exp(−γ)), γ < 0', () => bernoulliExpMinus({ num: -1n, den: 2n }, cryptoRandom)],
-    ['Bernoulli(exp(−γ)), den 0', () => bernoulliExpMinus({ num: 1n, den: 0n }, cryptoRandom)],
-    ['Bernoulli(exp(−γ)), number γ', () => bernoulliExpMinus({ num: 1, den: 2 } as never, cryptoRandom)],
+    ['osRandom(-1)', () => osRandom(-1)],
+    ['osRandom(1.5)', () => osRandom(1.5)],
+    ['osRandom(NaN)', () => osRandom(Number.NaN)],
+    ['uniformBelow(0)', () => uniformBelow(0n, osRandom)],
+    ['uniformBelow(-3)', () => uniformBelow(-3n, osRandom)],
+    ['uniformBelow(number)', () => uniformBelow(3 as never, osRandom)],
+    ['uniformBelowSmall(0)', () => uniformBelowSmall(0, osRandom)],
+    ['uniformBelowSmall(2^32 + 1)', () => uniformBelowSmall(2 ** 32 + 1, osRandom)],
+    ['uniformBelowSmall(2.5)', () => uniformBelowSmall(2.5, osRandom)],
+    ['Bernoulli(p > 1)', () => bernoulliRational(4n, 3n, osRandom)],
+    ['Bernoulli(p < 0)', () => bernoulliRational(-1n, 3n, osRandom)],
+    ['Bernoulli(den 0)', () => bernoulliRational(0n, 0n, osRandom)],
+    ['Bernoulli(exp(−γ)), γ < 0', () => bernoulliExpMinus({ num: -1n, den: 2n }, osRandom)],
+    ['Bernoulli(exp(−γ)), den 0', () => bernoulliExpMinus({ num: 1n, den: 0n }, osRandom)],
+    ['Bernoulli(exp(−γ)), number γ', () => bernoulliExpMinus({ num: 1, den: 2 } as never, osRandom)],
   ])('%s', (_name, attempt) => {
     expect(attempt).toThrow(RangeError);
   });

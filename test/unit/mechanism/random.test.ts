@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { cryptoRandom, uniformBelow, uniformBelowSmall, type RandomSource } from '../../../src/mechanism/index.ts';
+import { uniformBelow, uniformBelowSmall, type RandomSource } from '../../../src/mechanism/index.ts';
+import { pooledRandomBytes } from '../../../src/osRandom.ts';
 import { chiSquarePValue } from './support/chiSquare.ts';
 import { seededRandom } from './support/seededRandom.ts';
 
@@ -66,8 +67,9 @@ describe('uniformBelow (rejection sampling, no modulo)', () => {
   });
 });
 
-describe('cryptoRandom', () => {
+describe('the operating system’s source the shells pass in (src/osRandom.ts)', () => {
   it('returns the requested number of bytes, fresh each time, across pool refills', () => {
+    const cryptoRandom = pooledRandomBytes();
     const seen = new Set<string>();
     for (let i = 0; i < 600; i += 1) {
       const bytes = cryptoRandom(16);
