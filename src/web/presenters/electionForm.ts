@@ -5,7 +5,7 @@ import type { ElectionFormValues } from '../routes/organise/electionSchema.ts';
 import { summaryOf, type FieldErrors } from '../routes/organise/forms.ts';
 import { guidanceFor, type GuidanceView } from './guidance.ts';
 import { ruleComparisonFor, type RuleComparisonView } from './ruleComparison.ts';
-import { DEFAULT_DRAW_RULE, drawRuleOr } from '../../mechanism/index.ts';
+import { DEFAULT_DRAW_RULE, RULES, drawRuleOr, type DrawRule } from '../../mechanism/index.ts';
 
 export const DEFAULT_ROWS = 4;
 export const DEFAULT_EPSILON = '1';
@@ -90,6 +90,8 @@ export interface ElectionFormView {
   zones: string[];
   guidance: GuidanceView;
   ruleComparison: RuleComparisonView;
+  /** The draw rules' radio buttons, one per rule of the registry (src/mechanism/rules/). */
+  ruleChoices: { id: DrawRule; label: string; checked: boolean }[];
   ambiguous: string[];
   canAddRows: boolean;
   /** The group's privacy spending and what this election would add; null until a group and a valid ε are given. */
@@ -151,6 +153,7 @@ export function electionFormView(input: {
       expectedVoters: voters,
       rule,
     }),
+    ruleChoices: RULES.map((r) => ({ id: r.id, label: r.choiceLabel, checked: r.id === rule })),
     ambiguous: input.ambiguous ?? [],
     canAddRows: values.options.length < input.maxRows,
     budget: input.budget ?? null,

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { draftFromValues, readElectionForm } from '../../../src/web/routes/organise/electionSchema.ts';
 import { electionFormView, fieldAnchor } from '../../../src/web/presenters/electionForm.ts';
+import { DRAW_RULES } from '../../../src/mechanism/index.ts';
 
 const body = (over: Record<string, unknown> = {}) => ({
   title: 'Choir programme',
@@ -46,6 +47,17 @@ describe('the election form', () => {
   it('treats unknown radio values as the safe default', () => {
     const v = readElectionForm(body({ neighbour: 'something', publishTurnout: 'maybe', retention: 'forever' }));
     expect(v).toMatchObject({ neighbour: 'replace-one', publishTurnout: 'no', retention: 'shred' });
+  });
+
+  it('offers one radio button per rule of the registry, the chosen one checked, an unknown rule read as the default', () => {
+    const checkedFor = (rule: string) =>
+      electionFormView({ electionId: null, values: readElectionForm(body({ rule })), maxRows: 120 })
+        .ruleChoices.filter((c) => c.checked)
+        .map((c) => c.id);
+    const choices = electionFormView({ electionId: null, values: readElectionForm(body()), maxRows: 120 }).ruleChoices;
+    expect(choices.map((c) => c.id)).toEqual([...DRAW_RULES]);
+    for (const rule of DRAW_RULES) expect(checkedFor(rule)).toEqual([rule]);
+    expect(checkedFor('coin')).toEqual([DRAW_RULES[0]]);
   });
 
   it('adds spare rows on request, never beyond the maximum', () => {
