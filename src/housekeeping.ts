@@ -1,6 +1,7 @@
 import { deleteExpiredSessions } from './accounts/sessionRepo.ts';
 import { publishDue } from './elections/publishResult.ts';
 import { shredDue } from './elections/shred.ts';
+import { sendDueMail } from './elections/sendMail.ts';
 import type { UseCaseContext } from './elections/context.ts';
 import type { Logger } from './log.ts';
 
@@ -35,7 +36,7 @@ interface RawConnection {
  * directory is enforced by its lock (db/dirLock.ts). If the lock cannot even be asked for (database
  * unreachable) the jobs run anyway, so each reports its own failure.
  */
-export async function withHousekeepingLock(ctx: UseCaseContext, round: () => Promise<void>): Promise<boolean> {
+export async function withHousekeepingLock(ctx: UseCaseContext, round: () => Promise<void>, name = 'housekeeping'): Promise<boolean> {
   if (ctx.engine !== 'postgres') {
     await round();
     return true;
@@ -48,7 +49,8 @@ export async function withHousekeepingLock(ctx: UseCaseContext, round: () => Pro
     await round();
     return true;
   }
-  const key = "hashtext(current_schema() || ' veiltally housekeeping')";
+  if (!/^[a-z]+$/.test(name)) throw new Error('a lock name is lower-case letters');
+  const key = `hashtext(current_schema() || ' veiltally ${name}')`;
   try {
     const got = await conn.query(`SELECT pg_try_advisory_lock(${key}) AS ok`);
     if (got.rows[0]?.ok !== true) return false;
@@ -89,4 +91,45 @@ export function startHousekeeping(ctx: UseCaseContext, logger: Logger, everyMs =
   timer.unref();
   void tick();
   return { stop: () => clearInterval(timer) };
+}
+
+/**
+ * Mail to rosters (src/elections/sendMail.ts): a loop of its own, every few seconds, so an
+ * invitation goes out soon after opening rather than at the next chore round. One instance at a
+ * time holds the mail lock for a whole round; the round begins by withdrawing whatever a dead
+ * round left pending, which is only safe because nobody else can be sending meanwhile. On PGlite
+ * the directory lock already makes this the only process. The log gets counts, never an address.
+ */
+export function startMailLoop(ctx: UseCaseContext, logger: Logger, everyMs = 2_000): { stop(): Promise<void> } {
+  let current: Promise<void> | null = null;
+  const round = async () => {
+    try {
+      await withHousekeepingLock(
+        ctx,
+        async () => {
+          const r = await sendDueMail(ctx);
+          if (r.sent + r.failed + r.withdrawn > 0) logger.info({ sent: r.sent, failed: r.failed, withdrawn: r.withdrawn }, 'mail round');
+        },
+        'mail',
+      );
+    } catch (e) {
+      logger.error({ err: { name: (e as Error)?.name, message: (e as Error)?.message } }, 'mail round failed');
+    }
+  };
+  const tick = () => {
+    if (current || !ctx.mail) return;
+    current = round().finally(() => {
+      current = null;
+    });
+  };
+  const timer = setInterval(tick, everyMs);
+  timer.unref();
+  tick();
+  return {
+    /** Stops the loop; resolves once a round in progress has finished. */
+    stop: async () => {
+      clearInterval(timer);
+      await current;
+    },
+  };
 }

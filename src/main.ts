@@ -9,7 +9,7 @@ import { loadSecrets } from './secrets.ts';
 import { checkSecretsAgree, SecretsDisagree } from './instanceCheck.ts';
 import { createApp } from './web/app.ts';
 import { answerClientError } from './web/middleware/security.ts';
-import { startHousekeeping } from './housekeeping.ts';
+import { startHousekeeping, startMailLoop } from './housekeeping.ts';
 import { registerSigningKey } from './elections/signingKeyRepo.ts';
 import { createMailer } from './mail/createMailer.ts';
 
@@ -67,6 +67,7 @@ async function start(): Promise<void> {
   const address = server.address();
   const port = typeof address === 'object' && address ? address.port : config.port;
   const housekeeping = startHousekeeping(ctx, logger);
+  const mailLoop = startMailLoop(ctx, logger);
   logger.info({ url: `http://${config.host}:${port}`, db: db.engine }, `Veiltally listening on http://${config.host}:${port}`);
 
   let stopping = false;
@@ -78,7 +79,9 @@ async function start(): Promise<void> {
     stopping = true;
     logger.info({ signal }, 'shutting down: finishing requests in flight');
     housekeeping.stop();
+    const mailStopped = mailLoop.stop();
     server.close(async () => {
+      await mailStopped;
       await mailer.close().catch(() => undefined);
       await db.close().catch((e) => logger.error({ err: e }, 'database did not close cleanly'));
       logger.info('stopped');

@@ -180,3 +180,12 @@ export class CodeBatchUnknown extends VeiltallyError {
     super('Those ballot codes were not issued for this election, so there is nothing to download. Issue new codes instead.');
   }
 }
+
+/** A roster election needs at least one member to mail a code to. */
+export class RosterEmpty extends VeiltallyError {
+  readonly code = 'RosterEmpty';
+  override readonly status = 409;
+  constructor() {
+    super('The roster of this election has no members, so nobody would get a code. Add members to the roster first, then open.');
+  }
+}

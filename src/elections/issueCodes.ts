@@ -33,6 +33,11 @@ export async function issueCodes(
     if (!(e.state === 'draft' || (e.state === 'open' && now < e.closesAt))) {
       throw new ElectionStateConflict('Ballot codes can only be issued before voting closes.');
     }
+    if (e.rosterId) {
+      throw new ElectionStateConflict(
+        'This election’s electorate is a roster: the site mails each member their own code when it opens, and no code is ever shown to you. Choose printed codes on the draft to issue codes here.',
+      );
+    }
     const seed = Buffer.from(ctx.random(BATCH_SEED_BYTES));
     if (seed.length !== BATCH_SEED_BYTES) throw new Error('random source returned the wrong number of bytes');
     const codes: string[] = [];

@@ -137,6 +137,8 @@ export interface DashboardView {
   can: {
     edit: boolean;
     issueCodes: boolean;
+    /** A roster election: the mail page (invitations, notices, delivery states). */
+    mail: boolean;
     open: boolean;
     close: boolean;
     tally: boolean;
@@ -205,7 +207,8 @@ export function dashboardView(d: Dashboard): DashboardView {
     protection: protectionOf(e),
     can: {
       edit: isEditable(e),
-      issueCodes: e.state === 'draft' || (e.state === 'open' && d.now < e.closesAt),
+      issueCodes: !e.rosterId && (e.state === 'draft' || (e.state === 'open' && d.now < e.closesAt)),
+      mail: e.rosterId !== null,
       open: e.state === 'draft',
       close: canCloseEarly(e, d.now),
       tally: canTally(e, d.now),

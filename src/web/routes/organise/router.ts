@@ -11,6 +11,7 @@ import { organiserRoutes } from './organiserRoutes.ts';
 import { resumeRoutes } from './resumeForm.ts';
 import { demoRoutes } from './demoRoutes.ts';
 import { rosterRoutes } from './rosterRoutes.ts';
+import { mailRoutes } from './mailRoutes.ts';
 
 /**
  * The organiser area, /organise/**. First run, sign-in and sign-out come first; every other
@@ -25,6 +26,7 @@ export function organiseRouter(deps: AppDeps): Router {
   // "new" is matched before ":id", so the order of these matters.
   router.use(electionRoutes(deps));
   router.use(codeRoutes(deps));
+  router.use(mailRoutes(deps));
   router.use(tallyRoutes(deps));
   router.use(dashboardRoutes(deps));
   router.use(basicsRoutes(deps));
