@@ -10,7 +10,7 @@ import { FIXTURE_PASSWORD, castAll, createDraft, openElectionFixture, tallyFixtu
  * inside its own box instead. Measured as the document's scrollWidth against the viewport's
  * width (CSSOM View, scrollWidth), on the pages whose tables overflowed: the signing keys, the
  * organisers, a group's privacy ledger, "Choosing ε" and the ballot codes. And the ballot link's
- * code field is on the first screen, at 390 × 700 and on a desktop.
+ * code field is on the first screen, at 390 × 700 and on a desktop; the result and its minutes print on one A4 sheet.
  */
 const env = useMemberBrowser();
 const NARROW = { width: 390, height: 700 } as const;
@@ -109,6 +109,8 @@ describe('phone widths, in Chromium', () => {
       await screenshot(page, `phone-${name}`);
     };
     await measure('result');
+    await page.goto(`${env.server.url}/results/${boat.id}/minutes`);
+    await measure('minutes');
     for (const [name, path] of [
       ['keys', '/keys'],
       ['ledger', ledgerHref!],
@@ -137,6 +139,25 @@ describe('phone widths, in Chromium', () => {
       .map(([name, m]) => `${name}: ${m.scrollWidth} px in ${m.clientWidth} (${m.culprits.join(', ')})`);
     expect(wide).toEqual([]);
     expect(findings).toEqual([]);
-    expect(Object.keys(measured)).toHaveLength(9);
+    expect(Object.keys(measured)).toHaveLength(10);
+  });
+
+  it('the result page and its minutes each print on one A4 sheet, the minutes led by the sentence to read aloud', async () => {
+    const context = await env.browser.newContext({ viewport: DESKTOP });
+    const page = await context.newPage();
+    for (const [name, path] of [
+      ['result', `/results/${boat.id}`],
+      ['minutes', `/results/${boat.id}/minutes`],
+    ] as const) {
+      await page.goto(`${env.server.url}${path}`);
+      await expect(page.locator('.read-aloud').innerText()).resolves.toMatch(/^In the vote “.+”, .+ was drawn as the winner, at random/);
+      await page.emulateMedia({ media: 'print' });
+      await screenshot(page, `print-${name}`);
+      const pdf = await page.pdf({ format: 'A4' });
+      // Each page of a PDF is one "/Type /Page" object (ISO 32000-1 §7.7.3.3); "/Type /Pages" is the tree node.
+      expect(pdf.toString('latin1').match(/\/Type\s*\/Page(?!s)/g)?.length, name).toBe(1);
+      await page.emulateMedia({ media: 'screen' });
+    }
+    await context.close();
   });
 });

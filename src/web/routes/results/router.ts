@@ -11,6 +11,7 @@ import { ReceiptMalformed } from '../../../custody/errors.ts';
 import { resultPageView, type ResultPageView } from '../../presenters/result.ts';
 import { idParam, receiptForm } from './schema.ts';
 import { signedStatementView } from '../../presenters/signedStatement.ts';
+import { announcementText, announcementView, leadSentence } from '../../presenters/announcement.ts';
 
 /** What the receipt form shows after a check: only "counted" or "not found", never more. */
 export interface ReceiptCheckView {
@@ -46,11 +47,36 @@ export function resultsRouter(deps: AppDeps): Router {
     if (page.result) {
       const facts = await loadSignedStatement(ctx, page.id);
       const signed = facts ? signedStatementView(page.id, facts) : null;
-      res.render('results/result', { title: `Result: ${page.title}`, page, result: page.result, receiptCheck, signed });
+      const readAloud = facts ? leadSentence(facts.envelope.statement) : null;
+      res.render('results/result', { title: `Result: ${page.title}`, page, result: page.result, receiptCheck, signed, readAloud });
     } else {
       res.render('results/pending', { title: `Result not yet published: ${page.title}`, page, receiptCheck });
     }
   }
+
+  /** The minutes and the plain-text announcement exist once the result is published, like the statement they are made from. */
+  async function announcement(rawId: unknown) {
+    const e = await publicElection(rawId);
+    if (e.state !== 'published') throw new ElectionNotFound();
+    const facts = await loadSignedStatement(ctx, e.id);
+    if (!facts) throw new ElectionNotFound();
+    return { e, view: announcementView(facts.envelope.statement, e.timeZone, deps.config.publicUrl) };
+  }
+
+  router.get('/results/:id/minutes', async (req, res) => {
+    const { e, view } = await announcement(req.params.id);
+    res.render('results/minutes', {
+      title: `Minutes: ${view.title}`,
+      a: view,
+      resultsPath: `/results/${e.id}`,
+      txtUrl: `/results/${e.id}/announcement.txt`,
+    });
+  });
+
+  router.get('/results/:id/announcement.txt', async (req, res) => {
+    const { view } = await announcement(req.params.id);
+    res.type('text/plain; charset=utf-8').send(announcementText(view));
+  });
 
   router.get('/results/:id', async (req, res) => {
     const e = await publicElection(req.params.id);
