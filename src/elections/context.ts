@@ -5,6 +5,7 @@ import type { KdfParams } from '../custody/kdf.ts';
 import type { RandomSource } from '../mechanism/random.ts';
 import { pooledRandomBytes } from '../osRandom.ts';
 import type { Mailer } from './mailPort.ts';
+import type { TallyProcess } from './tallyClaim.ts';
 
 /** n random bytes. Production passes node:crypto; tests pass a seeded source. The type lives in the core. */
 export type RandomBytes = RandomSource;
@@ -41,6 +42,8 @@ export interface UseCaseContext {
    * the public address the ballot links in the mail point at. Absent: nothing is sent (the CLI).
    */
   readonly mail?: { readonly mailer: Mailer; readonly publicUrl: string };
+  /** The process tallies are claimed for (tallyClaim.ts); absent means this one, THIS_PROCESS. */
+  readonly tallyProcess?: TallyProcess;
 }
 
 export interface LedgerPolicy {

@@ -4,6 +4,7 @@ import { ownedElection } from './electionAccess.ts';
 import type { Election } from './electionRepo.ts';
 import { electionStatus, type ElectionStatus } from './status.ts';
 import { countCodes } from './codeRepo.ts';
+import { THIS_PROCESS, withoutDeadClaim } from './tallyClaim.ts';
 
 export interface Dashboard {
   election: Election;
@@ -21,8 +22,14 @@ export interface Dashboard {
 /** Everything the organiser's election page shows, read in one transaction so the figures agree. */
 export async function loadDashboard(ctx: UseCaseContext, input: { electionId: string; organiserId: string }): Promise<Dashboard> {
   return ctx.knex.transaction(async (trx) => {
-    const election = await ownedElection(trx, input.electionId, input.organiserId, { lock: false });
     const now = ctx.now();
+    // A claim whose process has gone shows as the interrupted attempt it is, so the retry is offered at once.
+    const election = withoutDeadClaim(
+      await ownedElection(trx, input.electionId, input.organiserId, { lock: false }),
+      now,
+      ctx.tallyProcess ?? THIS_PROCESS,
+      ctx.engine,
+    );
     return {
       election,
       status: electionStatus(election, now),

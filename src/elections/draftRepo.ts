@@ -68,6 +68,7 @@ export interface ElectionSummary {
   timeZone: string;
   createdAt: Date;
   tallyStartedAt: Date | null;
+  tallyHeartbeatAt: Date | null;
   resultVisibleAt: Date | null;
 }
 
@@ -89,6 +90,7 @@ export async function listOwnElections(db: Db, ownerId: string): Promise<(Electi
       'time_zone',
       'created_at',
       'tally_started_at',
+      'tally_heartbeat_at',
       'result_visible_at',
     );
   return rows.map((r) => ({
@@ -103,6 +105,7 @@ export async function listOwnElections(db: Db, ownerId: string): Promise<(Electi
     createdAt: new Date(r.created_at),
     shared: r.owner_id !== ownerId,
     tallyStartedAt: r.tally_started_at ? new Date(r.tally_started_at) : null,
+    tallyHeartbeatAt: r.tally_heartbeat_at ? new Date(r.tally_heartbeat_at) : null,
     resultVisibleAt: r.result_visible_at ? new Date(r.result_visible_at) : null,
   }));
 }

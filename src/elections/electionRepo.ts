@@ -40,9 +40,14 @@ export interface Election {
   publishedAt: Date | null;
   shredAfter: Date | null;
   shreddedAt: Date | null;
-  /** A queued tally (closeAndTally.ts): when it was claimed; abandoned once older than TALLY_STALE_MS. */
+  /** A queued tally (closeAndTally.ts): when it was claimed, and its claim. */
   tallyStartedAt: Date | null;
   tallyClaim: string | null;
+  /** Who holds the claim (tallyClaim.ts) and its last heartbeat: abandoned once that process has gone. */
+  tallyHeartbeatAt: Date | null;
+  tallyBootId: string | null;
+  tallyPid: number | null;
+  tallyHost: string | null;
   /** Error code of the last queued tally that stopped without a draw. */
   tallyFailure: string | null;
   /** The whole minute from which the drawn result may be shown (to the organiser first). */
@@ -90,6 +95,10 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     shreddedAt: date(r.shredded_at),
     tallyStartedAt: date(r.tally_started_at),
     tallyClaim: (r.tally_claim as string | null) ?? null,
+    tallyHeartbeatAt: date(r.tally_heartbeat_at),
+    tallyBootId: (r.tally_boot_id as string | null | undefined) ?? null,
+    tallyPid: (r.tally_pid as number | null | undefined) ?? null,
+    tallyHost: (r.tally_host as string | null | undefined) ?? null,
     tallyFailure: (r.tally_failure as string | null) ?? null,
     resultVisibleAt: date(r.result_visible_at),
     publishDueAt: date(r.publish_due_at),

@@ -8,17 +8,22 @@ import type { Election } from './electionRepo.ts';
 export type ElectionStatus = 'draft' | 'scheduled' | 'open' | 'voting-ended' | 'drawing' | 'tallied' | 'published';
 
 /**
- * A queued tally whose process died leaves its claim behind; after this long the claim is
- * abandoned and the election is simply closed again (nothing was drawn: the draw commits with
- * the result). Far above any real tally (a million ballots count in under a minute on two cores).
+ * A running tally refreshes its claim's heartbeat every few seconds (tallyClaim.ts); a claim whose
+ * heartbeat is older than this is abandoned and the election is simply closed again (nothing was
+ * drawn: the draw commits with the result). A claim whose process is known to have gone (embedded
+ * database, or the same host) is abandoned at once, without waiting for this (claimHeld).
  */
-export const TALLY_STALE_MS = 15 * 60_000;
+export const HEARTBEAT_STALE_MS = 30_000;
 
-type StatusFields = Pick<Election, 'state' | 'opensAt' | 'closesAt'> & Partial<Pick<Election, 'tallyStartedAt' | 'resultVisibleAt'>>;
+type StatusFields = Pick<Election, 'state' | 'opensAt' | 'closesAt'> &
+  Partial<Pick<Election, 'tallyStartedAt' | 'tallyHeartbeatAt' | 'resultVisibleAt'>>;
 
-/** A tally claimed and not yet abandoned. */
-export function tallyInProgress(e: Partial<Pick<Election, 'state' | 'tallyStartedAt'>>, now: Date): boolean {
-  return (e.state === 'closed' || e.state === 'open') && e.tallyStartedAt != null && now.getTime() - e.tallyStartedAt.getTime() < TALLY_STALE_MS;
+/** A tally claimed whose heartbeat is fresh (a claim from before heartbeats counts from its start). */
+export function tallyInProgress(e: Partial<Pick<Election, 'state' | 'tallyStartedAt' | 'tallyHeartbeatAt'>>, now: Date): boolean {
+  const last = e.tallyHeartbeatAt ?? e.tallyStartedAt;
+  return (
+    (e.state === 'closed' || e.state === 'open') && e.tallyStartedAt != null && last != null && now.getTime() - last.getTime() < HEARTBEAT_STALE_MS
+  );
 }
 
 /** Drawn, but shown to nobody before its whole minute, so the count's duration shows nowhere. */

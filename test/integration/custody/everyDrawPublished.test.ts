@@ -1,15 +1,27 @@
+import { spawnSync } from 'node:child_process';
+import crypto from 'node:crypto';
+import { hostname } from 'node:os';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { WrongPassphrase } from '../../../src/custody/index.ts';
 import { castBallot } from '../../../src/elections/castBallot.ts';
-import { MAX_PREVIEW_MS, closeAndTally, queueTally, revealMinute, runQueuedTally } from '../../../src/elections/closeAndTally.ts';
+import {
+  MAX_PREVIEW_MS,
+  closeAndTally,
+  queueTally,
+  releaseAbandonedTallies,
+  revealMinute,
+  runQueuedTally,
+} from '../../../src/elections/closeAndTally.ts';
 import { findElection } from '../../../src/elections/electionRepo.ts';
 import { AlreadyTallied, ResultNotPublished, TallyInProgress } from '../../../src/elections/errors.ts';
 import { issueCodes } from '../../../src/elections/issueCodes.ts';
 import { publishDue } from '../../../src/elections/publishResult.ts';
 import { shredElection } from '../../../src/elections/shred.ts';
-import { TALLY_STALE_MS, electionStatus } from '../../../src/elections/status.ts';
+import { HEARTBEAT_STALE_MS, electionStatus } from '../../../src/elections/status.ts';
+import { TallyProcess, beat } from '../../../src/elections/tallyClaim.ts';
+import { loadDashboard } from '../../../src/elections/dashboard.ts';
 import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
-import { PASSPHRASE, electionRow, scene } from './_fixtures.ts';
+import { PASSPHRASE, electionRow, scene, type Scene } from './_fixtures.ts';
 
 /**
  * Re-roll by withholding: a draw kept private could be shredded and made again in a new election,
@@ -84,27 +96,98 @@ describe.each(engines)('every draw is published; the tally leaves the request pa
     expect(electionStatus(e, new Date('2026-06-08T09:02:00Z'))).toBe('tallied');
   });
 
-  it('a process that dies mid-tally drew nothing; after the stale limit the tally can be queued again, and a late zombie draws nothing', async () => {
-    const s = await closedWithBallots();
-    const zombie = await queueTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE });
-    // The process "dies" here: zombie never runs (yet). The election is closed and drawing.
-    let e = (await findElection(db.knex, s.electionId))!;
-    expect([e.state, e.result, electionStatus(e, s.clock.now())]).toEqual(['closed', null, 'drawing']);
-    await expect(queueTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE })).rejects.toBeInstanceOf(
-      TallyInProgress,
-    );
-    s.clock.advance(TALLY_STALE_MS);
-    e = (await findElection(db.knex, s.electionId))!;
-    expect(electionStatus(e, s.clock.now())).toBe('voting-ended');
-    const fresh = await queueTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE });
-    expect(await runQueuedTally(s.ctx, zombie)).toBeNull(); // its claim was taken over: nothing drawn
-    expect((await electionRow(db, s.electionId)).result).toBeNull();
-    const outcome = await runQueuedTally(s.ctx, fresh);
-    expect(outcome!.winners).toHaveLength(1);
+  /** A process that has ended: a pid that existed on this host and no longer does. */
+  function goneProcess(host = hostname()): TallyProcess {
+    const child = spawnSync(process.execPath, ['-e', '']);
+    return new TallyProcess(crypto.randomUUID(), child.pid!, host);
+  }
+
+  async function drawnOnce(s: Scene) {
     await expect(closeAndTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE })).rejects.toBeInstanceOf(
       AlreadyTallied,
     );
     expect(await db.knex('audit_events').where({ election_id: s.electionId, action: 'tallied' })).toHaveLength(1);
+    expect(await db.knex('statements').where({ election_id: s.electionId })).toHaveLength(1);
+  }
+
+  // Failed first: with the 15-minute claim, the retry right after the "crash" raised TallyInProgress.
+  it('a tally whose process died mid-way is retried at once, draws once, and the dead run draws nothing', async () => {
+    const s = await closedWithBallots();
+    const dead = goneProcess();
+    const zombie = await queueTally(
+      { ...s.ctx, tallyProcess: dead },
+      { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE },
+    );
+    // The process "dies" here: its tally never ran (yet). The election is closed; the claim names the gone process.
+    const row = await electionRow(db, s.electionId);
+    expect([row.state, row.result, row.tally_boot_id, row.tally_pid]).toEqual(['closed', null, dead.bootId, dead.pid]);
+    const dash = await loadDashboard(s.ctx, { electionId: s.electionId, organiserId: s.organiserId });
+    expect([dash.status, dash.election.tallyFailure]).toEqual(['voting-ended', 'TallyInterrupted']);
+
+    s.clock.advance(1000); // no waiting for a stale limit
+    const fresh = await queueTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE });
+    expect(await runQueuedTally({ ...s.ctx, tallyProcess: dead }, zombie)).toBeNull(); // its claim was taken over: nothing drawn
+    expect((await electionRow(db, s.electionId)).result).toBeNull();
+    const outcome = await runQueuedTally(s.ctx, fresh);
+    expect(outcome!.winners).toHaveLength(1);
+    const after = await electionRow(db, s.electionId);
+    expect([after.tally_claim, after.tally_boot_id, after.tally_pid, after.tally_heartbeat_at]).toEqual([null, null, null, null]);
+    await drawnOnce(s);
+  });
+
+  it('start-up housekeeping releases a dead claim and records the interruption; a claim this process runs is kept', async () => {
+    const s = await closedWithBallots();
+    await queueTally({ ...s.ctx, tallyProcess: goneProcess() }, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE });
+    const mine = await closedWithBallots();
+    const q = await queueTally(mine.ctx, { electionId: mine.electionId, organiserId: mine.organiserId, passphrase: PASSPHRASE });
+    expect(await releaseAbandonedTallies(s.ctx)).toBe(1);
+    const row = await electionRow(db, s.electionId);
+    expect([row.state, row.tally_claim, row.tally_failure, row.result_visible_at]).toEqual(['closed', null, 'TallyInterrupted', null]);
+    // This process holds the other claim, however old its heartbeat looks on the test clock.
+    mine.clock.advance(HEARTBEAT_STALE_MS * 10);
+    await expect(queueTally(mine.ctx, { electionId: mine.electionId, organiserId: mine.organiserId, passphrase: PASSPHRASE })).rejects.toBeInstanceOf(
+      TallyInProgress,
+    );
+    expect((await electionRow(db, mine.electionId)).tally_claim).toBe(q.claim);
+    expect((await runQueuedTally(mine.ctx, q))!.winners).toHaveLength(1);
+    await drawnOnce(mine);
+  });
+
+  it('a claim held on another host waits for its heartbeat to stop (PostgreSQL); on the embedded database it is gone', async () => {
+    const s = await closedWithBallots();
+    const elsewhere = new TallyProcess(crypto.randomUUID(), process.pid, 'another-host.example');
+    const zombie = await queueTally(
+      { ...s.ctx, tallyProcess: elsewhere },
+      { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE },
+    );
+    const input = { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE };
+    if (engine === 'postgres') {
+      await expect(queueTally(s.ctx, input)).rejects.toBeInstanceOf(TallyInProgress);
+      s.clock.advance(HEARTBEAT_STALE_MS - 1000);
+      await beat(db.knex, s.electionId, zombie.claim, s.clock.now()); // it is alive: the heartbeat keeps the claim
+      s.clock.advance(HEARTBEAT_STALE_MS - 1000);
+      await expect(queueTally(s.ctx, input)).rejects.toBeInstanceOf(TallyInProgress);
+      s.clock.advance(2000);
+    }
+    const fresh = await queueTally(s.ctx, input);
+    expect(await runQueuedTally({ ...s.ctx, tallyProcess: elsewhere }, zombie)).toBeNull();
+    expect((await runQueuedTally(s.ctx, fresh))!.winners).toHaveLength(1);
+    await drawnOnce(s);
+  });
+
+  it('twenty tally requests at once take turns: the first claims, the others find it claimed without unwrapping; one draw', async () => {
+    const s = await closedWithBallots();
+    const input = { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE };
+    // The 19 after the first carry a wrong passphrase: had any of them run Argon2id (concurrently,
+    // each with its own working memory), it would have answered WrongPassphrase.
+    const settled = await Promise.allSettled(
+      Array.from({ length: 20 }, (_x, i) => queueTally(s.ctx, i === 0 ? input : { ...input, passphrase: `wrong guess ${i}` })),
+    );
+    const claimed = settled.flatMap((r) => (r.status === 'fulfilled' ? [r.value] : []));
+    expect(claimed).toHaveLength(1);
+    for (const r of settled) if (r.status === 'rejected') expect(r.reason).toBeInstanceOf(TallyInProgress);
+    expect((await runQueuedTally(s.ctx, claimed[0]!))!.winners).toHaveLength(1);
+    await drawnOnce(s);
   });
 
   it.runIf(engine === 'postgres')('a wrong passphrase is refused while another transaction holds the election row lock (no queue)', async () => {

@@ -22,6 +22,8 @@ function failureMessage(e: Dashboard['election']): string | null {
   if (e.tallyFailure === 'BallotUnreadable') {
     return 'The last attempt stopped because some sealed ballots could not be opened with this election’s key, so nothing was drawn. Ask the operator to check the database before trying again.';
   }
+  if (e.tallyFailure === 'TallyInterrupted')
+    return 'The last attempt to draw the result did not finish (the server stopped while counting), so nothing was drawn. Enter the passphrase to try again.';
   if (e.tallyFailure) return 'The last attempt to draw the result stopped before the end, so nothing was drawn. Enter the passphrase to try again.';
   if (e.tallyStartedAt && e.state === 'closed')
     return 'The last attempt to draw the result did not finish (the server may have restarted), so nothing was drawn. Enter the passphrase to try again.';
