@@ -91,6 +91,7 @@ export const exponentialRule = defineRule({
   name: 'the exponential mechanism',
   sentence:
     'Draw rule: the exponential mechanism. Each option’s chance grows with its approvals: every extra approval multiplies its weight in the draw by the same factor.',
+  heading: 'Exponential mechanism',
   choiceLabel: 'The exponential mechanism (the usual rule): each option’s chance grows with its approvals',
   commandLineNote: 'the exponential mechanism',
   scaleRole: 'in P(option) ∝ exp(a · approvals) of the exponential mechanism',

@@ -125,6 +125,7 @@ export const permuteAndFlipRule = defineRule({
   name: 'permute-and-flip',
   sentence:
     'Draw rule: permute-and-flip. The options are put in a random order and each in turn is kept or passed over by a weighted coin; the most approved option is always kept when its turn comes, so on average the winner has at least as many approvals as under the exponential mechanism, with the same privacy.',
+  heading: 'Permute-and-flip',
   choiceLabel: 'Permute-and-flip: the same privacy, and on average a winner with at least as many approvals',
   commandLineNote: 'McKenna & Sheldon 2020: same ε, never a larger expected shortfall',
   scaleRole: 'in each coin exp(−a · (top approvals − approvals)) of permute-and-flip (McKenna & Sheldon 2020)',

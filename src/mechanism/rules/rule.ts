@@ -20,6 +20,8 @@ export interface DrawRuleModule<Id extends string = string, Mechanism extends st
   readonly name: string;
   /** One sentence for the ballot page, the result page and the statement text. */
   readonly sentence: string;
+  /** The rule as a table column's heading, e.g. "Exponential mechanism". */
+  readonly heading: string;
   /** The organiser form's radio-button label for the rule. */
   readonly choiceLabel: string;
   /** A few words beside the rule's id in the command line's usage text. */

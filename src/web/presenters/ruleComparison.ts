@@ -1,4 +1,4 @@
-import { PLAUSIBLE_LEAD_FRACTION, RULE_NAMES, leadChance, makeDraw, type DrawRule } from '../../mechanism/index.ts';
+import { PLAUSIBLE_LEAD_FRACTION, RULES, RULE_NAMES, leadChance, makeDraw, type DrawRule } from '../../mechanism/index.ts';
 
 /**
  * A lead of one voter in four: our own planning picture of a clear favourite (not a theorem),
@@ -22,7 +22,10 @@ export type RuleComparisonView =
       chosen: DrawRule;
       chosenName: string;
       question: string;
-      rows: { scenario: string; lead: number; exponential: string; permuteAndFlip: string }[];
+      /** One column per rule of the registry (src/mechanism/rules/), in its order. */
+      rules: { id: DrawRule; heading: string }[];
+      /** chances[i] is the chance under rules[i]. */
+      rows: { scenario: string; lead: number; chances: string[] }[];
     };
 
 const pct = (p: number) => `${(Math.floor(p * 1000) / 10).toFixed(1)}%`;
@@ -37,12 +40,10 @@ export function ruleComparisonFor(input: RuleComparisonInput): RuleComparisonVie
   if (voters === null || !Number.isSafeInteger(voters) || voters < 1) {
     return { ready: false, reason: 'Enter the expected number of voters to compare the two draw rules.' };
   }
-  let exponential;
-  let permuteAndFlip;
+  let draws;
   try {
     const settings = { epsilon: input.epsilon.trim(), options: input.options, seats: input.seats, neighbour: input.neighbour };
-    exponential = makeDraw({ ...settings, rule: 'exponential' });
-    permuteAndFlip = makeDraw({ ...settings, rule: 'permute-and-flip' });
+    draws = RULES.map((r) => makeDraw({ ...settings, rule: r.id }));
   } catch {
     return { ready: false, reason: 'Enter valid options, seats and ε to compare the two draw rules.' };
   }
@@ -58,10 +59,7 @@ export function ruleComparisonFor(input: RuleComparisonInput): RuleComparisonVie
       input.seats === 1
         ? `Chance that the favourite wins, with about ${voters} voters`
         : `Chance that the favourite wins one of the ${input.seats} seats, with about ${voters} voters`,
-    rows: scenarios.map((s) => ({
-      ...s,
-      exponential: pct(leadChance(exponential, s.lead).anySeat),
-      permuteAndFlip: pct(leadChance(permuteAndFlip, s.lead).anySeat),
-    })),
+    rules: RULES.map((r) => ({ id: r.id, heading: r.heading })),
+    rows: scenarios.map((s) => ({ ...s, chances: draws.map((draw) => pct(leadChance(draw, s.lead).anySeat)) })),
   };
 }
