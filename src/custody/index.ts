@@ -24,7 +24,7 @@ export {
   MAX_SEALED_OPTIONS,
 } from './ballot.ts';
 export type { OpeningKey } from './ballot.ts';
-export { codeHash, receiptHash, hmacSha256 } from './keyedHash.ts';
+export { codeHash, receiptHash, memberHash, hmacSha256 } from './keyedHash.ts';
 export { signStatement, verifyStatement, publicKeyFromSeed, signingKeyId, keyFingerprint } from './signing.ts';
 export { isUuid, uuidBytes, randomUuid } from './ids.ts';
 export { sodiumRandom, wipe } from './sodium.ts';

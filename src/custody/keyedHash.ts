@@ -27,3 +27,15 @@ export function codeHash(pepper: Uint8Array, electionId: string, canonicalCode: 
 export function receiptHash(pepper: Uint8Array, electionId: string, canonicalReceipt: string): Buffer {
   return keyed(pepper, 'veiltally/receipt/1', electionId, Buffer.from(canonicalReceipt, 'ascii'));
 }
+
+/**
+ * A roster member's key in the privacy ledger: HMAC-SHA-256 under the instance pepper of the
+ * canonical (trimmed, NFC, lower-cased) address, domain "veiltally/member/1". Not bound to an
+ * election or a roster, so every draw over the same person on this instance meets under the same
+ * key, whatever roster they were on. Without the pepper the hash cannot be tested against a
+ * guessed address; whoever holds the pepper (the operator) can.
+ */
+export function memberHash(pepper: Uint8Array, canonicalAddress: string): Buffer {
+  if (pepper.byteLength < 32) throw new RangeError('the pepper must have at least 32 bytes');
+  return hmacSha256(pepper, Buffer.concat([Buffer.from('veiltally/member/1\0', 'utf8'), Buffer.from(canonicalAddress, 'utf8')]));
+}

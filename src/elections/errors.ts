@@ -172,6 +172,24 @@ export class OverBudget extends VeiltallyError {
   }
 }
 
+/**
+ * Opening a roster election would take a member past the annual ε budget, counting every draw on
+ * this instance over the same address (whatever roster it was on). Says only the most any member
+ * would reach, not who nor how many.
+ */
+export class MemberOverBudget extends VeiltallyError {
+  readonly code = 'MemberOverBudget';
+  override readonly status = 409;
+  constructor(projected: string, budget: string) {
+    super(
+      `Opening this election would bring a member of the roster to ε = ${projected} for how they voted over 12 months, ` +
+        `past the annual budget of ε = ${budget}. Each member's spending counts every draw on this instance over their address, ` +
+        'whatever roster it was on. Wait until older draws leave the 12-month window, lower ε, ' +
+        'or ask the operator to allow going over the budget (VEILTALLY_ALLOW_OVER_BUDGET).',
+    );
+  }
+}
+
 /** A code batch asked for again that this election never issued (or of another size). */
 export class CodeBatchUnknown extends VeiltallyError {
   readonly code = 'CodeBatchUnknown';

@@ -1,7 +1,30 @@
-import { checkBudget, howVotedCost, ledgerTotals, sumEpsilons, yearBefore, type BudgetCheck, type LedgerTotals } from '../mechanism/index.ts';
+import {
+  checkBudget,
+  checkMemberBudget,
+  howVotedCost,
+  ledgerTotals,
+  mostSpentByAMember,
+  sumEpsilons,
+  yearBefore,
+  type BudgetCheck,
+  type LedgerEntry,
+  type LedgerTotals,
+  type MemberBudgetCheck,
+} from '../mechanism/index.ts';
 import type { Db } from '../db/knex.ts';
 import { DEFAULT_LEDGER_POLICY, type UseCaseContext } from './context.ts';
-import { electionOwner, findGroup, findGroupByName, listLedger, pendingDraws, type LedgerRow, type MemberGroup } from './ledgerRepo.ts';
+import {
+  electionOwner,
+  electionsOfMembers,
+  electionsWithCharges,
+  findGroup,
+  findGroupByName,
+  listLedger,
+  pendingDraws,
+  type ElectorateElection,
+  type LedgerRow,
+  type MemberGroup,
+} from './ledgerRepo.ts';
 import { NotFound } from '../errors.ts';
 
 export { DEFAULT_GROUP_NAME } from './ledgerRepo.ts';
@@ -76,4 +99,86 @@ export async function budgetPreview(
 /** A member group's name, for the election form; empty when the election has no group yet (or the group is gone). */
 export async function groupNameOf(ctx: UseCaseContext, groupId: string | null): Promise<string> {
   return groupId ? ((await findGroup(ctx.knex, groupId))?.name ?? '') : '';
+}
+
+/**
+ * The history of every member of a roster election's electorate (fixed at its opening): for each
+ * member, the elections over them, this one excluded. Members with the same elections share one
+ * list, so a roster of thousands who always vote together costs one list.
+ */
+async function memberHistories(db: Db, electionId: string): Promise<Map<string, ElectorateElection[]>> {
+  const pairs = await electionsOfMembers(db, electionId);
+  const ids = new Map<string, string[]>();
+  for (const p of pairs) {
+    const list = ids.get(p.member) ?? [];
+    if (p.electionId !== electionId) list.push(p.electionId);
+    ids.set(p.member, list);
+  }
+  const elections = new Map((await electionsWithCharges(db, [...new Set(pairs.map((p) => p.electionId))])).map((e) => [e.id, e]));
+  const shared = new Map<string, ElectorateElection[]>();
+  const out = new Map<string, ElectorateElection[]>();
+  for (const [member, list] of ids) {
+    const key = [...list].sort().join(',');
+    let history = shared.get(key);
+    if (!history) {
+      history = list.map((id) => elections.get(id)!);
+      shared.set(key, history);
+    }
+    out.set(member, history);
+  }
+  return out;
+}
+
+export interface MemberBudgetPreview extends MemberBudgetCheck {
+  allowOverBudget: boolean;
+}
+
+/**
+ * What drawing this roster election at its ε would do to each member's 12-month total: their
+ * charged draws in the window, the elections over them open and not drawn yet, and this one. The
+ * electorate must already be recorded (openElection records it first, in the same transaction).
+ */
+export async function memberBudgetPreview(
+  db: Db,
+  ctx: Pick<UseCaseContext, 'now' | 'ledgerPolicy'>,
+  input: { electionId: string; epsilon: string; neighbour: 'replace-one' | 'add-remove' },
+): Promise<MemberBudgetPreview> {
+  const policy = ctx.ledgerPolicy ?? DEFAULT_LEDGER_POLICY;
+  const since = yearBefore(ctx.now());
+  const histories = await memberHistories(db, input.electionId);
+  const costs = new Map<ElectorateElection[], { spent: string[]; pending: string[] }>();
+  const members = new Map<string, { spent: string[]; pending: string[] }>();
+  for (const [member, history] of histories) {
+    let c = costs.get(history);
+    if (!c) {
+      c = {
+        spent: history.filter((e) => e.charge && e.charge.chargedAt > since).map((e) => e.charge!.howVotedEpsilon),
+        pending: history.filter((e) => !e.charge && (e.state === 'open' || e.state === 'closed')).map((e) => howVotedCost(e.epsilon, e.neighbour)),
+      };
+      costs.set(history, c);
+    }
+    members.set(member, c);
+  }
+  const check = checkMemberBudget({ members, next: howVotedCost(input.epsilon, input.neighbour), budget: policy.annualBudget });
+  return { ...check, allowOverBudget: policy.allowOverBudget };
+}
+
+/**
+ * The ledger totals of a roster election's electorate at `at`, this election's own charge
+ * included: each field the most any member has (mostSpentByAMember). For the signed statement.
+ */
+export async function electorateTotals(db: Db, electionId: string, at: Date): Promise<LedgerTotals> {
+  const histories = await memberHistories(db, electionId);
+  const own = (await electionsWithCharges(db, [electionId]))[0]?.charge;
+  const entries = new Map<ElectorateElection[], LedgerEntry[]>();
+  const byMember = new Map<string, LedgerEntry[]>();
+  for (const [member, history] of histories) {
+    let list = entries.get(history);
+    if (!list) {
+      list = [...(own ? [own] : []), ...history.flatMap((e) => (e.charge ? [e.charge] : []))];
+      entries.set(history, list);
+    }
+    byMember.set(member, list);
+  }
+  return mostSpentByAMember(byMember, at);
 }

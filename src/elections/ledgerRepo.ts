@@ -74,7 +74,7 @@ export async function listLedger(db: Db, groupId: string): Promise<LedgerRow[]> 
 
 export async function chargeDraw(
   db: Db,
-  row: { groupId: string; electionId: string; at: Date; howVoted: string; whetherVoted: string; unprotected: readonly UnprotectedRelease[] },
+  row: { groupId: string | null; electionId: string; at: Date; howVoted: string; whetherVoted: string; unprotected: readonly UnprotectedRelease[] },
 ): Promise<void> {
   await db('privacy_ledger').insert({
     group_id: row.groupId,
@@ -102,4 +102,71 @@ export async function pendingDraws(
   const q = db('elections').where({ group_id: groupId }).whereIn('state', ['open', 'closed']);
   if (exceptElectionId) q.whereNot({ id: exceptElectionId });
   return q.select('epsilon', 'neighbour', 'seats');
+}
+
+/**
+ * The electorate a roster election's draw is charged to, fixed at opening: the keyed hashes of its
+ * members' addresses (ledger_electorates, migration 20261203170000). Never an address.
+ */
+export async function insertElectorate(db: Db, electionId: string, hashes: readonly Buffer[]): Promise<void> {
+  const rows = hashes.map((h) => ({ election_id: electionId, member_hash: h }));
+  // Batches keep every statement well under PostgreSQL's 65,535 bind parameters.
+  for (let i = 0; i < rows.length; i += 1000) await db('ledger_electorates').insert(rows.slice(i, i + 1000));
+}
+
+export async function countElectorate(db: Db, electionId: string): Promise<number> {
+  const row = await db('ledger_electorates').where({ election_id: electionId }).first(db.raw('count(*) as n'));
+  return Number(row?.n ?? 0);
+}
+
+/** For each member of this election's electorate (hash in hex), every election whose electorate holds them, this one included. */
+export async function electionsOfMembers(db: Db, electionId: string): Promise<{ member: string; electionId: string }[]> {
+  const rows = await db('ledger_electorates as me')
+    .join('ledger_electorates as o', 'o.member_hash', 'me.member_hash')
+    .where('me.election_id', electionId)
+    .select(db.raw("encode(o.member_hash, 'hex') as member"), 'o.election_id');
+  return rows.map((r) => ({ member: r.member as string, electionId: r.election_id as string }));
+}
+
+export interface ElectorateElection {
+  id: string;
+  state: string;
+  epsilon: string;
+  neighbour: 'replace-one' | 'add-remove';
+  /** The draw's charge, or null while the election is not drawn. */
+  charge: LedgerEntry | null;
+}
+
+/** The elections with these ids, each with its ledger charge if drawn. */
+export async function electionsWithCharges(db: Db, ids: readonly string[]): Promise<ElectorateElection[]> {
+  const out: ElectorateElection[] = [];
+  for (let i = 0; i < ids.length; i += 1000) {
+    const rows = await db('elections as e')
+      .leftJoin('privacy_ledger as l', 'l.election_id', 'e.id')
+      .whereIn('e.id', ids.slice(i, i + 1000))
+      .select('e.id', 'e.state', 'e.epsilon', 'e.neighbour', 'l.charged_at', 'l.how_voted_epsilon', 'l.whether_voted_epsilon', 'l.unprotected');
+    for (const r of rows) {
+      out.push({
+        id: r.id,
+        state: r.state,
+        epsilon: r.epsilon,
+        neighbour: r.neighbour,
+        charge:
+          r.charged_at == null
+            ? null
+            : {
+                chargedAt: new Date(r.charged_at),
+                howVotedEpsilon: r.how_voted_epsilon,
+                whetherVotedEpsilon: r.whether_voted_epsilon,
+                unprotected: json(r.unprotected) as UnprotectedRelease[],
+              },
+      });
+    }
+  }
+  return out;
+}
+
+/** Serialises the openings of roster elections instance-wide, so two cannot both squeeze a member under the budget. */
+export async function lockMemberLedger(db: Db): Promise<void> {
+  await db.raw("SELECT pg_advisory_xact_lock(hashtext('veiltally/member-ledger'))");
 }

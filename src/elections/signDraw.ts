@@ -8,16 +8,18 @@ import {
   unprotectedReleases,
   type ExponentialDraw,
   type StatementEnvelope,
+  type StatementLedger,
 } from '../mechanism/index.ts';
 import type { UseCaseContext } from './context.ts';
 import type { Election } from './electionRepo.ts';
 import { AlreadyTallied } from './errors.ts';
-import { chargeDraw, DEFAULT_GROUP_NAME, findGroup, groupIdFor, listLedger } from './ledgerRepo.ts';
+import { electorateTotals } from './ledger.ts';
+import { chargeDraw, countElectorate, DEFAULT_GROUP_NAME, findGroup, groupIdFor, listLedger } from './ledgerRepo.ts';
 import { registerSigningKey } from './signingKeyRepo.ts';
 
 /**
  * The part of the draw that makes it accountable, run inside the draw's own transaction:
- * charge the member group's ledger (whether or not the result is ever published), take the next
+ * charge the ledger, the members' or the group's (whether or not the result is ever published), take the next
  * instance-wide draw sequence number, and sign the statement for this one election and this one
  * draw. The statements table allows one row per election and, like the ledger, refuses updates
  * and deletes, so the instance never signs two draws for one election.
@@ -30,18 +32,26 @@ export async function chargeAndSign(
   const { election: e, draw, at } = input;
   // One election, one draw: if a statement exists (an election reset behind the app's back), refuse.
   if (await trx('statements').where({ election_id: e.id }).first('draw_sequence')) throw new AlreadyTallied();
-  const groupId = e.groupId ?? (await groupIdFor(trx, e.ownerId, DEFAULT_GROUP_NAME, at));
-  if (!e.groupId) await trx('elections').where({ id: e.id }).update({ group_id: groupId });
-  const group = (await findGroup(trx, groupId))!;
-  await chargeDraw(trx, {
-    groupId,
+  const charge = {
     electionId: e.id,
     at,
     howVoted: draw.privacy.howVoted,
     whetherVoted: draw.privacy.whetherVoted,
     unprotected: unprotectedReleases(e.publishTurnout),
-  });
-  const totals = ledgerTotals(await listLedger(trx, groupId), at);
+  };
+  // A roster election is charged to the members recorded at its opening; printed codes to the owner's group.
+  const members = await countElectorate(trx, e.id);
+  let ledger: StatementLedger;
+  if (members > 0) {
+    await chargeDraw(trx, { groupId: null, ...charge });
+    ledger = { members, ...(await electorateTotals(trx, e.id, at)) };
+  } else {
+    const groupId = e.groupId ?? (await groupIdFor(trx, e.ownerId, DEFAULT_GROUP_NAME, at));
+    if (!e.groupId) await trx('elections').where({ id: e.id }).update({ group_id: groupId });
+    const group = (await findGroup(trx, groupId))!;
+    await chargeDraw(trx, { groupId, ...charge });
+    ledger = { groupId, groupName: group.name, ...ledgerTotals(await listLedger(trx, groupId), at) };
+  }
   const seq = await trx.raw(`SELECT nextval(pg_get_serial_sequence('statements', 'draw_sequence')) AS n`);
   const drawSequence = Number(seq.rows[0].n);
   const key = await registerSigningKey(trx, ctx.secrets.signingSeed, at);
@@ -55,7 +65,7 @@ export async function chargeAndSign(
     optionLabels: e.options.map((o) => o.label),
     winners: input.winners,
     publishedTurnout: e.publishTurnout ? input.ballots : null,
-    ledger: { groupId, groupName: group.name, ...totals },
+    ledger,
   });
   const canonical = canonicalJson(statement);
   const value = signStatement(new TextEncoder().encode(canonical), ctx.secrets.signingSeed).toString('base64url');

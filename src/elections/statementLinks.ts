@@ -1,4 +1,4 @@
-import type { StatementEnvelope } from '../mechanism/index.ts';
+import { isMemberLedger, type StatementEnvelope } from '../mechanism/index.ts';
 import type { UseCaseContext } from './context.ts';
 import { findGroup, type MemberGroup } from './ledgerRepo.ts';
 import { findStatement } from './signDraw.ts';
@@ -17,7 +17,8 @@ export async function loadSignedStatement(ctx: UseCaseContext, electionId: strin
     const signed = await findStatement(trx, electionId);
     if (!signed) return null;
     const key = await findSigningKey(trx, signed.envelope.signature.keyId);
-    const group = await findGroup(trx, signed.envelope.statement.ledger.groupId);
+    const ledger = signed.envelope.statement.ledger;
+    const group = isMemberLedger(ledger) ? null : await findGroup(trx, ledger.groupId);
     return { envelope: signed.envelope, key, group };
   });
 }

@@ -102,3 +102,67 @@ export function checkBudget(input: { spent: string; pending: readonly string[]; 
 export function howVotedCost(epsilon: string, neighbour: 'replace-one' | 'add-remove'): string {
   return neighbour === 'add-remove' ? sumEpsilons([epsilon, epsilon]) : sumEpsilons([epsilon]);
 }
+
+/** Totals for a ledger kept per member: each field is the most any one member of the electorate has. */
+export type MemberLedgerTotals = LedgerTotals;
+
+/**
+ * The ledger of an electorate whose members are known (a roster): each member's own totals over
+ * the 12 months up to `at`, and of these the most any member has, field by field (the member with
+ * the most ε for how they voted need not be the one with the most draws). By basic composition
+ * each member's own sum bounds what all the draws over them together reveal about them; the
+ * maximum bounds it for every member at once. `byMember` maps an opaque member key to that
+ * member's entries; a member with none has spent nothing.
+ */
+export function mostSpentByAMember(byMember: ReadonlyMap<string, readonly LedgerEntry[]>, at: Date): MemberLedgerTotals {
+  const none = ledgerTotals([], at);
+  // Members with the same entries have the same totals: compute each distinct list once.
+  const seen = new Map<readonly LedgerEntry[], LedgerTotals>();
+  let most = none;
+  for (const entries of byMember.values()) {
+    const t = seen.get(entries) ?? ledgerTotals(entries, at);
+    seen.set(entries, t);
+    most = {
+      ...most,
+      draws: Math.max(most.draws, t.draws),
+      howVotedEpsilon: epsilonExceeds(t.howVotedEpsilon, most.howVotedEpsilon) ? t.howVotedEpsilon : most.howVotedEpsilon,
+      whetherVotedEpsilon: epsilonExceeds(t.whetherVotedEpsilon, most.whetherVotedEpsilon) ? t.whetherVotedEpsilon : most.whetherVotedEpsilon,
+      anyoneVotedReleases: Math.max(most.anyoneVotedReleases, t.anyoneVotedReleases),
+      exactTurnoutReleases: Math.max(most.exactTurnoutReleases, t.exactTurnoutReleases),
+    };
+  }
+  return most;
+}
+
+export interface MemberBudgetCheck extends BudgetCheck {
+  /** Members of the electorate. */
+  members: number;
+  /** How many of them one more draw at `next` would take past the budget. */
+  membersOver: number;
+  /** The most ε for how they voted any member has spent in the window (charged draws only). */
+  mostSpent: string;
+  /** `projected` is the most any member would reach: spent + pending + next. */
+}
+
+/**
+ * checkBudget for every member of an electorate: would one more draw at `next` take any member past
+ * the annual budget? Each member's spending is their own charged draws in the window plus the
+ * elections over them that are open and not yet drawn (each will be charged at its draw).
+ */
+export function checkMemberBudget(input: {
+  members: ReadonlyMap<string, { spent: readonly string[]; pending: readonly string[] }>;
+  next: string;
+  budget: string;
+}): MemberBudgetCheck {
+  let projected = sumEpsilons([input.next]);
+  let mostSpent = '0';
+  let membersOver = 0;
+  for (const m of input.members.values()) {
+    const spent = sumEpsilons(m.spent);
+    const check = checkBudget({ spent, pending: m.pending, next: input.next, budget: input.budget });
+    if (check.exceeds) membersOver++;
+    if (epsilonExceeds(check.projected, projected)) projected = check.projected;
+    if (epsilonExceeds(spent, mostSpent)) mostSpent = spent;
+  }
+  return { projected, budget: input.budget, exceeds: membersOver > 0, members: input.members.size, membersOver, mostSpent };
+}

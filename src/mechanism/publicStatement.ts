@@ -57,8 +57,19 @@ export interface PublicStatement {
     unprotected: UnprotectedRelease[];
   };
   bounds: Bounds;
-  ledger: { groupId: string; groupName: string } & LedgerTotals;
+  ledger: StatementLedger;
 }
+
+/**
+ * The ledger at the draw. Printed codes: the organiser's member group, named, and its totals.
+ * A roster: the number of members the draw was charged to, and each total is the most any one of
+ * them has over the 12 months (every draw on the instance over their address counts).
+ */
+export type StatementLedger = GroupStatementLedger | MemberStatementLedger;
+export type GroupStatementLedger = { groupId: string; groupName: string } & LedgerTotals;
+export type MemberStatementLedger = { members: number } & LedgerTotals;
+
+export const isMemberLedger = (l: StatementLedger): l is MemberStatementLedger => 'members' in l;
 
 /** A signed statement as served: the signature covers the RFC 8785 bytes of `statement`. */
 export interface StatementEnvelope {
@@ -83,7 +94,7 @@ export function buildPublicStatement(input: {
   winners: readonly number[] | null;
   /** The exact ballot count only when the organiser publishes it, else null. */
   publishedTurnout: number | null;
-  ledger: { groupId: string; groupName: string } & LedgerTotals;
+  ledger: StatementLedger;
 }): PublicStatement {
   const { draw } = input;
   if (input.rule !== undefined && input.rule !== draw.rule) {
@@ -215,7 +226,9 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
   const l = s.ledger;
   add(
     !epsilonExceeds(draw.privacy.howVoted, l.howVotedEpsilon) && l.draws >= 1 && l.windowEnd === s.drawnAt,
-    `the group's ledger at this draw includes this draw (${l.draws} draw(s) in the 12 months to ${l.windowEnd})`,
+    isMemberLedger(l)
+      ? `the members' ledger at this draw includes this draw (the most any of the ${l.members} members has: ${l.draws} draw(s) in the 12 months to ${l.windowEnd})`
+      : `the group's ledger at this draw includes this draw (${l.draws} draw(s) in the 12 months to ${l.windowEnd})`,
   );
   return checks;
 }

@@ -2,7 +2,7 @@ import fs from 'node:fs';
 import { z } from 'zod';
 import { signingKeyId, verifyStatement } from '../../custody/index.ts';
 import { InvalidInput } from '../../errors.ts';
-import { canonicalJson, recheckStatement, STATEMENT_FORMAT, type StatementEnvelope } from '../../mechanism/index.ts';
+import { canonicalJson, isMemberLedger, recheckStatement, STATEMENT_FORMAT, type StatementEnvelope } from '../../mechanism/index.ts';
 import { schemaProblems } from '../../statement/format.ts';
 import { checkFlags, parseFlags } from '../args.ts';
 import type { Command } from '../io.ts';
@@ -159,7 +159,9 @@ function summary(e: StatementEnvelope): string {
     `What the statement says: election "${shown(s.electionTitle)}" (${s.electionId}), draw number ${s.drawSequence} of this instance, drawn ${s.drawnAt}.`,
     `Released: winners ${winners}; turnout ${turnout}; whether anyone voted (not protected).`,
     `Rule: ${s.mechanism.rule}, ε = ${s.mechanism.epsilon}, ${s.mechanism.seats} seat(s), ${s.mechanism.neighbour} neighbours. How a member voted: ε = ${s.privacy.howVoted.epsilon}; whether: ${whether}.`,
-    `Group "${shown(s.ledger.groupName)}" over the 12 months to this draw: ${s.ledger.draws} draw(s), ε = ${s.ledger.howVotedEpsilon} for how members voted, ε = ${s.ledger.whetherVotedEpsilon} for whether (basic composition, Dwork & Roth 2014, Thm 3.16).`,
+    isMemberLedger(s.ledger)
+      ? `The ${s.ledger.members} members of the roster over the 12 months to this draw, the most any one of them has: ${s.ledger.draws} draw(s), ε = ${s.ledger.howVotedEpsilon} for how they voted, ε = ${s.ledger.whetherVotedEpsilon} for whether (every draw on the instance over their address; basic composition, Dwork & Roth 2014, Thm 3.16).`
+      : `Group "${shown(s.ledger.groupName)}" over the 12 months to this draw: ${s.ledger.draws} draw(s), ε = ${s.ledger.howVotedEpsilon} for how members voted, ε = ${s.ledger.whetherVotedEpsilon} for whether (basic composition, Dwork & Roth 2014, Thm 3.16).`,
   ]
     .map((l) => wrap(l))
     .join('');

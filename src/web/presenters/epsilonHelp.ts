@@ -1,4 +1,4 @@
-import { DEFAULT_DRAW_RULE, RULES, describeBounds, makeDraw, makeExponentialDraw, MAX_DRAW_OPTIONS, type DrawRule } from '../../mechanism/index.ts';
+import { describeBounds, makeExponentialDraw, makePermuteAndFlipDraw, MAX_DRAW_OPTIONS } from '../../mechanism/index.ts';
 
 /** The ε values the comparison table walks through: from strong protection to weak. */
 export const EPSILON_STEPS = ['0.25', '0.5', '1', '1.5', '2', '3', '5'] as const;
@@ -10,8 +10,8 @@ export interface EpsilonRow {
   lead90: number;
   lead95: number;
   lead99: number;
-  /** The lead for 95% under each other rule of the registry (its own leader bound), in the order of otherRules. */
-  otherLeads95: number[];
+  /** The lead for 95% under the second draw rule, permute-and-flip (its own bound, bounds.ts). */
+  pfLead95: number;
 }
 
 export interface EpsilonHelpView {
@@ -19,14 +19,10 @@ export interface EpsilonHelpView {
   seats: number;
   epsilon: string;
   rows: EpsilonRow[];
-  /** The rules besides the default, each with a column of its own lead for 95%. */
-  otherRules: { id: DrawRule; name: string }[];
   /** The same figures `veiltally bounds --options D --epsilon E --seats K` prints, for the chosen ε. */
   bounds: { sentence: string; table: { margin: number; probability: string }[]; lead90: number; lead95: number; lead99: number };
   maxOptions: number;
 }
-
-const OTHER_RULES = RULES.filter((r) => r.id !== DEFAULT_DRAW_RULE);
 
 /**
  * Builds the "Choosing ε" tables from the mechanism module at render time, so the page can never
@@ -45,9 +41,7 @@ export function epsilonHelpView(input: { options: number; seats: number; epsilon
       lead90: b.marginFor['0.9'],
       lead95: b.marginFor['0.95'],
       lead99: b.marginFor['0.99'],
-      otherLeads95: OTHER_RULES.map(
-        (r) => makeDraw({ epsilon, options, seats, neighbour: 'replace-one', rule: r.id }).bounds(0.05).marginFor['0.95'],
-      ),
+      pfLead95: makePermuteAndFlipDraw({ epsilon, options, seats, neighbour: 'replace-one' }).bounds(0.05).marginFor['0.95'],
     };
   });
   const chosen = makeExponentialDraw({ epsilon: input.epsilon, options, seats, neighbour: 'replace-one' }).bounds(0.05);
@@ -56,7 +50,6 @@ export function epsilonHelpView(input: { options: number; seats: number; epsilon
     seats,
     epsilon: input.epsilon,
     rows,
-    otherRules: OTHER_RULES.map((r) => ({ id: r.id, name: r.name })),
     bounds: {
       sentence: describeBounds(chosen, seats, 'future'),
       table: chosen.marginTable.map((r) => ({ margin: r.margin, probability: `${(Math.floor(r.minProbability * 1000) / 10).toFixed(1)}%` })),

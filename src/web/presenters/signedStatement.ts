@@ -1,4 +1,5 @@
 import { keyFingerprint } from '../../custody/index.ts';
+import { isMemberLedger } from '../../mechanism/index.ts';
 import type { SignedStatementFacts } from '../../elections/statementLinks.ts';
 
 /** The signed statement's links and the key fingerprint, shown on every published result page. */
@@ -8,8 +9,11 @@ export interface SignedStatementView {
   fingerprint: string;
   keyUrl: string;
   drawSequence: number;
-  ledgerUrl: string;
-  groupName: string;
+  /** The group's public ledger page; null for a roster, whose members' ledger has no public page. */
+  ledgerUrl: string | null;
+  /** Printed codes: the group's name. A roster: null, and members says how many were charged. */
+  groupName: string | null;
+  members: number | null;
   howVotedTotal: string;
   draws: number;
 }
@@ -23,8 +27,9 @@ export function signedStatementView(electionId: string, facts: SignedStatementFa
     fingerprint: key ? keyFingerprint(key.publicKey) : 'unknown key',
     keyUrl: `/keys/${s.keyId}.json`,
     drawSequence: s.drawSequence,
-    ledgerUrl: `/groups/${s.ledger.groupId}/ledger`,
-    groupName: group?.name ?? s.ledger.groupName,
+    ledgerUrl: isMemberLedger(s.ledger) ? null : `/groups/${s.ledger.groupId}/ledger`,
+    groupName: isMemberLedger(s.ledger) ? null : (group?.name ?? s.ledger.groupName),
+    members: isMemberLedger(s.ledger) ? s.ledger.members : null,
     howVotedTotal: s.ledger.howVotedEpsilon,
     draws: s.ledger.draws,
   };

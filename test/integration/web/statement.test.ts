@@ -6,7 +6,7 @@ import request from 'supertest';
 import { publicKeyFromSeed, signingKeyId } from '../../../src/custody/index.ts';
 import { verifyStatementText } from '../../../src/cli/commands/verify.ts';
 import { main } from '../../../src/cli/main.ts';
-import { canonicalJson, type StatementEnvelope } from '../../../src/mechanism/index.ts';
+import { canonicalJson, type GroupStatementLedger, type StatementEnvelope } from '../../../src/mechanism/index.ts';
 import { schemaProblems } from '../../../src/statement/format.ts';
 import { engines } from '../../helpers/databases.ts';
 import { openStoredBallots } from '../../helpers/fixtures.ts';
@@ -39,9 +39,7 @@ describe.each(engines)('the signed statement, the key and the ledger pages [%s]'
     let cleaned = text
       .replace(/name="_csrf" value="[^"]*"/g, ' ')
       .replace(/ d="[^"]*"/g, ' ')
-      .replace(/[0-9a-f]{4}( [0-9a-f]{4}){15}/g, ' ')
-      // SHA-256 digests written whole (the offline checkers' on /verify): hashes of files, not data.
-      .replace(/\b[0-9a-f]{64}\b/g, ' ');
+      .replace(/[0-9a-f]{4}( [0-9a-f]{4}){15}/g, ' ');
     for (const part of randomParts) cleaned = cleaned.split(part).join(' ');
     return new Set([...cleaned.matchAll(/\d+/g)].map((m) => Number(m[0])));
   }
@@ -81,7 +79,11 @@ describe.each(engines)('the signed statement, the key and the ledger pages [%s]'
     expect(resultPage).toContain(`/results/${d.f.id}/statement.json`);
     const fingerprint = JSON.parse(key).fingerprint as string;
     expect(resultPage).toContain(fingerprint);
-    const ledgerPage = (await request(s.app).get(`/groups/${st.ledger.groupId}/ledger`).expect(200)).text;
+    const ledgerPage = (
+      await request(s.app)
+        .get(`/groups/${(st.ledger as GroupStatementLedger).groupId}/ledger`)
+        .expect(200)
+    ).text;
     expect(ledgerPage).toContain('Rowing club members');
     expect(ledgerPage).toContain('Theorem 3.16');
     const keysPage = (await request(s.app).get('/keys').expect(200)).text;
@@ -90,7 +92,7 @@ describe.each(engines)('the signed statement, the key and the ledger pages [%s]'
     const verifyPage = (await request(s.app).get('/verify').expect(200)).text;
     expect(verifyPage).toContain('veiltally verify');
 
-    const random = [d.f.id, st.ledger.groupId, st.keyId, envelope.signature.value, JSON.parse(key).publicKey];
+    const random = [d.f.id, (st.ledger as GroupStatementLedger).groupId, st.keyId, envelope.signature.value, JSON.parse(key).publicKey];
     for (const [name, page] of Object.entries({ text, resultPage, ledgerPage, keysPage, keysJson, verifyPage, key })) {
       const runs = digitRuns(page, random);
       for (const c of COUNTS.slice(0, 3)) expect(runs.has(c), `count ${c} appears in ${name}`).toBe(false);
