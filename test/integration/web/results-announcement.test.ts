@@ -43,7 +43,7 @@ describe.each(engines)('the result read aloud, in the minutes and as plain text 
     const sentence = `In the vote “Name the new coxed four”, ${winner} was drawn as the winner, at random, weighted toward the options more members approved, with the privacy setting epsilon (ε) at 1.`;
 
     const page = (await request(s.app).get(`/results/${d.f.id}`).expect(200)).text;
-    const lead = /<p class="read-aloud" id="read-aloud">([^<]+)<\/p>/.exec(page)?.[1];
+    const lead = /<p class="read-aloud no-print" id="read-aloud">([^<]+)<\/p>/.exec(page)?.[1];
     expect(lead?.replace(/&#34;/g, '"')).toBe(sentence);
     expect(page.indexOf('id="read-aloud"')).toBeLessThan(page.indexOf('id="winners-heading"'));
     expect(page).toContain(`<a href="/results/${d.f.id}/minutes">For the minutes (print view)</a>`);
