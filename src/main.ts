@@ -8,7 +8,7 @@ import { createLogger } from './log.ts';
 import { loadSecrets } from './secrets.ts';
 import { checkSecretsAgree, SecretsDisagree } from './instanceCheck.ts';
 import { createApp } from './web/app.ts';
-import { answerClientError } from './web/middleware/security.ts';
+import { createHttpServer } from './web/server.ts';
 import { startHousekeeping, startMailLoop } from './housekeeping.ts';
 import { registerSigningKey } from './elections/signingKeyRepo.ts';
 import { createMailer } from './mail/createMailer.ts';
@@ -56,8 +56,7 @@ async function start(): Promise<void> {
   // The active signing key's public half is listed on /keys from the start, before its first statement.
   await registerSigningKey(db.knex, secrets.signingSeed, new Date());
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });
-  const server: Server = app.listen(config.port, config.host);
-  server.on('clientError', answerClientError);
+  const server: Server = createHttpServer(app).listen(config.port, config.host);
   await new Promise<void>((resolve, reject) => {
     server.once('listening', resolve);
     server.once('error', reject);

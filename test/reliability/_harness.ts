@@ -218,6 +218,8 @@ export interface Figures {
   duplicated?: number;
   serverErrors?: number;
   killsSurvived?: number;
+  /** A figure the columns do not hold (a latency, a ratio), printed under the table. */
+  note?: string;
 }
 
 export function record(name: string, f: Figures): void {

@@ -31,6 +31,8 @@ export default function setup(): () => void {
     const widths = heads.map((h, i) => Math.max(h.length, ...body.map((r) => r[i]!.length)));
     const line = (cells: string[]) => cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ');
     process.stdout.write(`\nreliability figures\n${line(heads)}\n${widths.map((w) => '-'.repeat(w)).join('  ')}\n${body.map(line).join('\n')}\n`);
+    const notes = rows.filter((r) => typeof r.note === 'string').map((r) => `  ${String(r.name)}: ${String(r.note)}`);
+    if (notes.length) process.stdout.write(`${notes.join('\n')}\n`);
     fs.rmSync(path.dirname(file), { recursive: true, force: true });
   };
 }

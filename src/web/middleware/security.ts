@@ -83,14 +83,20 @@ export function sameOriginOnly(publicUrl: string): RequestHandler {
 
 /**
  * Node answers some malformed requests itself before Express sees them (an address or headers over
- * its 16 KiB limit: 431; unparseable HTTP: 400), with no headers at all. Give those answers the same
+ * its 16 KiB limit: 431; unparseable HTTP: 400; a request slower than the server's timeouts: 408), with no headers at all. Give those answers the same
  * protective headers as every page. Wire with `server.on('clientError', answerClientError)`.
  */
 export function answerClientError(err: NodeJS.ErrnoException, socket: import('node:stream').Duplex): void {
   if (err.code === 'ECONNRESET' || !socket.writable) return void socket.destroy();
   const tooLarge = err.code === 'HPE_HEADER_OVERFLOW';
-  const status = tooLarge ? '431 Request Header Fields Too Large' : '400 Bad Request';
-  const body = tooLarge ? 'The address or the headers of that request were too long.\n' : 'That request could not be read.\n';
+  // The server's header or request timeout (src/web/server.ts): the request took too long to arrive.
+  const tooSlow = err.code === 'ERR_HTTP_REQUEST_TIMEOUT' || err.code === 'HPE_HEADER_TIMEOUT';
+  const status = tooLarge ? '431 Request Header Fields Too Large' : tooSlow ? '408 Request Timeout' : '400 Bad Request';
+  const body = tooLarge
+    ? 'The address or the headers of that request were too long.\n'
+    : tooSlow
+      ? 'That request took too long to arrive, so the connection was closed. Send it again.\n'
+      : 'That request could not be read.\n';
   socket.end(
     [
       `HTTP/1.1 ${status}`,

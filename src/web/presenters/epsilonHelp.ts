@@ -1,4 +1,8 @@
-import { describeBounds, makeExponentialDraw, makePermuteAndFlipDraw, MAX_DRAW_OPTIONS } from '../../mechanism/index.ts';
+import { describeBounds, makeExponentialDraw, makePermuteAndFlipDraw } from '../../mechanism/index.ts';
+import { DRAFT_LIMITS } from '../../elections/draft.ts';
+
+/** The page answers for any election this site can run (`veiltally bounds` goes further). */
+export const HELP_MAX_OPTIONS = DRAFT_LIMITS.optionsMax;
 
 /** The ε values the comparison table walks through: from strong protection to weak. */
 export const EPSILON_STEPS = ['0.25', '0.5', '1', '1.5', '2', '3', '5'] as const;
@@ -24,12 +28,18 @@ export interface EpsilonHelpView {
   maxOptions: number;
 }
 
+export interface EpsilonHelpInput {
+  options: number;
+  seats: number;
+  epsilon: string;
+}
+
 /**
  * Builds the "Choosing ε" tables from the mechanism module at render time, so the page can never
  * drift from what the draw and `veiltally bounds` guarantee. No ballots are involved: these bounds
  * depend only on ε, the number of options and the seats.
  */
-export function epsilonHelpView(input: { options: number; seats: number; epsilon: string }): EpsilonHelpView {
+export function epsilonHelpView(input: EpsilonHelpInput): EpsilonHelpView {
   const { options, seats } = input;
   const rows = EPSILON_STEPS.map((epsilon) => {
     const b = makeExponentialDraw({ epsilon, options, seats, neighbour: 'replace-one' }).bounds(0.05);
@@ -57,6 +67,6 @@ export function epsilonHelpView(input: { options: number; seats: number; epsilon
       lead95: chosen.marginFor['0.95'],
       lead99: chosen.marginFor['0.99'],
     },
-    maxOptions: MAX_DRAW_OPTIONS,
+    maxOptions: HELP_MAX_OPTIONS,
   };
 }
