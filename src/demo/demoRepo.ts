@@ -12,6 +12,8 @@ export interface DemoRecord {
   openElectionId?: string;
   publishedElectionId?: string;
   publishedGroupId?: string;
+  /** The sample roster election, whose invented members are mailed their codes (the outbox, without SMTP). */
+  mailedElectionId?: string;
   /**
    * Demo-only conveniences, kept so a second run can print them again: a few codes of the
    * sample open election, its tally passphrase and one receipt of the sample result.

@@ -7,6 +7,7 @@ import { findElection } from '../elections/electionRepo.ts';
 import { issueCodes } from '../elections/issueCodes.ts';
 import { openElection } from '../elections/openElection.ts';
 import { publishResult } from '../elections/publishResult.ts';
+import { createRoster, importMembers } from '../rosters/manageRosters.ts';
 import { claimDemo, countRealElections, readDemo, saveDemo, type DemoRecord } from './demoRepo.ts';
 import { DemoBusy, DemoIncomplete, DemoRefused } from './errors.ts';
 import { ROWING_CLUB, TENANTS, type DemoScenario } from './scenarios.ts';
@@ -25,7 +26,24 @@ export interface DemoSummary {
   open: { id: string; title: string; voters: number; codes: number; unusedCodes: string[]; passphrase: string };
   /** groupId: the member group whose privacy ledger the draw was charged to. */
   published: { id: string; title: string; receipt: string; groupId: string | null };
+  /** The roster election: its invented members are each mailed a code (null in a demo made before it existed). */
+  mailed: { id: string; title: string; members: number } | null;
 }
+
+/** The sample roster: invented members of a rowing club's boat-house crew, at a reserved domain (RFC 2606). */
+const MAILED = {
+  title: 'Pick the colour of the new boat-house doors',
+  roster: 'Boat-house volunteers (sample)',
+  members: [
+    ['ada.sculler@rowing.example', 'Ada Sculler'],
+    ['ben.bow@rowing.example', 'Ben Bow'],
+    ['cara.cox@rowing.example', 'Cara Cox'],
+    ['dev.stroke@rowing.example', 'Dev Stroke'],
+    ['eli.rigger@rowing.example', 'Eli Rigger'],
+    ['fay.oar@rowing.example', ''],
+  ] as const,
+  options: ['Racing green', 'River blue', 'Signal red', 'Plain varnish'],
+};
 
 export interface SeedOptions {
   /** How long a second caller waits for a first one still seeding, before DemoBusy. */
@@ -61,6 +79,7 @@ export async function seedDemo(ctx: UseCaseContext, options: SeedOptions = {}): 
     record.publishedGroupId = (await findElection(ctx.knex, published.id))?.groupId ?? undefined;
     record.sampleReceipt = published.receipt;
     const open = await seedOpen(ctx, organiser.organiserId, ROWING_CLUB, new Date(start.getTime() - 2 * DAY), start);
+    record.mailedElectionId = await seedMailed(ctx, organiser.organiserId, start);
     Object.assign(record, {
       openElectionId: open.id,
       unusedCodes: open.unusedCodes,
@@ -106,6 +125,7 @@ function summaryOf(r: DemoRecord, password: string | null): DemoSummary {
       passphrase: r.openElectionPassphrase!,
     },
     published: { id: r.publishedElectionId!, title: TENANTS.title, receipt: r.sampleReceipt!, groupId: r.publishedGroupId ?? null },
+    mailed: r.mailedElectionId ? { id: r.mailedElectionId, title: MAILED.title, members: MAILED.members.length } : null,
   };
 }
 
@@ -179,4 +199,35 @@ async function seedOpen(ctx: UseCaseContext, organiserId: string, s: DemoScenari
   await openElection(at(ctx, t0), { electionId, organiserId, mode: 'now' });
   await castSample(ctx, electionId, s, codes, t0, now.getTime() - HOUR);
   return { id: electionId, unusedCodes: codes.slice(s.voters, s.voters + SHOWN_CODES), passphrase };
+}
+
+/**
+ * A roster election opened now: opening queues one invitation per invented member, and the
+ * server's mail loop sends them (without SMTP_URL, into the outbox folder, where a newcomer can
+ * open one and vote as that member). The demo never sees or keeps these codes.
+ */
+async function seedMailed(ctx: UseCaseContext, organiserId: string, now: Date): Promise<string> {
+  const { rosterId } = await createRoster(ctx, { organiserId, name: MAILED.roster });
+  await importMembers(ctx, { organiserId, rosterId, csv: MAILED.members.map(([email, name]) => `${email},${name}`).join('\n') });
+  const { electionId } = await createElection(ctx, {
+    organiserId,
+    passphrase: samplePassphrase(ctx),
+    draft: {
+      title: MAILED.title,
+      description: 'The doors are sanded and primed. Tick every colour you would be glad to see each morning.',
+      options: MAILED.options.map((label) => ({ label, description: '' })),
+      seats: 1,
+      epsilon: '1',
+      neighbour: 'replace-one',
+      opensAt: now,
+      closesAt: new Date(now.getTime() + 5 * DAY),
+      timeZone: 'UTC',
+      publishTurnout: false,
+      retentionDays: null,
+      expectedVoters: MAILED.members.length,
+      rosterId,
+    },
+  });
+  await openElection(ctx, { electionId, organiserId, mode: 'now' });
+  return electionId;
 }

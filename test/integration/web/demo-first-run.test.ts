@@ -51,7 +51,7 @@ describe.each(engines)('first-run "explore with sample elections" [%s]', (engine
     ]);
     expect([a.status, b.status]).toEqual([303, 303]);
     expect(a.headers.location).toBe('/organise/demo');
-    expect(await count(db, 'elections')).toBe(2);
+    expect(await count(db, 'elections')).toBe(3); // two sample votes and the roster election
     expect(await count(db, 'organisers')).toBe(1);
 
     // Each submission has its own signed-in session; exactly one of them is shown the password, once.

@@ -33,7 +33,14 @@ export function demoRoutes(deps: AppDeps): Router {
     if (!demo || res.locals.demoOrganiser !== true) throw new NotFound();
     const password = req.session.demoPassword ?? null;
     delete req.session.demoPassword;
-    res.render('organise/demo', { title: 'Sample elections', demo, password, firstRunOpen: await isFirstRunOpen(ctx.knex) });
+    const where = ctx.mail?.mailer.where;
+    res.render('organise/demo', {
+      title: 'Sample elections',
+      demo,
+      password,
+      firstRunOpen: await isFirstRunOpen(ctx.knex),
+      outbox: where?.kind === 'outbox' ? where.folder : null,
+    });
   });
 
   return router;
