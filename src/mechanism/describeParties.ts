@@ -14,10 +14,15 @@ export interface PartySettings {
   publishTurnout: boolean;
   /** Longest private preview of a drawn result, in whole hours (at most 48). */
   previewHours: number;
+  /**
+   * Who votes, for what the privacy ledger tells each party: a roster (charged per member) or
+   * printed codes (the organiser's member group). Absent: the ledger is not described.
+   */
+  electorate?: 'roster' | 'printed';
 }
 
 export interface PartyText {
-  party: 'members' | 'public' | 'organiser';
+  party: 'members' | 'public' | 'organiser' | 'operator';
   heading: string;
   sentences: string[];
 }
@@ -44,7 +49,8 @@ export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyTe
   const organiserTurnout = s.publishTurnout
     ? `After the draw the organiser sees the exact turnout in the preview, up to ${hours(s.previewHours)} before everyone else.`
     : 'The organiser is never shown the turnout either: only whether anyone voted, with the result.';
-  return [
+  const ledger = s.electorate ? ledgerSentences(s.electorate) : null;
+  const parties: PartyText[] = [
     {
       party: 'members',
       heading: 'What other members can learn about you',
@@ -55,7 +61,7 @@ export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyTe
     {
       party: 'public',
       heading: 'What anyone can learn from the published result',
-      sentences: [howVoted, whetherVoted, liveForOthers, anyone, published],
+      sentences: [howVoted, whetherVoted, liveForOthers, anyone, published, ...(ledger ? [ledger.public] : [])],
     },
     {
       party: 'organiser',
@@ -65,7 +71,31 @@ export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyTe
         'Whether a member voted, while voting runs: the organiser sees how many codes were issued and withdrawn, never how many ballots were cast. The organiser holds every ballot code, but trying a code shows nothing before casting, and casting with it uses it up: the member would then find their code already used and can raise it. To make even that impossible, codes should be handed out so that nobody knows who got which (slips drawn from a box, sealed envelopes).',
         organiserTurnout,
         'Whether anyone voted at all: the organiser learns it with the drawn result, shortly before the public does.',
+        ...(ledger ? [ledger.organiser] : []),
       ],
     },
   ];
+  if (ledger)
+    parties.push({ party: 'operator', heading: 'What whoever runs this site can learn from the privacy ledger', sentences: [ledger.operator] });
+  return parties;
+}
+
+/** What the privacy ledger tells each party (README, threat model); tested from each side in test/integration/web/ledger-members.test.ts. */
+function ledgerSentences(electorate: 'roster' | 'printed'): { public: string; organiser: string; operator: string } {
+  if (electorate === 'roster') {
+    return {
+      public:
+        "The privacy ledger: this vote is charged to each member of the roster, under a keyed hash of their address, never the address. The published statement gives the most any one member has spent over 12 months, counting every vote on this site over their address, other organisers' included; a figure higher than this roster's own votes explain shows that someone on it also voted in another electorate here, never who, where or how.",
+      organiser:
+        'From the privacy ledger: the same figure as the public and, when opening is refused for the budget, the most a member would reach. A roster holding one real address would tell its organiser that person’s 12-month total on this site, though not which votes nor how they voted.',
+      operator:
+        'Whoever runs this site holds the key the addresses are hashed under, so they can check whether a given address was in the electorate of any roster vote here. The ledger never tells them how anyone voted.',
+    };
+  }
+  return {
+    public:
+      "The privacy ledger: this vote is charged to the organiser's own member group, whose public ledger page lists every draw over it. The site does not know who is in the group, so someone who also votes in another group is counted in each separately.",
+    organiser: 'From the privacy ledger: the same as the public.',
+    operator: 'Whoever runs this site learns from the ledger what the public does: for printed codes it holds nothing about any member.',
+  };
 }

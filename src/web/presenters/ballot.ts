@@ -86,11 +86,19 @@ function closedAtOf(e: Election, now: Date): ShownTime | null {
 
 /** Who could learn what, from the election's settings alone; made once per settings (memo.ts). */
 const partiesOf = memoised(
-  (epsilon: string, options: number, seats: number, neighbour: Election['neighbour'], publishTurnout: boolean): PartyText[] =>
+  (
+    epsilon: string,
+    options: number,
+    seats: number,
+    neighbour: Election['neighbour'],
+    publishTurnout: boolean,
+    electorate: 'roster' | 'printed',
+  ): PartyText[] =>
     describeParties(makeExponentialDraw({ epsilon, options, seats, neighbour }).privacy, {
       neighbour,
       publishTurnout,
       previewHours: PREVIEW_HOURS_PROMISED,
+      electorate,
     }),
   (...settings) => JSON.stringify(settings),
 );
@@ -114,7 +122,7 @@ export function votingElectionView(e: Election, now: Date): VotingElectionView {
     howDrawn: howDrawn(e),
     caution: DRAW_CAUTION,
     promise: promiseOf(e.seats),
-    parties: partiesOf(e.epsilon, e.options.length, e.seats, e.neighbour, e.publishTurnout),
+    parties: partiesOf(e.epsilon, e.options.length, e.seats, e.neighbour, e.publishTurnout, e.rosterId ? 'roster' : 'printed'),
   };
 }
 

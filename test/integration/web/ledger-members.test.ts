@@ -137,10 +137,17 @@ describe.each(engines)('the privacy ledger per member [%s]', (engine) => {
     s.clock.advance(30 * DAY);
     const other = await makeOrganiser(s.ctx, 'secretary@tenants.example');
     const tenants = await roster(other.id, 'Members', ['flat1@tenants.example', 'flat2@tenants.example']);
-    await open(await draftOn(other.id, tenants, '8')); // nobody in common: 8, allowed
+    const opened = await draftOn(other.id, tenants, '8');
+    await open(opened); // nobody in common: 8, allowed
     // Eve is also a tenant: her 8 from the rowing club counts on the tenants' roster too.
     const withEve = await roster(other.id, 'Members and guests', ['flat3@tenants.example', 'EVE@sculls.example']);
-    await expect(open(await draftOn(other.id, withEve, '4'))).rejects.toBeInstanceOf(MemberOverBudget);
+    const eve = await draftOn(other.id, withEve, '4');
+    await expect(open(eve)).rejects.toBeInstanceOf(MemberOverBudget);
+    // What the ballot page says the organiser learns holds from their side: the refusal gives Eve's 8 + 4.
+    await expect(open(eve)).rejects.toThrow(/to ε = 12 for how they voted/);
+    const ballot = (await request(s.app).get(`/vote/${opened.id}`).expect(200)).text;
+    expect(ballot).toContain('A roster holding one real address would tell its organiser that person’s 12-month total on this site');
+    expect(ballot).toContain('this vote is charged to each member of the roster, under a keyed hash of their address');
   });
 
   it('keeps no address in an election after publication, nor anywhere once the roster is deleted: only the ledger hashes', async () => {
@@ -161,7 +168,8 @@ describe.each(engines)('the privacy ledger per member [%s]', (engine) => {
       expect(found((await request(s.app).get(path).expect(200)).text), path).toEqual([]);
     }
 
-    // Deleting the roster deletes every address; the election keeps its members' keyed hashes.
+    // Deleting the roster deletes every address; the election keeps its members' keyed hashes, which
+    // whoever holds the pepper (the operator, as the ballot page says) can test an address against.
     await deleteRoster(s.ctx, { organiserId: s.organiserId, rosterId: plots });
     expect(found(await allRowsAsText({ knex: s.ctx.knex } as TestDatabase))).toEqual([]);
     const kept = await s.ctx.knex('ledger_electorates').where({ election_id: f.id }).pluck('member_hash');

@@ -90,3 +90,20 @@ describe('the accuracy sentence with k seats gives the all-seats guarantee as a 
     }
   });
 });
+
+describe('what the privacy ledger tells each party', () => {
+  const privacy = makeExponentialDraw({ epsilon: '1', options: 3, seats: 1, neighbour: 'replace-one' }).privacy;
+  it('names the operator only when the electorate is known, and says what a roster reveals', () => {
+    const base = { neighbour: 'replace-one', publishTurnout: false, previewHours: 48 } as const;
+    expect(describeParties(privacy, base).map((p) => p.party)).toEqual(['members', 'public', 'organiser']);
+    const roster = describeParties(privacy, { ...base, electorate: 'roster' });
+    expect(roster.map((p) => p.party)).toEqual(['members', 'public', 'organiser', 'operator']);
+    const text = Object.fromEntries(roster.map((p) => [p.party, p.sentences.join(' ')]));
+    expect(text.public).toContain('the most any one member has spent over 12 months');
+    expect(text.organiser).toContain('one real address');
+    expect(text.operator).toContain('holds the key the addresses are hashed under');
+    const printed = Object.fromEntries(describeParties(privacy, { ...base, electorate: 'printed' }).map((p) => [p.party, p.sentences.join(' ')]));
+    expect(printed.public).toContain("the organiser's own member group");
+    expect(printed.operator).toContain('holds nothing about any member');
+  });
+});
