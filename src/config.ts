@@ -23,6 +23,11 @@ const schema = z.object({
     .regex(/^postgres(ql)?:\/\//, 'must start with postgres:// or postgresql://')
     .optional(),
   VEILTALLY_DATA_DIR: z.string().min(1).default('./data'),
+  VEILTALLY_KEY_DIR: z
+    .string()
+    .min(1, 'must name a directory')
+    .refine((v) => !v.includes('\0'), 'must name a directory')
+    .optional(),
   SESSION_SECRET: z.string().min(32, 'must be at least 32 characters').optional(),
   VEILTALLY_CODE_PEPPER: z
     .string()
@@ -69,6 +74,11 @@ export type Config = Readonly<{
   host: string;
   databaseUrl: string | undefined;
   dataDir: string;
+  /**
+   * The election key files (the shred layer's keys, src/keyfiles): outside the database, deleted at
+   * each shred. Every instance on one database must use the same directory.
+   */
+  keyDir: string;
   sessionSecret: string | undefined;
   codePepperHex: string | undefined;
   signingSeedHex: string | undefined;
@@ -172,6 +182,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {
     host: e.HOST,
     databaseUrl: e.DATABASE_URL,
     dataDir: path.resolve(e.VEILTALLY_DATA_DIR),
+    keyDir: path.resolve(e.VEILTALLY_KEY_DIR ?? path.join(e.VEILTALLY_DATA_DIR, 'election-keys')),
     sessionSecret: e.SESSION_SECRET,
     codePepperHex: e.VEILTALLY_CODE_PEPPER,
     signingSeedHex: e.VEILTALLY_SIGNING_SEED,

@@ -4,6 +4,7 @@ import { openConfiguredDatabase } from './db/configured.ts';
 import { DataDirectoryLocked } from './db/dirLock.ts';
 import { MigrationFailed, migrateLatest } from './db/migrate.ts';
 import { liveContext } from './elections/context.ts';
+import { keyDirectory } from './keyfiles/keyDirectory.ts';
 import { createLogger } from './log.ts';
 import { loadSecrets } from './secrets.ts';
 import { checkSecretsAgree, SecretsDisagree } from './instanceCheck.ts';
@@ -52,7 +53,7 @@ async function start(): Promise<void> {
 
   // Mail goes through the configured SMTP server, or into the data directory's outbox folder.
   const mailer = createMailer(config.mail);
-  const ctx = { ...liveContext(db, secrets, config.ledger), mail: { mailer, publicUrl: config.publicUrl } };
+  const ctx = { ...liveContext(db, secrets, keyDirectory(config.keyDir), config.ledger), mail: { mailer, publicUrl: config.publicUrl } };
   // The active signing key's public half is listed on /keys from the start, before its first statement.
   await registerSigningKey(db.knex, secrets.signingSeed, new Date());
   const app = createApp({ config, ctx, logger, sessionSecret: secrets.sessionSecret });

@@ -7,6 +7,7 @@ import { ALPHABET } from '../custody/crockford.ts';
 import { openConfiguredDatabase } from '../db/configured.ts';
 import { migrateLatest } from '../db/migrate.ts';
 import { liveContext, type UseCaseContext } from '../elections/context.ts';
+import { keyDirectory } from '../keyfiles/keyDirectory.ts';
 import { InvalidInput } from '../errors.ts';
 import { loadSecrets } from '../secrets.ts';
 import { checkFlags, parseFlags } from './args.ts';
@@ -45,7 +46,7 @@ const openConfigured: ContextOpener = async () => {
   const config = loadConfig();
   const db = openConfiguredDatabase(config);
   await migrateLatest(db.knex);
-  const ctx = liveContext(db, loadSecrets(config), config.ledger);
+  const ctx = liveContext(db, loadSecrets(config), keyDirectory(config.keyDir), config.ledger);
   return { ctx, close: () => db.close() };
 };
 

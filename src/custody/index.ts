@@ -31,3 +31,17 @@ export { sodiumRandom, wipe } from './sodium.ts';
 export { WrongPassphrase, BallotUnreadable, CodeTypo, CodeMalformed, ReceiptMalformed, WrappedKeyInvalid } from './errors.ts';
 export { sealForElection, openForElection } from './sealed.ts';
 export { generateCastToken, parseCastToken, castTokenHash, sealReceiptForToken, openReceiptForToken, CAST_TOKEN_BYTES } from './castToken.ts';
+export {
+  SHRED_KEY_BYTES,
+  SHRED_LAYER_BYTES,
+  newShredKey,
+  sealUnderShredKey,
+  openUnderShredKey,
+  sealWrappedKey,
+  openStoredKey,
+  isShredLayered,
+  innerBallot,
+  outerBallot,
+  storedKeySchema,
+} from './shredLayer.ts';
+export type { ShredLayerKind, StoredKey } from './shredLayer.ts';

@@ -1,4 +1,5 @@
 import type { Knex } from 'knex';
+import { innerBallot } from '../custody/index.ts';
 import type { Db } from '../db/knex.ts';
 import { rawRows, toBuffer, toCount, uniqueViolation } from '../db/knex.ts';
 
@@ -45,9 +46,11 @@ export async function countStoredBallots(db: Db, electionId: string): Promise<nu
 
 /**
  * Sealed ballots in batches by keyset pagination on the random id (no OFFSET, so each
- * page is an index range scan and memory stays O(batch)).
+ * page is an index range scan and memory stays O(batch)). Each comes out of the shred layer here
+ * (innerBallot, with the election's shred key, or null for an election made before the layer),
+ * the one place ballots are read: a ballot that does not open under it comes out empty, and counts as unreadable.
  */
-export async function* sealedBatches(db: Db, electionId: string, batchSize: number): AsyncGenerator<Buffer[]> {
+export async function* sealedBatches(db: Db, electionId: string, batchSize: number, shredKey: Uint8Array | null): AsyncGenerator<Buffer[]> {
   let after: string | null = null;
   for (;;) {
     const q = db('ballots').where({ election_id: electionId }).orderBy('id').limit(batchSize).select('id', 'sealed');
@@ -55,7 +58,7 @@ export async function* sealedBatches(db: Db, electionId: string, batchSize: numb
     const rows: Array<{ id: string; sealed: unknown }> = await q;
     if (rows.length === 0) return;
     after = rows[rows.length - 1]!.id;
-    yield rows.map((r) => toBuffer(r.sealed));
+    yield rows.map((r) => innerBallot(shredKey, electionId, toBuffer(r.sealed)));
     if (rows.length < batchSize) return;
   }
 }

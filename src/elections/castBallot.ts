@@ -7,6 +7,7 @@ import {
   generateReceipt,
   normaliseCode,
   openReceiptForToken,
+  outerBallot,
   parseCastToken,
   randomUuid,
   receiptHash,
@@ -70,22 +71,25 @@ export async function castBallot(
   return castChecked(ctx, input.electionId, canonical, approvals, token);
 }
 
+/** An election accepting ballots, with its shred key (read from its key file once; null before the layer). */
+type KnownElection = VotingElection & { shredKey: Buffer | null };
+
 /**
- * Per database handle: the public key and option count of elections seen accepting ballots. Both are
+ * Per database handle: the public key, option count and shred key of elections seen accepting ballots. Both are
  * fixed from the moment an election opens (openElection.ts; correctWording.ts changes no option
  * count), and the fast path's statement checks them and the open state again, so an entry never
  * lets a cast through that the database would refuse: closing, an extension, a tally all act at once.
  */
-const knownKeys = new WeakMap<Knex, Map<string, VotingElection>>();
+const knownKeys = new WeakMap<Knex, Map<string, KnownElection>>();
 const KNOWN_MAX = 1000;
 
-function votingKeys(knex: Knex): Map<string, VotingElection> {
+function votingKeys(knex: Knex): Map<string, KnownElection> {
   let m = knownKeys.get(knex);
   if (!m) knownKeys.set(knex, (m = new Map()));
   return m;
 }
 
-function remember(knex: Knex, e: VotingElection): void {
+function remember(knex: Knex, e: KnownElection): void {
   const m = votingKeys(knex);
   if (m.size >= KNOWN_MAX && !m.has(e.id)) m.clear();
   m.set(e.id, e);
@@ -96,14 +100,8 @@ function remember(knex: Knex, e: VotingElection): void {
  * the code is spent or unknown, a retried token): the checked path then finds the earlier receipt
  * or the precise error.
  */
-async function castFast(
-  ctx: UseCaseContext,
-  e: VotingElection,
-  canonical: string,
-  approvals: number[],
-  token: Buffer | null,
-): Promise<string | null> {
-  const sealed = encodeAndSeal(e.publicKey, e.id, e.optionCount, approvals);
+async function castFast(ctx: UseCaseContext, e: KnownElection, canonical: string, approvals: number[], token: Buffer | null): Promise<string | null> {
+  const sealed = outerBallot(e.shredKey, e.id, encodeAndSeal(e.publicKey, e.id, e.optionCount, approvals), ctx.random);
   const codeHashed = codeHash(ctx.secrets.codePepper, e.id, canonical);
   const tHash = token ? castTokenHash(ctx.secrets.codePepper, e.id, token) : null;
   const ballotId = randomUuid(ctx.random);
@@ -149,8 +147,10 @@ async function castChecked(
       }
       throw err;
     }
-    // Known from here on: the election's next casts take the fast path (the key and d do not change).
-    remember(ctx.knex, e);
+    // Before anything is spent: without its key file the election takes no ballot (ElectionKeyFileMissing).
+    const shredKey = e.shredLayered ? await ctx.keyFiles.read(e.id) : null;
+    // Known from here on: the election's next casts take the fast path (the keys and d do not change).
+    remember(ctx.knex, { ...e, shredKey });
     if (approvals.some((p) => p >= e.optionCount)) throw new InvalidBallot();
     const hash = codeHash(ctx.secrets.codePepper, e.id, canonical);
     if (!(await spendCode(trx, e.id, hash))) {
@@ -160,7 +160,7 @@ async function castChecked(
       await assertCodeUsable(trx, e.id, hash); // throws the precise reason
       throw new Error('code could not be spent'); // unreachable unless the row changed under us
     }
-    const sealed = encodeAndSeal(e.publicKey, e.id, e.optionCount, approvals);
+    const sealed = outerBallot(shredKey, e.id, encodeAndSeal(e.publicKey, e.id, e.optionCount, approvals), ctx.random);
     for (let attempt = 0; attempt < RECEIPT_ATTEMPTS; attempt++) {
       const receipt = generateReceipt(ctx.random);
       const rHash = receiptHash(ctx.secrets.codePepper, e.id, receipt);

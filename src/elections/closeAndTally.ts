@@ -1,4 +1,4 @@
-import { BallotUnreadable, WrappedKeyInvalid, parseWrappedKey, publicKeyOf, randomUuid, unwrapElectionKey, wipe } from '../custody/index.ts';
+import { BallotUnreadable, WrappedKeyInvalid, publicKeyOf, randomUuid, unwrapElectionKey, wipe } from '../custody/index.ts';
 import { buildStatement, makeDraw, type PrivacyStatement } from '../mechanism/index.ts';
 import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
@@ -9,6 +9,7 @@ import { HEARTBEAT_MS, INTERRUPTED, THIS_PROCESS, beat, claimHeld, releasedClaim
 import { countApprovals } from './tallyCounter.ts';
 import { rewriteVotingRows, vacuumAfterTally } from './unlinkStorage.ts';
 import { chargeAndSign } from './signDraw.ts';
+import { shredKeyOf, wrappedKeyOf } from './shredKeys.ts';
 
 /**
  * What elections.result holds: the one draw and its statement for the pages. The signed,
@@ -94,7 +95,7 @@ async function queueOnce(
   assertTallyable(seen, ctx.now(), claimHeld(seen, ctx.now(), me, ctx.engine));
   // Every check that can fail on bad settings runs before the key is unwrapped.
   drawFor(seen);
-  const secretKey = await unwrapElectionKey(parseWrappedKey(seen.wrappedKey), input.passphrase, seen.id);
+  const secretKey = await unwrapElectionKey(await wrappedKeyOf(ctx, seen), input.passphrase, seen.id);
   try {
     if (!publicKeyOf(secretKey).equals(seen.publicKey!)) throw new WrappedKeyInvalid(); // key pair mismatch: never count
     const queued = await ctx.knex.transaction(async (trx) => {
@@ -176,13 +177,15 @@ export async function runQueuedTally(ctx: UseCaseContext, q: QueuedTally): Promi
       return e;
     });
     if (!seen) return null;
+    const shredKey = await shredKeyOf(ctx, seen);
     const tally = await countApprovals(ctx.knex, {
       electionId: seen.id,
       publicKey: seen.publicKey!,
       secretKey: q.secretKey,
+      shredKey,
       optionCount: seen.options.length,
       threads: 'auto',
-    });
+    }).finally(() => shredKey && wipe(shredKey));
     let outcome: { winners: string[]; statement: PrivacyStatement } | null;
     try {
       outcome = await ctx.knex.transaction(async (trx) => {

@@ -4,6 +4,7 @@ import type { Engine } from '../db/knex.ts';
 import type { KdfParams } from '../custody/kdf.ts';
 import type { RandomSource } from '../mechanism/random.ts';
 import { pooledRandomBytes } from '../osRandom.ts';
+import type { ElectionKeyFiles } from './keyFilePort.ts';
 import type { Mailer } from './mailPort.ts';
 import type { TallyProcess } from './tallyClaim.ts';
 
@@ -29,6 +30,8 @@ export interface UseCaseContext {
   readonly random: RandomBytes;
   readonly secrets: InstanceSecrets;
   readonly kdf: KdfParams;
+  /** The per-election shred keys, outside the database (keyFilePort.ts; src/keyfiles over VEILTALLY_KEY_DIR). */
+  readonly keyFiles: ElectionKeyFiles;
   /**
    * Argon2id cost for organiser passwords. Optional so existing callers keep working:
    * absent means the OWASP Password Storage Cheat Sheet minimum (src/accounts/passwords.ts).
@@ -61,9 +64,15 @@ export const DEFAULT_KDF: KdfParams = Object.freeze({ memoryKiB: 64 * 1024, iter
  * The context the running product uses (server, CLI, demo): the system clock, node:crypto's
  * randomness, RFC 9106 Argon2id defaults and the configured ledger policy. Tests build their own.
  */
-export function liveContext(db: { knex: Knex; engine: Engine }, secrets: InstanceSecrets, ledgerPolicy?: LedgerPolicy): UseCaseContext {
+export function liveContext(
+  db: { knex: Knex; engine: Engine },
+  secrets: InstanceSecrets,
+  keyFiles: ElectionKeyFiles,
+  ledgerPolicy?: LedgerPolicy,
+): UseCaseContext {
   return {
     knex: db.knex,
+    keyFiles,
     engine: db.engine,
     now: () => new Date(),
     random: pooledRandomBytes(),

@@ -1,9 +1,10 @@
-import { createElectionKeys, checkTallyPassphrase, randomUuid } from '../custody/index.ts';
+import { createElectionKeys, checkTallyPassphrase, randomUuid, wipe } from '../custody/index.ts';
 import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
 import { checkDraft, type DraftInput } from './draft.ts';
 import { insertDraft } from './draftRepo.ts';
 import { checkElectorate } from './electorate.ts';
+import { newKeyFile, storedKey } from './shredKeys.ts';
 
 /**
  * Creates a draft election and its key pair. The tally passphrase is used here once, to wrap
@@ -18,11 +19,20 @@ export async function createElection(
   const id = randomUuid(ctx.random);
   // Argon2id runs before the transaction, so no connection is held while it works.
   const { publicKey, wrapped } = await createElectionKeys({ passphrase: input.passphrase, electionId: id, kdf: ctx.kdf, random: ctx.random });
+  // The key file is on disk before the row that refers to it is written (shredKeys.ts).
+  const shredKey = await newKeyFile(ctx, id);
+  const wrappedKey = storedKey(ctx, shredKey, id, wrapped);
+  wipe(shredKey);
   const now = ctx.now();
-  await ctx.knex.transaction(async (trx) => {
-    await checkElectorate(trx, draft.rosterId, input.organiserId);
-    await insertDraft(trx, { id, ownerId: input.organiserId, draft, publicKey, wrappedKey: wrapped, at: now });
-    await recordEvent(trx, { electionId: id, organiserId: input.organiserId, action: 'created' }, now);
-  });
+  try {
+    await ctx.knex.transaction(async (trx) => {
+      await checkElectorate(trx, draft.rosterId, input.organiserId);
+      await insertDraft(trx, { id, ownerId: input.organiserId, draft, publicKey, wrappedKey, at: now });
+      await recordEvent(trx, { electionId: id, organiserId: input.organiserId, action: 'created' }, now);
+    });
+  } catch (err) {
+    await ctx.keyFiles.remove(id).catch(() => undefined); // no row refers to it
+    throw err;
+  }
   return { electionId: id };
 }

@@ -10,12 +10,15 @@ import { ElectionStateConflict } from './errors.ts';
  * The organiser's record keeps one line that the draft was deleted, with its title.
  */
 export async function deleteDraft(ctx: UseCaseContext, input: { electionId: string; organiserId: string }): Promise<{ title: string }> {
-  return ctx.knex.transaction(async (trx) => {
+  const deleted = await ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
     if (e.state !== 'draft') throw new ElectionStateConflict('Only a draft can be deleted. This election has been opened, so it stays on record.');
     const now = ctx.now();
     await trx('elections').where({ id: e.id, state: 'draft' }).delete();
     await recordEvent(trx, { electionId: null, organiserId: input.organiserId, action: 'draft-deleted', detail: { title: e.title } }, now);
-    return { title: e.title };
+    return { id: e.id, title: e.title };
   });
+  // No row refers to its key file any more (a draft has no ballots, only the wrapped key).
+  await ctx.keyFiles.remove(deleted.id);
+  return { title: deleted.title };
 }

@@ -24,6 +24,8 @@ export interface VotingElection {
   id: string;
   publicKey: Buffer;
   optionCount: number;
+  /** Its ballots are stored under the shred layer (its wrapped key is; custody/shredLayer.ts). */
+  shredLayered: boolean;
 }
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
@@ -47,6 +49,7 @@ export async function votingElection(db: Db, electionId: string, now: Date): Pro
       'public_key',
       db.raw('(select count(*) from options o where o.election_id = elections.id) as option_count'),
       db.raw('(select max(position) from options o where o.election_id = elections.id) as option_top'),
+      db.raw("(wrapped_key->>'version') as key_version"),
     );
   if (!row) throw new ElectionNotFound();
   const state = row.state as ElectionState;
@@ -54,7 +57,12 @@ export async function votingElection(db: Db, electionId: string, now: Date): Pro
   const closesAt = new Date(row.closes_at);
   if (!acceptsBallotsAt({ state, opensAt, closesAt }, now)) throw new ElectionNotOpen(notOpenReason(state, opensAt, now));
   if (row.public_key == null) throw new TallyKeyMissing();
-  return { id: electionId, publicKey: toBuffer(row.public_key), optionCount: checkedOptionCount(row.option_count, row.option_top) };
+  return {
+    id: electionId,
+    publicKey: toBuffer(row.public_key),
+    optionCount: checkedOptionCount(row.option_count, row.option_top),
+    shredLayered: String(row.key_version) === '2',
+  };
 }
 
 function notOpenReason(state: ElectionState, opensAt: Date, now: Date): NotOpenReason {

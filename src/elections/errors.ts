@@ -125,7 +125,7 @@ export class BallotsShredded extends VeiltallyError {
   readonly code = 'BallotsShredded';
   override readonly status = 410;
   constructor() {
-    super('The sealed ballots of this election have been shredded and can never be opened again.');
+    super('The sealed ballots of this election have been shredded with their key file: this site can never open them again.');
   }
 }
 
@@ -205,5 +205,21 @@ export class RosterEmpty extends VeiltallyError {
   override readonly status = 409;
   constructor() {
     super('The roster of this election has no members, so nobody would get a code. Add members to the roster first, then open.');
+  }
+}
+
+/**
+ * The election's key file (the shred layer's key, kept outside the database) is not in the key
+ * directory, or cannot be read. Nothing is cast, counted or changed. The message names no path:
+ * the operator finds the file by the election id, which is in the address.
+ */
+export class ElectionKeyFileMissing extends VeiltallyError {
+  readonly code = 'ElectionKeyFileMissing';
+  override readonly status = 503;
+  constructor(options?: { cause?: unknown }) {
+    super(
+      'This server cannot reach the key file of this election, so it can neither take nor count its ballots right now. Nothing was changed. The operator must restore the key directory (VEILTALLY_KEY_DIR) from its backup, or point this server at the directory the other servers use.',
+      options,
+    );
   }
 }

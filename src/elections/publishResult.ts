@@ -5,6 +5,7 @@ import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import { AlreadyPublished, NotTallied } from './errors.ts';
 import { retentionDaysSchema, rewriteShreddedTables, shredInTransaction } from './shred.ts';
+import { removeShreddedKeyFiles } from './shredKeys.ts';
 
 const DAY_MS = 24 * 60 * 60 * 1000;
 
@@ -21,8 +22,9 @@ export async function publishResult(ctx: UseCaseContext, input: { electionId: st
     });
     await publishLocked(trx, e, input.organiserId, ctx.now());
   });
-  // After commit: rewrite the tables so no dead row version keeps the key (shred.ts). If this fails,
-  // the housekeeping round retries it; the publication itself stands.
+  // After commit: delete the key file and rewrite the tables (shred.ts). If either fails, the
+  // housekeeping round retries it; the publication itself stands.
+  await removeShreddedKeyFiles(ctx, [input.electionId]).catch(() => undefined);
   await rewriteShreddedTables(ctx.knex, 2_000).catch(() => undefined);
 }
 
@@ -62,8 +64,12 @@ export async function publishDue(ctx: UseCaseContext): Promise<number> {
       const e = await findElection(trx, id);
       if (e?.state === 'tallied') await publishLocked(trx, e, null, now);
     }
-    return due.length;
+    return due;
   });
+  await removeShreddedKeyFiles(
+    ctx,
+    published.map((d) => d.id),
+  ).catch(() => undefined);
   await rewriteShreddedTables(ctx.knex, 2_000).catch(() => undefined);
-  return published;
+  return published.length;
 }

@@ -1,8 +1,9 @@
-import { createElectionKeys } from '../custody/index.ts';
+import { createElectionKeys, wipe } from '../custody/index.ts';
 import { recordEvent } from './audit.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import { ElectionStateConflict } from './errors.ts';
+import { keyFileFor, storedKey } from './shredKeys.ts';
 
 /**
  * Makes the election key pair and stores the public key and the wrapped secret key
@@ -21,10 +22,13 @@ export async function setTallyPassphrase(ctx: UseCaseContext, input: { electionI
       kdf: ctx.kdf,
       random: ctx.random,
     });
+    const shredKey = await keyFileFor(ctx, e.id);
+    const stored = storedKey(ctx, shredKey, e.id, wrapped);
+    wipe(shredKey);
     const now = ctx.now();
     await trx('elections')
       .where({ id: e.id })
-      .update({ public_key: publicKey, wrapped_key: JSON.stringify(wrapped), updated_at: now });
+      .update({ public_key: publicKey, wrapped_key: JSON.stringify(stored), updated_at: now });
     await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'tally-key-set' }, now);
   });
 }

@@ -5,6 +5,7 @@ import { deleteBallots } from './ballotRepo.ts';
 import type { UseCaseContext } from './context.ts';
 import { ownedElection } from './electionAccess.ts';
 import { ElectionStateConflict, ResultNotPublished } from './errors.ts';
+import { removeShreddedKeyFiles } from './shredKeys.ts';
 
 /** Retention choice: null = shred at publication (default); otherwise keep sealed 1–90 days, then shred. */
 export const RETENTION_DAYS_MAX = 90;
@@ -16,12 +17,13 @@ export const retentionDaysSchema = z
   .nullable();
 
 /**
- * Shredding (DESIGN §5): deletes the wrapped election key and every ciphertext, in the
- * caller's transaction, and records when. Afterwards no ballot can ever be opened: the
- * secret key existed only wrapped, and the wrapped copy is gone. Receipts, code hashes,
- * the public key and the signed result stay. Deleted and updated rows linger as dead row
- * versions in the table pages until the table is rewritten, so every caller runs
- * rewriteShreddedTables after committing (and housekeeping retries it if that failed).
+ * Shredding (DESIGN §5, §8): deletes the wrapped election key and every ciphertext, in the
+ * caller's transaction, and records when. Receipts, code hashes, the public key and the signed
+ * result stay. The rows are not the only copy: dead row versions linger in the pages until the
+ * table is rewritten (rewriteShreddedTables), and the write-ahead log, its archives and backups
+ * keep them longer. What makes the shred final is the election's key file: both the wrapped key
+ * and every ballot were stored only under it (custody/shredLayer.ts), and every caller deletes it
+ * after committing (removeShreddedKeyFiles; housekeeping retries both if either failed).
  */
 export async function shredInTransaction(trx: Db, electionId: string, organiserId: string | null, now: Date): Promise<void> {
   await deleteBallots(trx, electionId);
@@ -101,7 +103,8 @@ export async function shredElection(ctx: UseCaseContext, input: { electionId: st
     }
     await shredInTransaction(trx, e.id, input.organiserId, ctx.now());
   });
-  // Short wait on a person's request; housekeeping finishes a deferred rewrite.
+  // Housekeeping finishes what fails here (and a deferred rewrite), and logs why.
+  await removeShreddedKeyFiles(ctx, [input.electionId]).catch(() => undefined);
   await rewriteShreddedTables(ctx.knex, 2_000).catch(() => undefined);
 }
 
@@ -121,7 +124,8 @@ export async function shredDue(ctx: UseCaseContext): Promise<number> {
     for (const { id } of due) await shredInTransaction(trx, id, null, now);
     return due.length;
   });
-  // Also a retry for a rewrite that failed after an earlier shred.
+  // Also the retry for key files and rewrites that failed after earlier shreds.
+  await removeShreddedKeyFiles(ctx);
   await rewriteShreddedTables(ctx.knex);
   return shredded;
 }

@@ -13,6 +13,8 @@ export interface CountRequest {
   electionId: string;
   publicKey: Uint8Array;
   secretKey: Uint8Array;
+  /** The election's shred key (custody/shredLayer.ts), or null for an election made before the layer. */
+  shredKey: Uint8Array | null;
   optionCount: number;
   /** Rows per keyset page. */
   batchSize?: number;
@@ -57,7 +59,7 @@ export async function countApprovals(db: Db, req: CountRequest): Promise<Approva
     req.secretKey,
   );
   try {
-    for await (const batch of sealedBatches(db, req.electionId, batchSize)) await pool.submit(batch);
+    for await (const batch of sealedBatches(db, req.electionId, batchSize, req.shredKey)) await pool.submit(batch);
     return await pool.finish(req.optionCount);
   } finally {
     await pool.close();
@@ -67,7 +69,7 @@ export async function countApprovals(db: Db, req: CountRequest): Promise<Approva
 async function countHere(db: Db, req: CountRequest, batchSize: number): Promise<ApprovalTally> {
   const key = openingKey(req.publicKey, req.secretKey, req.electionId, req.optionCount);
   const tally: ApprovalTally = { counts: new Uint32Array(req.optionCount), ballots: 0, unreadable: 0 };
-  for await (const batch of sealedBatches(db, req.electionId, batchSize)) {
+  for await (const batch of sealedBatches(db, req.electionId, batchSize, req.shredKey)) {
     for (const sealed of batch) {
       try {
         openAndCount(key, sealed, tally.counts);

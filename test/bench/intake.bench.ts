@@ -16,7 +16,7 @@ import { migrateLatest } from '../../src/db/migrate.ts';
 import { insertCodeHashes } from '../../src/elections/codeRepo.ts';
 import type { UseCaseContext } from '../../src/elections/context.ts';
 import { findElection } from '../../src/elections/electionRepo.ts';
-import { TEST_KDF } from '../helpers/context.ts';
+import { TEST_KDF, testKeyDirectory } from '../helpers/context.ts';
 import { createOrganiser, openElectionFixture } from '../helpers/fixtures.ts';
 import { figure, percentile, type BenchOptions, type Figure } from './support/figures.ts';
 import { postgresAnswers, scratchDatabase } from './support/postgres.ts';
@@ -35,6 +35,7 @@ function benchContext(db: Database, pepper: Buffer): UseCaseContext {
     random: (n) => crypto.randomBytes(n),
     secrets: { codePepper: pepper, signingSeed: crypto.randomBytes(32) },
     kdf: TEST_KDF, // key wrapping is not on the cast path
+    keyFiles: testKeyDirectory(db).files,
   };
 }
 

@@ -1,5 +1,11 @@
 import crypto from 'node:crypto';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import type { Knex } from 'knex';
 import type { UseCaseContext, KdfParams } from '../../src/elections/context.ts';
+import type { ElectionKeyFiles } from '../../src/elections/keyFilePort.ts';
+import { keyDirectory } from '../../src/keyfiles/keyDirectory.ts';
 import type { TestDatabase } from './databases.ts';
 
 /**
@@ -28,9 +34,28 @@ export function testClock(start: Date | string = '2026-06-01T09:00:00Z'): TestCl
   };
 }
 
+const keyDirs = new WeakMap<Knex, { dir: string; files: ElectionKeyFiles }>();
+const made: string[] = [];
+process.once('exit', () => {
+  for (const dir of made) fs.rmSync(dir, { recursive: true, force: true });
+});
+
+/** One key directory per test database (every context on one database shares it, as instances must). */
+export function testKeyDirectory(db: { knex: Knex }): { dir: string; files: ElectionKeyFiles } {
+  let k = keyDirs.get(db.knex);
+  if (!k) {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-keys-'));
+    made.push(dir);
+    k = { dir, files: keyDirectory(dir) };
+    keyDirs.set(db.knex, k);
+  }
+  return k;
+}
+
 export function testContext(db: TestDatabase, overrides: Partial<UseCaseContext> = {}): UseCaseContext {
   return {
     knex: db.knex,
+    keyFiles: testKeyDirectory(db).files,
     engine: db.engine,
     now: () => new Date(),
     random: (n) => crypto.randomBytes(n),

@@ -1,4 +1,5 @@
-import { openBallot, openingKey, parseWrappedKey, unwrapElectionKey, wipe } from '../../src/custody/index.ts';
+import { openBallot, openingKey, wipe } from '../../src/custody/index.ts';
+import { innerBallots, secretKeyFromRow } from './storedKeys.ts';
 import { toBuffer } from '../../src/db/knex.ts';
 import { findElection } from '../../src/elections/electionRepo.ts';
 import { createFirstOrganiser } from '../../src/accounts/firstRun.ts';
@@ -119,11 +120,17 @@ export async function tallyFixture(ctx: UseCaseContext, f: ElectionFixture, publ
 export async function openStoredBallots(ctx: UseCaseContext, electionId: string): Promise<number[][]> {
   const e = await findElection(ctx.knex, electionId);
   if (!e?.publicKey || e.wrappedKey == null) throw new Error('election has no tally key');
-  const sk = await unwrapElectionKey(parseWrappedKey(e.wrappedKey), FIXTURE_PASSPHRASE, e.id);
+  const sk = await secretKeyFromRow(ctx, e.id, e.wrappedKey, FIXTURE_PASSPHRASE);
   try {
     const k = openingKey(e.publicKey, sk, e.id, e.options.length);
     const rows = await ctx.knex('ballots').where({ election_id: e.id }).select('sealed');
-    return rows.map((r) => openBallot(k, toBuffer(r.sealed))).sort((a, b) => a.join().localeCompare(b.join()));
+    const sealed = await innerBallots(
+      ctx,
+      e.id,
+      e.wrappedKey,
+      rows.map((r) => toBuffer(r.sealed)),
+    );
+    return sealed.map((c) => openBallot(k, c)).sort((a, b) => a.join().localeCompare(b.join()));
   } finally {
     wipe(sk);
   }

@@ -6,6 +6,7 @@ import { openDatabase, type Database, toCount } from '../../src/db/knex.ts';
 import { migrateLatest } from '../../src/db/migrate.ts';
 import type { UseCaseContext } from '../../src/elections/context.ts';
 import { TEST_KDF } from '../helpers/context.ts';
+import { keyDirectory } from '../../src/keyfiles/keyDirectory.ts';
 import { createOrganiser, openElectionFixture, type ElectionFixture } from '../helpers/fixtures.ts';
 import { startServer, type RunningServer } from '../helpers/server.ts';
 import { CookieJar, StepFailed, fetchMember, hiddenFields, toConfirm } from '../helpers/memberWalk.ts';
@@ -26,6 +27,11 @@ export function sharedSecrets() {
     seed,
     env: { VEILTALLY_CODE_PEPPER: pepper.toString('hex'), VEILTALLY_SIGNING_SEED: seed.toString('hex'), SESSION_SECRET: session },
   };
+}
+
+/** The key directory every server of a target shares (and the in-process context too). */
+export function keyDirOf(target: Target): string {
+  return target.env.VEILTALLY_KEY_DIR!;
 }
 
 export interface Target {
@@ -49,7 +55,7 @@ export async function postgresTarget(secretsEnv: Record<string, string>): Promis
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-rel-'));
   return {
     engine: 'postgres',
-    env: { ...secretsEnv, DATABASE_URL: url.toString() },
+    env: { ...secretsEnv, DATABASE_URL: url.toString(), VEILTALLY_KEY_DIR: path.join(dataDir, 'election-keys') },
     dataDir,
     open: () => openDatabase({ engine: 'postgres', url: url.toString(), poolMax: 4 }),
     dispose: async () => {
@@ -65,14 +71,15 @@ export function pgliteTarget(secretsEnv: Record<string, string>): Target {
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-rel-'));
   return {
     engine: 'pglite',
-    env: { ...secretsEnv },
+    env: { ...secretsEnv, VEILTALLY_KEY_DIR: path.join(dataDir, 'election-keys') },
     dataDir,
     open: () => openDatabase({ engine: 'pglite', dataDir }),
     dispose: async () => fs.rmSync(dataDir, { recursive: true, force: true }),
   };
 }
 
-export function contextFor(db: Database, pepper: Buffer, seed: Buffer): UseCaseContext {
+/** `keyDir`: the target's key directory (keyDirOf), the one its servers use. */
+export function contextFor(db: Database, pepper: Buffer, seed: Buffer, keyDir: string): UseCaseContext {
   return {
     knex: db.knex,
     engine: db.engine,
@@ -81,7 +88,8 @@ export function contextFor(db: Database, pepper: Buffer, seed: Buffer): UseCaseC
     secrets: { codePepper: pepper, signingSeed: seed },
     kdf: TEST_KDF,
     passwordKdf: TEST_KDF,
-  } as UseCaseContext;
+    keyFiles: keyDirectory(keyDir),
+  };
 }
 
 /** Migrates, makes an organiser and an open election with `codes` codes; closes the handle (PGlite's lock). */
@@ -89,7 +97,7 @@ export async function prepareElection(target: Target, pepper: Buffer, seed: Buff
   const db = target.open();
   try {
     await migrateLatest(db.knex);
-    const ctx = contextFor(db, pepper, seed);
+    const ctx = contextFor(db, pepper, seed, keyDirOf(target));
     const existing = await db.knex('organisers').first('id');
     const organiserId = existing?.id ?? (await createOrganiser(ctx));
     return await openElectionFixture(ctx, organiserId, { codes });

@@ -5,6 +5,7 @@ import {
   PG_URL,
   cast,
   contextFor,
+  keyDirOf,
   countRows,
   launch,
   memberSession,
@@ -82,7 +83,7 @@ describe.runIf(PG_URL)('casting under load [postgres]', () => {
     const distinct = new Set(receipts);
     const db = target.open();
     try {
-      const ctx = contextFor(db, secrets.pepper, secrets.seed);
+      const ctx = contextFor(db, secrets.pepper, secrets.seed, keyDirOf(target));
       expect(await countRows(db, 'ballots', f.id)).toBe(2000);
       expect(await countRows(db, 'ballot_codes', f.id, { spent: true })).toBe(2000);
       let found = 0;

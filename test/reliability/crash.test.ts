@@ -6,6 +6,7 @@ import {
   PG_URL,
   cast,
   contextFor,
+  keyDirOf,
   countRows,
   launch,
   memberSession,
@@ -101,7 +102,7 @@ async function run(target: Target, label: string) {
 
   const db = target.open();
   try {
-    const ctx = contextFor(db, secrets.pepper, secrets.seed);
+    const ctx = contextFor(db, secrets.pepper, secrets.seed, keyDirOf(target));
     const ballots = await countRows(db, 'ballots', f.id);
     const spent = await countRows(db, 'ballot_codes', f.id, { spent: true });
     const receipts = await countRows(db, 'receipts', f.id);

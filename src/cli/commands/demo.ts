@@ -3,6 +3,7 @@ import { openConfiguredDatabase } from '../../db/configured.ts';
 import { migrateLatest } from '../../db/migrate.ts';
 import { seedDemo, type DemoSummary } from '../../demo/seedDemo.ts';
 import { liveContext } from '../../elections/context.ts';
+import { keyDirectory } from '../../keyfiles/keyDirectory.ts';
 import { loadSecrets } from '../../secrets.ts';
 import type { Command } from '../io.ts';
 
@@ -61,7 +62,7 @@ export const demoCommand: Command = {
     const db = openConfiguredDatabase(config);
     try {
       await migrateLatest(db.knex);
-      const summary = await seedDemo(liveContext(db, secrets, config.ledger));
+      const summary = await seedDemo(liveContext(db, secrets, keyDirectory(config.keyDir), config.ledger));
       io.stdout(demoText(summary, config.publicUrl));
       return 0;
     } finally {

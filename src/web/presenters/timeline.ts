@@ -12,7 +12,7 @@ const LABELS: Record<string, string> = {
   created: 'Election set up',
   tallied: 'Result drawn: sealed ballots counted and the winners drawn',
   published: 'Result published',
-  shredded: 'Sealed ballots and the tally key destroyed',
+  shredded: 'Sealed ballots, the tally key and its key file deleted',
   'closing-extended': 'Closing time extended',
   'description-edited': 'Description corrected',
 };

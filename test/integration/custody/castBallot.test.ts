@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { sealedLength } from '../../../src/custody/ballot.ts';
+import { SHRED_LAYER_BYTES } from '../../../src/custody/index.ts';
 import { toBuffer, toCount } from '../../../src/db/knex.ts';
 import { castBallot } from '../../../src/elections/castBallot.ts';
 import { checkCode } from '../../../src/elections/checkCode.ts';
@@ -31,7 +32,7 @@ describe.each(engines)('casting ballots [%s]', (engine) => {
     const rows = await db.knex('ballots').where({ election_id: s.electionId });
     expect(rows).toHaveLength(2);
     // Same ciphertext size for two ticks and for an abstention (DESIGN §5).
-    expect(rows.map((r) => toBuffer(r.sealed).length)).toEqual([sealedLength(5), sealedLength(5)]);
+    expect(rows.map((r) => toBuffer(r.sealed).length)).toEqual([sealedLength(5) + SHRED_LAYER_BYTES, sealedLength(5) + SHRED_LAYER_BYTES]);
     const receipts = await db.knex('receipts').where({ election_id: s.electionId }).count({ n: '*' }).first();
     expect(toCount(receipts?.n)).toBe(2);
     await expect(countTurnout(db.knex, s.electionId)).resolves.toEqual({ ballotsCast: 2, codesIssued: 3, codesRevoked: 0 });

@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { codeBytes, encodeBallot, normaliseCode, parseWrappedKey, unwrapElectionKey } from '../../../src/custody/index.ts';
+import { codeBytes, encodeBallot, normaliseCode } from '../../../src/custody/index.ts';
+import { secretKeyFromRow } from '../../helpers/storedKeys.ts';
 import { castBallot } from '../../../src/elections/castBallot.ts';
 import { closeAndTally } from '../../../src/elections/closeAndTally.ts';
 import { issueCodes } from '../../../src/elections/issueCodes.ts';
@@ -34,7 +35,7 @@ describe.each(engines)('no plaintext at rest [%s]', (engine) => {
       receipts.push((await castBallot(s.ctx, { electionId: s.electionId, code: codes[i]!, approvals })).receipt);
     }
     await revokeCode(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, code: codes[10]! });
-    const sk = await unwrapElectionKey(parseWrappedKey((await electionRow(db, s.electionId)).wrapped_key), PASSPHRASE, s.electionId);
+    const sk = await secretKeyFromRow(s.ctx, s.electionId, (await electionRow(db, s.electionId)).wrapped_key, PASSPHRASE);
     s.clock.set('2026-06-08T09:00:00Z');
     await closeAndTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE });
     await publishResult(s.ctx, { electionId: s.electionId, organiserId: s.organiserId });

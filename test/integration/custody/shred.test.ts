@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { openingKey, openBallot, parseWrappedKey, unwrapElectionKey, wrappedKeySchema } from '../../../src/custody/index.ts';
+import { openingKey, openBallot, storedKeySchema, wrappedKeySchema } from '../../../src/custody/index.ts';
+import { innerBallots, secretKeyFromRow } from '../../helpers/storedKeys.ts';
 import { toBuffer, toCount } from '../../../src/db/knex.ts';
 import { castBallot } from '../../../src/elections/castBallot.ts';
 import { checkReceipt } from '../../../src/elections/checkReceipt.ts';
@@ -39,16 +40,16 @@ describe.each(engines)('shredding [%s]', (engine) => {
     const before = await electionRow(db, s.electionId);
     const sealed = (await db.knex('ballots').where({ election_id: s.electionId })).map((r) => toBuffer(r.sealed));
     // Control: before shredding, what is stored (wrapped key + passphrase) does open the ballots.
-    const sk = await unwrapElectionKey(parseWrappedKey(before.wrapped_key), PASSPHRASE, s.electionId);
+    const sk = await secretKeyFromRow(s.ctx, s.electionId, before.wrapped_key, PASSPHRASE);
     const k = openingKey(toBuffer(before.public_key), sk, s.electionId, 5);
     expect(
-      sealed
+      (await innerBallots(s.ctx, s.electionId, before.wrapped_key, sealed))
         .map((c) => openBallot(k, c))
         .flat()
         .sort(),
     ).toEqual([0, 1, 2]);
 
-    const hasWrappedKey = (text: string) => text.split('\n').some((line) => /"ciphertext"/.test(line) && /"salt"/.test(line));
+    const hasWrappedKey = (text: string) => text.split('\n').some((line) => /"sealed"/.test(line) && /"version"/.test(line));
     const beforeText = await allRowsAsText(db);
     expect(hasWrappedKey(beforeText)).toBe(true); // control: the scan does see a stored wrapped key
     expect(sealed.every((c) => beforeText.includes(c.toString('hex')))).toBe(true); // and the ciphertexts
@@ -67,6 +68,8 @@ describe.each(engines)('shredding [%s]', (engine) => {
     for (const c of sealed) expect(everything.includes(c.toString('hex'))).toBe(false);
     expect(hasWrappedKey(everything)).toBe(false);
     expect(wrappedKeySchema.safeParse(after.wrapped_key).success).toBe(false);
+    expect(storedKeySchema.safeParse(after.wrapped_key).success).toBe(false);
+    await expect(s.ctx.keyFiles.has(s.electionId)).resolves.toBe(false); // the key file is gone too
     await expect(closeAndTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE })).rejects.toBeInstanceOf(
       AlreadyTallied,
     );

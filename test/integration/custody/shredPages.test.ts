@@ -25,11 +25,12 @@ async function talliedElection(db: TestDatabase, retentionDays: number | null) {
   // A few more row versions of the election, as a real life cycle makes.
   for (let i = 0; i < 3; i++) await db.knex('elections').where({ id: s.electionId }).update({ updated_at: new Date() });
   const row = await electionRow(db, s.electionId);
-  const wrapped = (typeof row.wrapped_key === 'string' ? JSON.parse(row.wrapped_key) : row.wrapped_key) as { ciphertext: string };
+  // The stored wrapped key is one string under the shred layer (custody/shredLayer.ts).
+  const wrapped = (typeof row.wrapped_key === 'string' ? JSON.parse(row.wrapped_key) : row.wrapped_key) as { sealed: string };
   const sealed = (await db.knex('ballots').where({ election_id: s.electionId })).map((r) => toBuffer(r.sealed));
   s.clock.set('2026-06-08T09:00:00Z');
   await closeAndTally(s.ctx, { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE });
-  return { s, needle: Buffer.from(wrapped.ciphertext, 'utf8'), sealed };
+  return { s, needle: Buffer.from(wrapped.sealed, 'utf8'), sealed };
 }
 
 async function rawPages(db: TestDatabase, table: string): Promise<Buffer> {

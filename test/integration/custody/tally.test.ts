@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { WrongPassphrase, unwrapElectionKey, verifyStatement, parseWrappedKey, publicKeyFromSeed } from '../../../src/custody/index.ts';
+import { WrongPassphrase, verifyStatement, publicKeyFromSeed } from '../../../src/custody/index.ts';
+import { secretKeyFromRow } from '../../helpers/storedKeys.ts';
 import { findStatement } from '../../../src/elections/signDraw.ts';
 import { canonicalStatementBytes } from '../../../src/mechanism/index.ts';
 import { closeAndTally, type StoredResult } from '../../../src/elections/closeAndTally.ts';
@@ -23,16 +24,16 @@ describe.each(engines)('tally [%s]', (engine) => {
 
   async function keys() {
     const row = await electionRow(db, s.electionId);
-    const secretKey = await unwrapElectionKey(parseWrappedKey(row.wrapped_key), PASSPHRASE, s.electionId);
-    return { publicKey: toBuffer(row.public_key), secretKey };
+    const secretKey = await secretKeyFromRow(s.ctx, s.electionId, row.wrapped_key, PASSPHRASE);
+    return { publicKey: toBuffer(row.public_key), secretKey, shredKey: await s.ctx.keyFiles.read(s.electionId) };
   }
 
   it.each([
     ['in this thread, batches of 64', 0, 64],
     ['in 2 worker threads, batches of 37', 2, 37],
   ])('counts 500 known ballots exactly %s', async (_name, threads, batchSize) => {
-    const { publicKey, secretKey } = await keys();
-    const tally = await countApprovals(db.knex, { electionId: s.electionId, publicKey, secretKey, optionCount: 5, threads, batchSize });
+    const { publicKey, secretKey, shredKey } = await keys();
+    const tally = await countApprovals(db.knex, { electionId: s.electionId, publicKey, secretKey, shredKey, optionCount: 5, threads, batchSize });
     expect(new Set(profile.counts).size).toBe(5); // a non-trivial profile: five different counts
     expect(tally.ballots).toBe(500);
     expect(tally.unreadable).toBe(0);

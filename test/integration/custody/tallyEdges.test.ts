@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { BallotUnreadable, unwrapElectionKey, parseWrappedKey } from '../../../src/custody/index.ts';
+import { BallotUnreadable } from '../../../src/custody/index.ts';
+import { secretKeyFromRow } from '../../helpers/storedKeys.ts';
 import { closeAndTally } from '../../../src/elections/closeAndTally.ts';
 import { ElectionNotOpen } from '../../../src/elections/errors.ts';
 import { countApprovals } from '../../../src/elections/tallyCounter.ts';
@@ -22,12 +23,13 @@ describe.each(engines)('tally edge cases [%s]', (engine) => {
     bent[bent.length - 1]! ^= 1;
     await db.knex('ballots').where({ id: row.id }).update({ sealed: bent });
     const stored = await electionRow(db, other.electionId);
-    const secretKey = await unwrapElectionKey(parseWrappedKey(stored.wrapped_key), PASSPHRASE, other.electionId);
+    const secretKey = await secretKeyFromRow(other.ctx, other.electionId, stored.wrapped_key, PASSPHRASE);
     for (const threads of [0, 2]) {
       const t = await countApprovals(db.knex, {
         electionId: other.electionId,
         publicKey: toBuffer(stored.public_key),
         secretKey,
+        shredKey: await other.ctx.keyFiles.read(other.electionId),
         optionCount: 5,
         threads,
       });

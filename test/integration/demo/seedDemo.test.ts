@@ -1,5 +1,6 @@
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
-import { openBallot, openingKey, parseWrappedKey, unwrapElectionKey, wipe } from '../../../src/custody/index.ts';
+import { openBallot, openingKey, wipe } from '../../../src/custody/index.ts';
+import { innerBallots, secretKeyFromRow } from '../../helpers/storedKeys.ts';
 import { toBuffer, toCount } from '../../../src/db/knex.ts';
 import { createFirstOrganiser, isFirstRunOpen } from '../../../src/accounts/firstRun.ts';
 import { findOrganiser } from '../../../src/accounts/organiserRepo.ts';
@@ -24,11 +25,17 @@ async function count(db: TestDatabase, table: string, where: Record<string, unkn
 /** Opens every sealed ballot of an election with its tally passphrase, sorted for comparison. */
 async function openAll(ctx: UseCaseContext, electionId: string, passphrase: string): Promise<string[]> {
   const e = (await findElection(ctx.knex, electionId))!;
-  const sk = await unwrapElectionKey(parseWrappedKey(e.wrappedKey), passphrase, e.id);
+  const sk = await secretKeyFromRow(ctx, e.id, e.wrappedKey, passphrase);
   try {
     const k = openingKey(e.publicKey!, sk, e.id, e.options.length);
     const rows = await ctx.knex('ballots').where({ election_id: e.id }).select('sealed');
-    return rows.map((r) => openBallot(k, toBuffer(r.sealed)).join(',')).sort();
+    const sealed = await innerBallots(
+      ctx,
+      e.id,
+      e.wrappedKey,
+      rows.map((r) => toBuffer(r.sealed)),
+    );
+    return sealed.map((c) => openBallot(k, c).join(',')).sort();
   } finally {
     wipe(sk);
   }

@@ -84,7 +84,7 @@ describe.each(engines)('public result pages [%s]', (engine) => {
       'Voting closed',
       'Result drawn: sealed ballots counted and the winners drawn',
       'Result published',
-      'Sealed ballots and the tally key destroyed',
+      'Sealed ballots, the tally key and its key file deleted',
     ]);
   });
 
