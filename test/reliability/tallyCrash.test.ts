@@ -3,7 +3,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { DEFAULT_KDF } from '../../src/elections/context.ts';
 import { castAll, createOrganiser, openElectionFixture, FIXTURE_PASSPHRASE, FIXTURE_PASSWORD } from '../helpers/fixtures.ts';
 import type { RunningServer } from '../helpers/server.ts';
-import { PG_URL, contextFor, launch, pgliteTarget, postgresTarget, record, sharedSecrets, type Target } from './_harness.ts';
+import { PG_URL, contextFor, keyDirOf, launch, pgliteTarget, postgresTarget, record, sharedSecrets, type Target } from './_harness.ts';
 import { migrateLatest } from '../../src/db/migrate.ts';
 
 /**
@@ -71,7 +71,7 @@ async function prepare(target: Target, secrets: ReturnType<typeof sharedSecrets>
   const db = target.open();
   try {
     await migrateLatest(db.knex);
-    const base = contextFor(db, secrets.pepper, secrets.seed);
+    const base = contextFor(db, secrets.pepper, secrets.seed, keyDirOf(target));
     const organiserId = await createOrganiser(base);
     // Open now; once the ballots are cast, the closing time is moved into the past so the tally may start.
     const now = Date.now();
