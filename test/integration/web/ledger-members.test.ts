@@ -14,7 +14,7 @@ import { allRowsAsText } from '../custody/_scan.ts';
 import { engines, type TestDatabase } from '../../helpers/databases.ts';
 import { FIXTURE_PASSPHRASE, tallyFixture, type ElectionFixture } from '../../helpers/fixtures.ts';
 import { DAY, useMemberSuite } from '../../helpers/memberSuite.ts';
-import { makeOrganiser } from './organiseSupport.ts';
+import { makeOrganiser, signedIn } from './organiseSupport.ts';
 
 /**
  * The privacy ledger per member (roster elections): every draw is charged to each member of the
@@ -145,6 +145,10 @@ describe.each(engines)('the privacy ledger per member [%s]', (engine) => {
     await expect(open(eve)).rejects.toBeInstanceOf(MemberOverBudget);
     // What the ballot page says the organiser learns holds from their side: the refusal gives Eve's 8 + 4.
     await expect(open(eve)).rejects.toThrow(/to ε = 12 for how they voted/);
+    // The election form shows no group figures for a roster election: its members are charged, not a group.
+    const form = (await (await signedIn(s.app, other.email)).get(`/organise/elections/${eve.id}/edit`).expect(200)).text;
+    expect(form).not.toContain('has spent ε =');
+    expect(form).toContain('opening checks every member’s budget');
     const ballot = (await request(s.app).get(`/vote/${opened.id}`).expect(200)).text;
     expect(ballot).toContain('A roster holding one real address would tell its organiser that person’s 12-month total on this site');
     expect(ballot).toContain('this vote is charged to each member of the roster, under a keyed hash of their address');

@@ -10,6 +10,8 @@ export async function groupBudget(
   electionId: string | null,
   organiserId: string,
 ): Promise<BudgetPreview | null> {
+  // A roster election is charged to its members, and their budget is checked when it opens: the group's figures do not apply.
+  if (v.electorate !== 'printed') return null;
   const name = v.memberGroup.trim() || DEFAULT_GROUP_NAME;
   if (name.length > 120) return null;
   try {
