@@ -7,6 +7,7 @@ import { AlreadyTallied, BallotsShredded, ElectionNotOpen, ElectionStillOpen, Ta
 import { lockElection, type Election } from './electionRepo.ts';
 import { HEARTBEAT_MS, INTERRUPTED, THIS_PROCESS, beat, claimHeld, releasedClaim, type TallyProcess } from './tallyClaim.ts';
 import { countApprovals } from './tallyCounter.ts';
+import { countCodes } from './codeRepo.ts';
 import { rewriteVotingRows, vacuumAfterTally } from './unlinkStorage.ts';
 import { chargeAndSign } from './signDraw.ts';
 import { shredKeyOf, wrappedKeyOf } from './shredKeys.ts';
@@ -173,17 +174,20 @@ export async function runQueuedTally(ctx: UseCaseContext, q: QueuedTally): Promi
       const e = await ownedElection(trx, q.electionId, q.organiserId, { lock: true });
       if (!stillOurs(e)) return null;
       if (e.shreddedAt) throw new BallotsShredded();
-      await rewriteVotingRows(trx, e.id);
-      return e;
+      return { e, issued: (await countCodes(trx, e.id)).issued };
     });
     if (!seen) return null;
-    const shredKey = await shredKeyOf(ctx, seen);
+    // In short statements, outside any transaction: voting is closed, so nothing else writes these rows.
+    await rewriteVotingRows(ctx.knex, seen.e.id);
+    const shredKey = await shredKeyOf(ctx, seen.e);
+    // Padded to the codes issued, which the organiser knows: the work says nothing about turnout.
     const tally = await countApprovals(ctx.knex, {
-      electionId: seen.id,
-      publicKey: seen.publicKey!,
+      electionId: seen.e.id,
+      publicKey: seen.e.publicKey!,
       secretKey: q.secretKey,
       shredKey,
-      optionCount: seen.options.length,
+      optionCount: seen.e.options.length,
+      padTo: seen.issued,
       threads: 'auto',
     }).finally(() => shredKey && wipe(shredKey));
     let outcome: { winners: string[]; statement: PrivacyStatement } | null;

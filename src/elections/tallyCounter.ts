@@ -1,7 +1,8 @@
 import { availableParallelism } from 'node:os';
-import { BallotUnreadable, openAndCount, openingKey } from '../custody/index.ts';
+import { setImmediate as yieldTurn } from 'node:timers/promises';
+import { BallotUnreadable, encodeAndSeal, openAndCount, openingKey } from '../custody/index.ts';
 import type { Db } from '../db/knex.ts';
-import { countStoredBallots, sealedBatches } from './ballotRepo.ts';
+import { sealedBatches } from './ballotRepo.ts';
 import { TallyPool } from './tallyPool.ts';
 
 /**
@@ -16,21 +17,29 @@ export interface CountRequest {
   /** The election's shred key (custody/shredLayer.ts), or null for an election made before the layer. */
   shredKey: Uint8Array | null;
   optionCount: number;
-  /** Rows per keyset page. */
+  /**
+   * The work is padded to this many ballots (the codes issued): after the stored ballots, a dummy
+   * ballot sealed to the same key, approving nothing, is opened and counted until this many have
+   * been, so the work does not depend on turnout. Dummies add nothing to the counts.
+   */
+  padTo?: number;
+  /** Rows per keyset page: each page is one short read, and the connection is given back between pages. */
   batchSize?: number;
-  /** Worker threads: 0 counts in this thread; 'auto' uses all cores once the election is large. */
+  /** Worker threads: 0 counts in this thread; 'auto' uses one worker, all cores once the padded count is large. */
   threads?: number | 'auto';
 }
 
 export interface ApprovalTally {
   /** counts[i] = ballots approving option position i. */
   counts: Uint32Array;
-  /** Ballots examined (readable or not). */
+  /** Stored ballots examined (readable or not). */
   ballots: number;
+  /** Ciphertexts opened, the dummies included: max(padTo, ballots), whatever the turnout. */
+  opened?: number;
   unreadable: number;
 }
 
-export const DEFAULT_BATCH = 1000;
+export const DEFAULT_BATCH = 200;
 /**
  * Below this, starting worker threads costs more than it saves: a worker needs about 0.5 to
  * 0.7 s to start (loading TypeScript through tsx) and one core opens about 18 000 to 27 000
@@ -38,38 +47,67 @@ export const DEFAULT_BATCH = 1000;
  */
 export const PARALLEL_FROM = 50_000;
 
-export function chooseThreads(threads: CountRequest['threads'], ballots: number): number {
+/** 'auto' decides from the padded count (codes issued), never from turnout; it always counts off the main thread. */
+export function chooseThreads(threads: CountRequest['threads'], padded: number): number {
   if (typeof threads === 'number') return Math.max(0, Math.floor(threads));
   const cores = availableParallelism();
-  return ballots >= PARALLEL_FROM && cores >= 2 ? cores : 0;
+  return padded >= PARALLEL_FROM && cores >= 2 ? cores : 1;
 }
 
-/** Streams the sealed ballots (memory O(d + batch)) and counts them, in this thread or in workers. */
+/**
+ * The stored ballots in pages, then the dummy ballot until `padTo` have been handed out, in pages of
+ * the same size; between pages the event loop turns, so other requests' queries take the connection
+ * (PGlite has one) and their handlers run. `real` tells the caller how many were stored ballots.
+ */
+async function* paddedBatches(db: Db, req: CountRequest, batchSize: number, real: { n: number }): AsyncGenerator<Buffer[]> {
+  for await (const batch of sealedBatches(db, req.electionId, batchSize, req.shredKey)) {
+    real.n += batch.length;
+    yield batch;
+    await yieldTurn();
+  }
+  let dummies = Math.max(0, (req.padTo ?? 0) - real.n);
+  if (dummies === 0) return;
+  const dummy = encodeAndSeal(req.publicKey, req.electionId, req.optionCount, []);
+  while (dummies > 0) {
+    const k = Math.min(batchSize, dummies);
+    dummies -= k;
+    yield new Array<Buffer>(k).fill(dummy);
+    await yieldTurn();
+  }
+}
+
+/**
+ * Streams the sealed ballots (memory O(d + batch)) and counts them, padded to `padTo`, in workers
+ * (or in this thread when asked for 0). `ballots` counts the stored ballots only.
+ */
 export async function countApprovals(db: Db, req: CountRequest): Promise<ApprovalTally> {
   const batchSize = req.batchSize ?? DEFAULT_BATCH;
-  const threads =
-    req.threads === undefined || req.threads === 'auto'
-      ? chooseThreads('auto', await countStoredBallots(db, req.electionId))
-      : chooseThreads(req.threads, 0);
-  if (threads === 0) return countHere(db, req, batchSize);
+  const threads = chooseThreads(req.threads ?? 'auto', req.padTo ?? 0);
+  const real = { n: 0 };
+  const tally = threads === 0 ? await countHere(db, req, batchSize, real) : await countInWorkers(db, req, batchSize, real, threads);
+  tally.opened = tally.ballots;
+  tally.ballots = real.n; // the dummies were opened and counted, but are no ballots
+  return tally;
+}
 
+async function countInWorkers(db: Db, req: CountRequest, batchSize: number, real: { n: number }, threads: number): Promise<ApprovalTally> {
   const pool = new TallyPool(
     threads,
     { publicKey: new Uint8Array(req.publicKey), electionId: req.electionId, optionCount: req.optionCount },
     req.secretKey,
   );
   try {
-    for await (const batch of sealedBatches(db, req.electionId, batchSize, req.shredKey)) await pool.submit(batch);
+    for await (const batch of paddedBatches(db, req, batchSize, real)) await pool.submit(batch);
     return await pool.finish(req.optionCount);
   } finally {
     await pool.close();
   }
 }
 
-async function countHere(db: Db, req: CountRequest, batchSize: number): Promise<ApprovalTally> {
+async function countHere(db: Db, req: CountRequest, batchSize: number, real: { n: number }): Promise<ApprovalTally> {
   const key = openingKey(req.publicKey, req.secretKey, req.electionId, req.optionCount);
   const tally: ApprovalTally = { counts: new Uint32Array(req.optionCount), ballots: 0, unreadable: 0 };
-  for await (const batch of sealedBatches(db, req.electionId, batchSize, req.shredKey)) {
+  for await (const batch of paddedBatches(db, req, batchSize, real)) {
     for (const sealed of batch) {
       try {
         openAndCount(key, sealed, tally.counts);

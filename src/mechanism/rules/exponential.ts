@@ -47,11 +47,18 @@ export function drawOneRound(scores: readonly number[], candidates: readonly num
     whole[j] = gammaNum / scale.den;
     rest[j] = gammaNum % scale.den;
   }
-  for (;;) {
-    const j = uniformBelowSmall(n, random);
-    if (bernoulliExpMinusSplit(whole[j] as bigint, rest[j] as bigint, scale.den, random)) {
-      return candidates[j] as number;
+  try {
+    for (;;) {
+      const j = uniformBelowSmall(n, random);
+      if (bernoulliExpMinusSplit(whole[j] as bigint, rest[j] as bigint, scale.den, random)) {
+        return candidates[j] as number;
+      }
     }
+  } finally {
+    // The gaps to the top score are counts in disguise: cleared before the arrays are released.
+    // (A BigInt is immutable: the cleared values wait for the garbage collector, unreachable.)
+    whole.fill(0n);
+    rest.fill(0n);
   }
 }
 

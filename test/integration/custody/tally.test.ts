@@ -40,6 +40,28 @@ describe.each(engines)('tally [%s]', (engine) => {
     expect(Array.from(tally.counts)).toEqual(profile.counts);
   });
 
+  it.each([
+    ['in this thread', 0],
+    ['in a worker thread', 1],
+  ])('padded to the codes issued, the work is the same whatever the turnout; dummies count for nothing (%s)', async (_name, threads) => {
+    const { publicKey, secretKey, shredKey } = await keys();
+    const padded = await countApprovals(db.knex, { electionId: s.electionId, publicKey, secretKey, shredKey, optionCount: 5, threads, padTo: 1234 });
+    expect([padded.ballots, padded.opened, padded.unreadable]).toEqual([500, 1234, 0]);
+    expect(Array.from(padded.counts)).toEqual(profile.counts);
+    // Fewer codes than ballots (cannot happen, but the count never shrinks): no padding.
+    const { secretKey: again, shredKey: shredAgain } = await keys();
+    const unpadded = await countApprovals(db.knex, {
+      electionId: s.electionId,
+      publicKey,
+      secretKey: again,
+      shredKey: shredAgain,
+      optionCount: 5,
+      threads,
+      padTo: 100,
+    });
+    expect([unpadded.ballots, unpadded.opened]).toEqual([500, 500]);
+  });
+
   it('refuses before close and with a wrong passphrase, then draws once and signs the statement', async () => {
     const input = { electionId: s.electionId, organiserId: s.organiserId, passphrase: PASSPHRASE };
     await expect(closeAndTally(s.ctx, input)).rejects.toBeInstanceOf(ElectionStillOpen);
