@@ -1,4 +1,4 @@
-import { describeInstant } from './timeText.ts';
+import { describeInstant as describeAnew } from './timeText.ts';
 
 /**
  * The words of the mail to a roster's members. Pure: the sender fills in the recipient, and the
@@ -14,6 +14,22 @@ export interface MailElection {
   closesAt: Date;
   timeZone: string;
   contact: string;
+}
+
+/**
+ * A batch writes the same two instants into every message; formatting one builds an
+ * Intl.DateTimeFormat, so the last few are remembered (a pure function of its arguments).
+ */
+const described = new Map<string, string>();
+function describeInstant(instant: Date, zone: string): string {
+  const key = `${instant.getTime()} ${zone}`;
+  let text = described.get(key);
+  if (text === undefined) {
+    text = describeAnew(instant, zone);
+    if (described.size >= 64) described.clear();
+    described.set(key, text);
+  }
+  return text;
 }
 
 const IGNORE = 'If you have already voted, ignore this message: this site cannot tell who has voted, so every member gets it.';

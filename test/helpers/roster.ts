@@ -21,9 +21,10 @@ export async function rosterElection(
   ctx: UseCaseContext,
   organiserId: string,
   rosterId: string,
-  o: { open?: boolean; closesInHours?: number; title?: string } = {},
+  o: { open?: boolean; opensInHours?: number; closesInHours?: number; title?: string } = {},
 ): Promise<string> {
   const now = ctx.now();
+  const opensAt = new Date(now.getTime() + (o.opensInHours ?? 0) * 3600_000);
   const { electionId } = await createElection(ctx, {
     organiserId,
     passphrase: FIXTURE_PASSPHRASE,
@@ -39,8 +40,8 @@ export async function rosterElection(
       seats: 1,
       epsilon: '1',
       neighbour: 'replace-one',
-      opensAt: now,
-      closesAt: new Date(now.getTime() + (o.closesInHours ?? 7 * 24) * 3600_000),
+      opensAt,
+      closesAt: new Date(opensAt.getTime() + (o.closesInHours ?? 7 * 24) * 3600_000),
       timeZone: 'Europe/London',
       publishTurnout: false,
       retentionDays: null,
@@ -48,7 +49,7 @@ export async function rosterElection(
       rosterId,
     },
   });
-  if (o.open ?? true) await openElection(ctx, { electionId, organiserId, mode: 'now' });
+  if (o.open ?? true) await openElection(ctx, { electionId, organiserId, mode: opensAt > now ? 'schedule' : 'now' });
   return electionId;
 }
 

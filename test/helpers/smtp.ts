@@ -21,7 +21,9 @@ export interface LoopbackSmtp {
   close(): Promise<void>;
 }
 
-export async function startSmtp(options: { refuse?: (address: string) => string | null } = {}): Promise<LoopbackSmtp> {
+export async function startSmtp(
+  options: { refuse?: (address: string) => string | null; /** Wait this long before answering DATA (a slow server). */ acceptDelayMs?: number } = {},
+): Promise<LoopbackSmtp> {
   const received: Received[] = [];
   const pending: Promise<void>[] = [];
   const server = new SMTPServer({
@@ -47,10 +49,13 @@ export async function startSmtp(options: { refuse?: (address: string) => string 
             received.push({ envelopeTo, raw: raw.toString('utf8'), mail });
           }),
         );
-        callback(null, 'accepted for delivery');
+        if (options.acceptDelayMs) setTimeout(() => callback(null, 'accepted for delivery'), options.acceptDelayMs);
+        else callback(null, 'accepted for delivery');
       });
     },
   });
+  // A client killed mid-message resets its connection: expected in the crash tests, not a failure here.
+  server.on('error', () => undefined);
   await new Promise<void>((resolve) => server.listen(0, '127.0.0.1', () => resolve()));
   const port = (server.server.address() as { port: number }).port;
   return {
