@@ -5,11 +5,14 @@
  * test/unit or test/integration spawns a process and is not listed here.
  */
 export const SLOW_TEST_FILES: readonly string[] = [
+  'test/integration/custody/everyDrawPublished.test.ts',
   'test/integration/foundation/dirLock.test.ts',
   'test/integration/foundation/noDrawDurationInLogs.test.ts',
   'test/integration/foundation/npmStart.test.ts',
   'test/integration/foundation/process.test.ts',
   'test/integration/foundation/readme.test.ts',
   'test/integration/foundation/receiptAfterKill.test.ts',
+  'test/integration/mail/invitations.test.ts',
+  'test/integration/web/offline-verifier.test.ts',
   'test/unit/cli/bin.test.ts',
 ];

@@ -1,4 +1,4 @@
-import { describeBounds, makeExponentialDraw, makePermuteAndFlipDraw } from '../../mechanism/index.ts';
+import { DEFAULT_DRAW_RULE, RULES, describeBounds, makeDraw, makeExponentialDraw, type DrawRule } from '../../mechanism/index.ts';
 import { DRAFT_LIMITS } from '../../elections/draft.ts';
 
 /** The page answers for any election this site can run (`veiltally bounds` goes further). */
@@ -14,8 +14,8 @@ export interface EpsilonRow {
   lead90: number;
   lead95: number;
   lead99: number;
-  /** The lead for 95% under the second draw rule, permute-and-flip (its own bound, bounds.ts). */
-  pfLead95: number;
+  /** The lead for 95% under each other rule of the registry (its own leader bound), in the order of otherRules. */
+  otherLeads95: number[];
 }
 
 export interface EpsilonHelpView {
@@ -23,6 +23,8 @@ export interface EpsilonHelpView {
   seats: number;
   epsilon: string;
   rows: EpsilonRow[];
+  /** The rules besides the default, each with a column of its own lead for 95%. */
+  otherRules: { id: DrawRule; name: string }[];
   /** The same figures `veiltally bounds --options D --epsilon E --seats K` prints, for the chosen ε. */
   bounds: { sentence: string; table: { margin: number; probability: string }[]; lead90: number; lead95: number; lead99: number };
   maxOptions: number;
@@ -33,6 +35,8 @@ export interface EpsilonHelpInput {
   seats: number;
   epsilon: string;
 }
+
+const OTHER_RULES = RULES.filter((r) => r.id !== DEFAULT_DRAW_RULE);
 
 /**
  * Builds the "Choosing ε" tables from the mechanism module at render time, so the page can never
@@ -51,7 +55,9 @@ export function epsilonHelpView(input: EpsilonHelpInput): EpsilonHelpView {
       lead90: b.marginFor['0.9'],
       lead95: b.marginFor['0.95'],
       lead99: b.marginFor['0.99'],
-      pfLead95: makePermuteAndFlipDraw({ epsilon, options, seats, neighbour: 'replace-one' }).bounds(0.05).marginFor['0.95'],
+      otherLeads95: OTHER_RULES.map(
+        (r) => makeDraw({ epsilon, options, seats, neighbour: 'replace-one', rule: r.id }).bounds(0.05).marginFor['0.95'],
+      ),
     };
   });
   const chosen = makeExponentialDraw({ epsilon: input.epsilon, options, seats, neighbour: 'replace-one' }).bounds(0.05);
@@ -60,6 +66,7 @@ export function epsilonHelpView(input: EpsilonHelpInput): EpsilonHelpView {
     seats,
     epsilon: input.epsilon,
     rows,
+    otherRules: OTHER_RULES.map((r) => ({ id: r.id, name: r.name })),
     bounds: {
       sentence: describeBounds(chosen, seats, 'future'),
       table: chosen.marginTable.map((r) => ({ margin: r.margin, probability: `${(Math.floor(r.minProbability * 1000) / 10).toFixed(1)}%` })),

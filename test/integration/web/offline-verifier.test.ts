@@ -1,4 +1,8 @@
+import { spawnSync } from 'node:child_process';
 import crypto from 'node:crypto';
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
 import vm from 'node:vm';
 import canonicalize from 'canonicalize';
 import { describe, expect, it } from 'vitest';
@@ -37,9 +41,9 @@ function coreOf(html: string): Core {
 describe.each(engines)('the offline checker /verify offers [%s]', (engine) => {
   const s = useMemberSuite(engine);
 
-  async function downloaded(): Promise<{ html: string; sha256: string; disposition: string }> {
+  async function downloaded(name = 'veiltally-verify.html'): Promise<{ html: string; sha256: string; disposition: string }> {
     const res = await request(s.app)
-      .get('/verify/veiltally-verify.html')
+      .get(`/verify/${name}`)
       .buffer(true)
       .parse((r, done) => {
         const chunks: Buffer[] = [];
@@ -143,5 +147,43 @@ describe.each(engines)('the offline checker /verify offers [%s]', (engine) => {
     // eslint-disable-next-line no-loss-of-precision -- as above
     expect(core.canonicalize([333333333.33333329, 1e30, 4.5, 2e-3, 1e-27])).toBe('[333333333.3333333,1e+30,4.5,0.002,1e-27]');
     expect(core.canonicalize([1e21, -0])).toBe('[1e+21,0]');
+  });
+
+  it('the Node twin runs with plain node from another folder: exit 0 on the pretty-printed statement, 1 when tampered, 2 for a missing file', async () => {
+    const d = await s.decided([[0], [1, 2], [0, 3]], { epsilon: '0.5', codes: 3 });
+    const text = (await request(s.app).get(`/results/${d.f.id}/statement.json`).expect(200)).text;
+    const envelope = JSON.parse(text) as StatementEnvelope;
+    const key = (await request(s.app).get(`/keys/${envelope.statement.keyId}.json`).expect(200)).text;
+    const file = await downloaded('veiltally-verify.mjs');
+    expect(file.disposition).toBe('attachment; filename="veiltally-verify.mjs"');
+    const page = (await request(s.app).get('/verify').expect(200)).text;
+    expect(/<code class="fingerprint" id="node-verifier-sha256">([0-9a-f]{64})<\/code>/.exec(page)?.[1]).toBe(file.sha256);
+    // The same check script as the page's, word for word.
+    const pageCore = /<script id="veiltally-verify-core">([\s\S]*?)<\/script>/.exec((await downloaded()).html)![1]!.trim();
+    expect(file.html).toContain(pageCore);
+
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-node-check-'));
+    try {
+      fs.writeFileSync(path.join(dir, 'veiltally-verify.mjs'), file.html);
+      fs.writeFileSync(path.join(dir, 'statement.json'), JSON.stringify(envelope, null, 2));
+      fs.writeFileSync(path.join(dir, 'key.json'), key);
+      const tampered = JSON.parse(text) as StatementEnvelope;
+      tampered.statement.released.winners = [envelope.statement.options.find((o) => !d.winners.includes(o))!];
+      fs.writeFileSync(path.join(dir, 'tampered.json'), JSON.stringify(tampered, null, 2));
+      // Plain node in a folder with no node_modules: no loader, no project, no network needed.
+      const run = (...args: string[]) =>
+        spawnSync(process.execPath, ['veiltally-verify.mjs', ...args], { cwd: dir, encoding: 'utf8', env: { PATH: process.env.PATH ?? '' } });
+      const good = run('statement.json', '--key', 'key.json', '--election', d.f.id);
+      expect(good.stdout).toContain('All checks passed.');
+      expect(good.stdout).not.toContain('FAIL');
+      expect(good.status).toBe(0);
+      const bad = run('tampered.json', '--key', 'key.json');
+      expect(bad.stdout).toMatch(/FAIL {2}The Ed25519 signature does NOT match/);
+      expect(bad.status).toBe(1);
+      expect(run('statement.json').status).toBe(1); // no key: the signer is not checked, so it does not pass
+      expect(run('missing.json', '--key', 'key.json').status).toBe(2);
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
   });
 });

@@ -12,7 +12,7 @@ import { STATEMENT_SCHEMA_URL, statementSchemaText } from '../../../statement/fo
 import type { AppDeps } from '../../deps.ts';
 import { ledgerPageView } from '../../presenters/ledger.ts';
 import { idParam, keyIdParam } from './schema.ts';
-import { OFFLINE_VERIFIER_NAME, OFFLINE_VERIFIER_URL, offlineVerifier } from './offlineVerifier.ts';
+import { offlineVerifiers } from './offlineVerifier.ts';
 
 export const KEYS_URL = '/.well-known/veiltally-keys.json';
 
@@ -73,24 +73,24 @@ export function statementsRouter(deps: AppDeps): Router {
   });
 
   router.get('/verify', (_req, res) => {
+    const { html, node } = offlineVerifiers();
     res.render('statements/verify', {
       title: 'How to check a statement',
       schemaUrl: STATEMENT_SCHEMA_URL,
       keysUrl: KEYS_URL,
-      verifier: {
-        url: OFFLINE_VERIFIER_URL,
-        name: OFFLINE_VERIFIER_NAME,
-        sha256: offlineVerifier().sha256,
-        kilobytes: Math.ceil(offlineVerifier().bytes.length / 1024),
-      },
+      verifier: html,
+      nodeVerifier: node,
     });
   });
 
-  // A download, never a page of this site: it is meant to be opened from the member's own disk, offline.
-  router.get(OFFLINE_VERIFIER_URL, (_req, res) => {
-    res.type('text/html').set('Content-Disposition', `attachment; filename="${OFFLINE_VERIFIER_NAME}"`);
-    res.send(offlineVerifier().bytes);
-  });
+  // Downloads, never pages of this site: they are meant to be run from the member's own disk, offline.
+  for (const which of ['html', 'node'] as const) {
+    router.get(`/verify/${offlineVerifiers()[which].name}`, (_req, res) => {
+      const f = offlineVerifiers()[which];
+      res.type(f.type).set('Content-Disposition', `attachment; filename="${f.name}"`);
+      res.send(f.bytes);
+    });
+  }
 
   router.get('/groups/:id/ledger', async (req, res) => {
     const param = idParam.safeParse(req.params);
