@@ -143,17 +143,24 @@ export function csrfLocals(deps: AppDeps): RequestHandler {
   const cookieName = csrfCookieName(secure);
   return (req, res, next) => {
     const organiserPage = ORGANISER_PAGE.test(req.path);
-    let anonymous: string | undefined;
-    res.locals.csrf = () => {
+    const made: { member?: string; signIn?: string } = {};
+    let nonce: string | undefined;
+    // A view passes 'sign-in' for a form that posts to the organiser area from another page (the home
+    // page's sample-elections button); otherwise the page's own area decides.
+    res.locals.csrf = (kind?: 'sign-in') => {
       if (req.session?.organiserId) return csrf.generateToken(req);
-      if (anonymous) return anonymous;
-      let nonce = cookieValue(req.headers.cookie, cookieName);
-      if (!nonce || !NONCE.test(nonce)) {
-        nonce = crypto.randomBytes(32).toString('base64url');
-        res.cookie(cookieName, nonce, { httpOnly: true, sameSite: 'lax', secure, path: '/' });
+      const signIn = kind === 'sign-in' || organiserPage;
+      const cached = signIn ? made.signIn : made.member;
+      if (cached) return cached;
+      if (!nonce) {
+        nonce = cookieValue(req.headers.cookie, cookieName);
+        if (!nonce || !NONCE.test(nonce)) {
+          nonce = crypto.randomBytes(32).toString('base64url');
+          res.cookie(cookieName, nonce, { httpOnly: true, sameSite: 'lax', secure, path: '/' });
+        }
       }
-      anonymous = organiserPage ? signInToken(deps.sessionSecret, nonce, addressOf(req)) : anonymousToken(deps.sessionSecret, nonce);
-      return anonymous;
+      if (signIn) return (made.signIn = signInToken(deps.sessionSecret, nonce, addressOf(req)));
+      return (made.member = anonymousToken(deps.sessionSecret, nonce));
     };
     next();
   };
