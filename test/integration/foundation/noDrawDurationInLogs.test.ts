@@ -6,7 +6,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { openDatabase, type Engine } from '../../../src/db/knex.ts';
 import { migrateLatest } from '../../../src/db/migrate.ts';
 import { castAll, createOrganiser, FIXTURE_PASSPHRASE, FIXTURE_PASSWORD, openElectionFixture } from '../../helpers/fixtures.ts';
-import { testClock, testContext } from '../../helpers/context.ts';
+import { testClock, testContext, testKeyDirectory } from '../../helpers/context.ts';
 import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
 import { startServer } from '../../helpers/server.ts';
 
@@ -50,6 +50,8 @@ describe.each(engines)('no draw duration in the logs at debug level [%s]', (engi
     // The election is made and voted in on a clock an hour behind and closes now, so it has closed by
     // the time the server (on the real clock) reads it, however long casting took.
     const clock = testClock(new Date(Date.now() - 3_600_000));
+    // The server opens the sealed ballots with the key files this test's context wrote.
+    env.VEILTALLY_KEY_DIR = testKeyDirectory(db).dir;
     const ctx = testContext(db, { now: clock.now, secrets: { codePepper: pepper, signingSeed: crypto.randomBytes(32) } });
     const organiserId = await createOrganiser(ctx, 'secretary@boats.example');
     const closesAt = new Date();

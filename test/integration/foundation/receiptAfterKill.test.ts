@@ -5,7 +5,7 @@ import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { openDatabase, type Engine } from '../../../src/db/knex.ts';
 import { migrateLatest } from '../../../src/db/migrate.ts';
-import { testContext } from '../../helpers/context.ts';
+import { testContext, testKeyDirectory } from '../../helpers/context.ts';
 import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
 import { createOrganiser, openElectionFixture } from '../../helpers/fixtures.ts';
 import { startServer, type RunningServer } from '../../helpers/server.ts';
@@ -86,6 +86,8 @@ describe.each(engines)('receipt after SIGKILL of a real server [%s]', (engine: E
       await migrateLatest(db.knex);
       knex = { ...db, dispose: () => db.close() };
     }
+    // The server opens the sealed ballots with the key files this test's context wrote.
+    env.VEILTALLY_KEY_DIR = testKeyDirectory(knex).dir;
     const ctx = testContext(knex, { secrets: { codePepper: pepper, signingSeed: seed } });
     const organiserId = await createOrganiser(ctx);
     const f = await openElectionFixture(ctx, organiserId, { codes: MEMBERS });
