@@ -118,6 +118,7 @@ async function postgresIntake(opts: BenchOptions): Promise<Figure[]> {
       DATABASE_URL: scratch.url,
       VEILTALLY_DATA_DIR: dataDir,
       VEILTALLY_CODE_PEPPER: pepper.toString('hex'),
+      VEILTALLY_KEY_DIR: testKeyDirectory(db).dir,
     });
     try {
       for (const { concurrency, casts } of levels) {
@@ -163,7 +164,11 @@ async function embeddedIntake(opts: BenchOptions): Promise<Figure[]> {
     } finally {
       await db.close();
     }
-    const server = await startCompiledServer({ VEILTALLY_DATA_DIR: dataDir, VEILTALLY_CODE_PEPPER: pepper.toString('hex') });
+    const server = await startCompiledServer({
+      VEILTALLY_DATA_DIR: dataDir,
+      VEILTALLY_CODE_PEPPER: pepper.toString('hex'),
+      VEILTALLY_KEY_DIR: testKeyDirectory(db).dir,
+    });
     try {
       const prepared = await prepareCasts(server.url, electionId, codes, approvalsFor);
       const r = await castAll(server.url, prepared, concurrency);
