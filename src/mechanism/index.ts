@@ -7,6 +7,7 @@ export { type Epsilon, parseEpsilon, EPSILON_RULE, EPSILON_MIN_TEXT, EPSILON_MAX
 export { InvalidEpsilon, InvalidMechanismConfig, InvalidScores } from './errors.ts';
 export type { Rational } from './rational.ts';
 export { bernoulliRational, bernoulliExpMinus } from './bernoulli.ts';
+export { discreteLaplace } from './discreteLaplace.ts';
 export {
   type Neighbour,
   type ExponentialDraw,
