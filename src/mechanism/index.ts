@@ -9,6 +9,21 @@ export type { Rational } from './rational.ts';
 export { bernoulliRational, bernoulliExpMinus } from './bernoulli.ts';
 export { discreteLaplace } from './discreteLaplace.ts';
 export {
+  type TurnoutPlan,
+  type TurnoutMark,
+  type TurnoutStep,
+  type TurnoutError,
+  MAX_TURNOUT_RELEASES,
+  planLiveTurnout,
+  releaseTurnout,
+  releaseWithNoise,
+  seriesWithNoise,
+  treeSensitivity,
+  turnoutError,
+  turnoutNoise,
+  nodesInRelease,
+} from './liveTurnout.ts';
+export {
   type Neighbour,
   type ExponentialDraw,
   type SeatDraw,
