@@ -22,6 +22,13 @@ export {
   turnoutError,
   turnoutNoise,
   nodesInRelease,
+  type TurnoutIntervalHours,
+  type TurnoutUsefulness,
+  type TurnoutGuidance,
+  TURNOUT_INTERVAL_HOURS,
+  ROUGH_TURNOUT_SHARE,
+  turnoutSchedule,
+  liveTurnoutGuidance,
 } from './liveTurnout.ts';
 export {
   type Neighbour,

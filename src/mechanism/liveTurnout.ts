@@ -198,3 +198,68 @@ function quantileOfSum(n: number, b: number, alpha: number): number {
   }
   return lo;
 }
+
+/** Release intervals an organiser may choose, in hours. */
+export const TURNOUT_INTERVAL_HOURS = [1, 3, 6, 12, 24] as const;
+export type TurnoutIntervalHours = (typeof TURNOUT_INTERVAL_HOURS)[number];
+
+const HOUR_MS = 3_600_000;
+
+/**
+ * The fixed release times for a vote from `opensAt` to `closesAt`: one every `intervalHours` after the
+ * opening, the last at the closing (earlier if the interval divides the voting time exactly). Fixed
+ * before opening, so when a release happens says nothing about the casts.
+ */
+export function turnoutSchedule(opensAt: Date, closesAt: Date, intervalHours: number): Date[] {
+  if (!(TURNOUT_INTERVAL_HOURS as readonly number[]).includes(intervalHours)) {
+    throw new InvalidMechanismConfig(`a release interval must be one of ${TURNOUT_INTERVAL_HOURS.join(', ')} hours`);
+  }
+  const span = closesAt.getTime() - opensAt.getTime();
+  if (!Number.isFinite(span) || span <= 0) throw new InvalidMechanismConfig('voting must close after it opens');
+  const step = intervalHours * HOUR_MS;
+  const count = Math.ceil(span / step);
+  checkReleases(count);
+  return Array.from({ length: count }, (_, i) => new Date(Math.min(opensAt.getTime() + (i + 1) * step, closesAt.getTime())));
+}
+
+/**
+ * Our own planning lines, stated on the form: useless when the 95% error is at least the whole
+ * electorate; rough when it is a quarter of it or more; else useful.
+ */
+export type TurnoutUsefulness = 'useful' | 'rough' | 'useless';
+export const ROUGH_TURNOUT_SHARE = 0.25;
+
+export interface TurnoutGuidance extends TurnoutError {
+  releases: number;
+  electorate: number;
+  /** ballots95 as a whole percentage of the electorate, rounded up. */
+  percentOfElectorate: number;
+  usefulness: TurnoutUsefulness;
+  sentence: string;
+}
+
+/** What the form shows before a live turnout is enabled: the error in ballots for this electorate and schedule. */
+export function liveTurnoutGuidance(releases: number, epsilon: string | Epsilon, electorate: number): TurnoutGuidance {
+  if (!Number.isSafeInteger(electorate) || electorate < 1) {
+    throw new InvalidMechanismConfig('the electorate must be a whole number of at least 1');
+  }
+  const e = toEpsilon(epsilon);
+  const error = turnoutError(releases, e);
+  const percentOfElectorate = Math.ceil((100 * error.ballots95) / electorate);
+  const usefulness: TurnoutUsefulness =
+    error.ballots95 >= electorate ? 'useless' : error.ballots95 >= ROUGH_TURNOUT_SHARE * electorate ? 'rough' : 'useful';
+  const where = releases === 1 ? 'The one release' : `Any one of the ${releases} releases`;
+  const base =
+    `${where} is within ±${error.ballots95} ballots of the true turnout with at least 95% certainty` +
+    (releases === 1
+      ? ''
+      : ` (that is for the noisiest, release ${error.worstRelease}, a sum of ${error.nodes} noisy parts; not for all releases at once)`) +
+    `: ±${percentOfElectorate}% of an electorate of ${electorate}, at ε = ${e.text} for whether a member voted.`;
+  const verdict =
+    usefulness === 'useless'
+      ? ` With an electorate of ${electorate} this would be useless: the error is larger than the whole electorate. Choose fewer releases or a larger ε, or leave it off.`
+      : usefulness === 'rough'
+        ? ` That is rough: only large swings in participation will show.`
+        : '';
+  return { ...error, releases, electorate, percentOfElectorate, usefulness, sentence: base + verdict };
+}

@@ -2,12 +2,14 @@ import binomialTest from '@stdlib/stats-binomial-test';
 import { describe, expect, it } from 'vitest';
 import {
   MAX_TURNOUT_RELEASES,
+  liveTurnoutGuidance,
   planLiveTurnout,
   releaseTurnout,
   seriesWithNoise,
   treeSensitivity,
   turnoutError,
   turnoutNoise,
+  turnoutSchedule,
   type TurnoutMark,
   type TurnoutPlan,
 } from '../../../src/mechanism/index.ts';
@@ -246,5 +248,32 @@ describe('the counter’s error against Chan, Shi & Song 2011 (Thm 3.6 with Cor.
         `${((100 * beyondFigureAtWorst.n) / RUNS).toFixed(2)}% beyond); Chan–Shi–Song bound ${chanShiSongBound(7, b, 0.05).toFixed(1)}, ` +
         `most runs beyond it at any hour ${Math.max(...beyondBound)}; runs with some hour beyond ±${figure}: ${((100 * runsWithAnyHourBeyondFigure) / RUNS).toFixed(1)}%`,
     );
+  });
+});
+
+describe('what the form says before a live turnout is enabled', () => {
+  it('reproduces the issue’s example: ±119 ballots is ±24% of 500 and ±238% of 50, the latter useless', () => {
+    const large = liveTurnoutGuidance(168, '0.5', 500);
+    expect(large).toMatchObject({ ballots95: 119, percentOfElectorate: 24, usefulness: 'useful' });
+    expect(large.sentence).toContain('±119 ballots');
+    expect(large.sentence).toContain('not for all releases at once');
+    const small = liveTurnoutGuidance(168, '0.5', 50);
+    expect(small).toMatchObject({ ballots95: 119, percentOfElectorate: 238, usefulness: 'useless' });
+    expect(small.sentence).toMatch(/would be useless: the error is larger than the whole electorate/);
+    expect(liveTurnoutGuidance(168, '0.5', 400).usefulness).toBe('rough'); // 119 ≥ 100
+    expect(liveTurnoutGuidance(168, '0.5', 119).usefulness).toBe('useless'); // error equals the electorate
+    expect(() => liveTurnoutGuidance(168, '0.5', 0)).toThrow();
+  });
+
+  it('releases are fixed by the schedule alone: every interval after the opening, the last at the closing', () => {
+    const week = turnoutSchedule(new Date('2026-03-01T09:00Z'), new Date('2026-03-08T09:00Z'), 1);
+    expect(week).toHaveLength(168);
+    expect(week[0]!.toISOString()).toBe('2026-03-01T10:00:00.000Z');
+    expect(week.at(-1)!.toISOString()).toBe('2026-03-08T09:00:00.000Z');
+    const day = turnoutSchedule(new Date('2026-03-01T09:00Z'), new Date('2026-03-01T20:30Z'), 3).map((d) => d.toISOString());
+    expect(day).toEqual(['2026-03-01T12:00:00.000Z', '2026-03-01T15:00:00.000Z', '2026-03-01T18:00:00.000Z', '2026-03-01T20:30:00.000Z']);
+    expect(() => turnoutSchedule(new Date('2026-03-01T09:00Z'), new Date('2026-03-01T09:00Z'), 1)).toThrow();
+    expect(() => turnoutSchedule(new Date('2026-03-01T09:00Z'), new Date('2026-03-02T09:00Z'), 2)).toThrow(/interval/);
+    expect(() => turnoutSchedule(new Date('2026-01-01T00:00Z'), new Date('2026-12-01T00:00Z'), 1)).toThrow(/releases/);
   });
 });
