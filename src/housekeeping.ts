@@ -2,6 +2,7 @@ import { deleteExpiredSessions } from './accounts/sessionRepo.ts';
 import { publishDue } from './elections/publishResult.ts';
 import { releaseAbandonedTallies } from './elections/closeAndTally.ts';
 import { shredDue } from './elections/shred.ts';
+import { releaseDueTurnouts } from './elections/liveTurnout.ts';
 import { sendDueMail } from './elections/sendMail.ts';
 import type { UseCaseContext } from './elections/context.ts';
 import type { Logger } from './log.ts';
@@ -20,6 +21,8 @@ export interface Job {
 export const jobs: readonly Job[] = [
   // First, so that at start-up a tally interrupted by the last stop is offered again at once.
   { name: 'release tallies whose process has gone', run: (ctx) => releaseAbandonedTallies(ctx) },
+  // Live turnouts: the releases whose fixed time has come (src/elections/liveTurnout.ts).
+  { name: 'release live turnouts that are due', run: (ctx) => releaseDueTurnouts(ctx) },
   { name: 'expire sessions', run: (ctx) => deleteExpiredSessions(ctx.knex, ctx.now()) },
   // Attempt-limit rows whose window has ended (src/web/middleware/limits.ts); `expire` is in ms.
   { name: 'forget ended attempt limits', run: (ctx) => ctx.knex('rate_limits').where('expire', '<', ctx.now().getTime()).delete() },

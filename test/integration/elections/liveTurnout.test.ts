@@ -1,0 +1,90 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
+import { testClock, testContext } from '../../helpers/context.ts';
+import { castAll, createDraft, createOrganiser, openFixture, type ElectionFixture } from '../../helpers/fixtures.ts';
+import { listTurnoutReleases, releaseDueTurnouts } from '../../../src/elections/liveTurnout.ts';
+import { jobs } from '../../../src/housekeeping.ts';
+import type { UseCaseContext } from '../../../src/elections/context.ts';
+import { migrateLatest, rollbackAll } from '../../../src/db/migrate.ts';
+
+const DAY = 24 * 3600_000;
+
+/**
+ * Housekeeping's live-turnout releases on each engine: made at the schedule's fixed times only,
+ * once each, noisy figures stored, and the exact counts kept only while a tree node still needs them.
+ * The live turnout is switched on here in the row itself: the election form's field is not built yet.
+ */
+describe.each(engines)('live turnout releases [%s]', (engine) => {
+  let db: TestDatabase;
+  let ctx: UseCaseContext;
+  const clock = testClock('2026-06-01T09:00:00Z');
+  let on: ElectionFixture;
+  let off: ElectionFixture;
+
+  beforeAll(async () => {
+    db = await freshDatabase(engine);
+    ctx = testContext(db, { now: clock.now });
+    const organiser = await createOrganiser(ctx);
+    on = await createDraft(ctx, organiser, { codes: 8 });
+    off = await createDraft(ctx, organiser, { codes: 8 });
+    await ctx.knex('elections').where({ id: on.id }).update({ live_turnout_epsilon: '1', live_turnout_interval_hours: 24 });
+    await openFixture(ctx, on);
+    await openFixture(ctx, off);
+  });
+
+  afterAll(async () => {
+    await db?.dispose();
+  });
+
+  it('makes nothing before the first release is due, then exactly the due ones, once', async () => {
+    await castAll(ctx, on, [[0], [1], [0, 2]]);
+    await castAll(ctx, off, [[0]]);
+    clock.advance(DAY - 60_000);
+    expect(await releaseDueTurnouts(ctx)).toBe(0);
+    clock.advance(2 * 60_000);
+    expect(await releaseDueTurnouts(ctx)).toBe(1);
+    expect(await releaseDueTurnouts(ctx)).toBe(0); // asked again: nothing new
+    const [first] = await listTurnoutReleases(ctx, on.id);
+    expect(first).toMatchObject({ step: 1, dueAt: new Date('2026-06-02T09:00:00Z') });
+    // Release 1 is the node (0, 1]: the exact 3 is kept until the nodes starting later no longer need it.
+    const marks = await ctx.knex('live_turnout_marks').where({ election_id: on.id }).select('at', 'exact');
+    expect(marks.map((m) => [Number(m.at), Number(m.exact)])).toEqual([[1, 3]]);
+    expect(await listTurnoutReleases(ctx, off.id)).toEqual([]);
+  });
+
+  it('catches up missed releases in order, and keeps no exact count after the last', async () => {
+    await castAll(ctx, on, [[3], [1]], 3);
+    clock.advance(2 * DAY); // releases 2 and 3 are due
+    expect(await releaseDueTurnouts(ctx)).toBe(2);
+    const marks = await ctx.knex('live_turnout_marks').where({ election_id: on.id }).orderBy('at').select('at', 'exact');
+    // After release 3 = 0b11: the truncations 3 and 2 are kept, with the exact turnout at each.
+    expect(marks.map((m) => [Number(m.at), Number(m.exact)])).toEqual([
+      [2, 5],
+      [3, 5],
+    ]);
+    clock.advance(10 * DAY); // past the closing: the rest (7 daily releases in all)
+    expect(await releaseDueTurnouts(ctx)).toBe(4);
+    const series = await listTurnoutReleases(ctx, on.id);
+    expect(series.map((r) => r.step)).toEqual([1, 2, 3, 4, 5, 6, 7]);
+    expect(series.at(-1)!.dueAt).toEqual(new Date('2026-06-08T09:00:00Z'));
+    expect(series.every((r) => Number.isSafeInteger(r.released))).toBe(true);
+    expect((await ctx.knex('live_turnout_marks').select('at')).length).toBe(0);
+    expect(await releaseDueTurnouts(ctx)).toBe(0);
+  });
+
+  it('is one of housekeeping’s jobs', () => {
+    expect(jobs.map((j) => j.name)).toContain('release live turnouts that are due');
+  });
+
+  it('its migration goes down and up again', async () => {
+    const other = await freshDatabase(engine);
+    try {
+      await rollbackAll(other.knex);
+      expect(await other.knex.schema.hasTable('live_turnout_releases')).toBe(false);
+      await migrateLatest(other.knex);
+      expect(await other.knex.schema.hasTable('live_turnout_marks')).toBe(true);
+    } finally {
+      await other.dispose();
+    }
+  });
+});
