@@ -19,7 +19,8 @@ export async function listTurnoutReleases(ctx: Pick<UseCaseContext, 'knex'>, ele
  * Housekeeping: every scheduled release that is due, for every election with a live turnout, in
  * order, each in one transaction that locks the election row (SKIP LOCKED: another instance at it
  * is left alone). Releases happen at the schedule's fixed times, never on demand; one missed while
- * the server was down is made at the next round from the turnout then. Returns the releases made.
+ * the server was down is made at the next round from the turnout then. Returns the releases made;
+ * an election that fails is reported (the first failure is thrown) after the others have had their turn.
  */
 export async function releaseDueTurnouts(ctx: UseCaseContext): Promise<number> {
   const now = ctx.now();
@@ -30,7 +31,16 @@ export async function releaseDueTurnouts(ctx: UseCaseContext): Promise<number> {
     .where('opens_at', '<', now)
     .select('id');
   let made = 0;
-  for (const { id } of candidates) made += await releaseDueFor(ctx, String(id), now);
+  let failure: unknown = null;
+  // One election whose settings cannot be released (refused by the core) must not hold up the others.
+  for (const { id } of candidates) {
+    try {
+      made += await releaseDueFor(ctx, String(id), now);
+    } catch (e) {
+      failure ??= e;
+    }
+  }
+  if (failure) throw failure;
   return made;
 }
 

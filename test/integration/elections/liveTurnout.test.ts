@@ -72,6 +72,20 @@ describe.each(engines)('live turnout releases [%s]', (engine) => {
     expect(await releaseDueTurnouts(ctx)).toBe(0);
   });
 
+  it('an election whose settings the core refuses does not hold up the others', async () => {
+    const organiser = (await ctx.knex('elections').where({ id: on.id }).first('owner_id')).owner_id as string;
+    const broken = await createDraft(ctx, organiser, { codes: 2, opensAt: clock.now(), closesAt: new Date(clock.now().getTime() + 3 * DAY) });
+    const fine = await createDraft(ctx, organiser, { codes: 2, opensAt: clock.now(), closesAt: new Date(clock.now().getTime() + 3 * DAY) });
+    await ctx.knex('elections').where({ id: broken.id }).update({ live_turnout_epsilon: '1', live_turnout_interval_hours: 2 }); // not a choice
+    await ctx.knex('elections').where({ id: fine.id }).update({ live_turnout_epsilon: '1', live_turnout_interval_hours: 24 });
+    await openFixture(ctx, broken);
+    await openFixture(ctx, fine);
+    clock.advance(DAY + 60_000);
+    await expect(releaseDueTurnouts(ctx)).rejects.toThrow(/interval/);
+    expect(await listTurnoutReleases(ctx, fine.id)).toHaveLength(1);
+    expect(await listTurnoutReleases(ctx, broken.id)).toEqual([]);
+  });
+
   it('is one of housekeeping’s jobs', () => {
     expect(jobs.map((j) => j.name)).toContain('release live turnouts that are due');
   });
