@@ -30,6 +30,8 @@ export interface Election {
   publishTurnout: boolean;
   retentionDays: number | null;
   expectedVoters: number | null;
+  /** The opt-in live turnout (src/elections/liveTurnout.ts): its own ε and release interval; null when off. */
+  liveTurnout: { epsilon: string; intervalHours: number } | null;
   publicKey: Buffer | null;
   wrappedKey: unknown;
   result: unknown;
@@ -83,6 +85,8 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     publishTurnout: r.publish_turnout as boolean,
     retentionDays: (r.retention_days as number | null) ?? null,
     expectedVoters: (r.expected_voters as number | null) ?? null,
+    liveTurnout:
+      r.live_turnout_epsilon == null ? null : { epsilon: String(r.live_turnout_epsilon), intervalHours: Number(r.live_turnout_interval_hours) },
     publicKey: r.public_key == null ? null : toBuffer(r.public_key),
     wrappedKey: r.wrapped_key == null ? null : json(r.wrapped_key),
     result: r.result == null ? null : json(r.result),

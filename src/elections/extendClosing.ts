@@ -26,6 +26,11 @@ export async function extendClosing(
       );
     }
     const to = input.closesAt;
+    const issue0 = (message: string) => new InvalidInput(message, [{ path: 'closesAt', message }]);
+    // The live turnout's releases, and its noise (which depends on how many there are), were fixed
+    // before opening: more releases would need more noise on nodes already released.
+    if (e.liveTurnout)
+      throw issue0('This election has a live turnout, whose releases were fixed before opening, so its closing time cannot be moved.');
     const issue = (message: string) => new InvalidInput(message, [{ path: 'closesAt', message }]);
     if (!(to instanceof Date) || Number.isNaN(to.getTime())) throw issue('Enter a date and time, for example 2026-05-14T18:30.');
     if (to.getTime() <= e.closesAt.getTime())

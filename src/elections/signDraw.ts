@@ -4,6 +4,8 @@ import {
   buildPublicStatement,
   canonicalJson,
   ledgerTotals,
+  sumEpsilons,
+  turnoutSchedule,
   toMinute,
   unprotectedReleases,
   type ExponentialDraw,
@@ -32,11 +34,13 @@ export async function chargeAndSign(
   const { election: e, draw, at } = input;
   // One election, one draw: if a statement exists (an election reset behind the app's back), refuse.
   if (await trx('statements').where({ election_id: e.id }).first('draw_sequence')) throw new AlreadyTallied();
+  // A live turnout's releases are charged with the draw, to whether a member voted (basic composition).
+  const live = e.liveTurnout ? { ...e.liveTurnout, releases: turnoutSchedule(e.opensAt, e.closesAt, e.liveTurnout.intervalHours).length } : null;
   const charge = {
     electionId: e.id,
     at,
     howVoted: draw.privacy.howVoted,
-    whetherVoted: draw.privacy.whetherVoted,
+    whetherVoted: live ? sumEpsilons([draw.privacy.whetherVoted, live.epsilon]) : draw.privacy.whetherVoted,
     unprotected: unprotectedReleases(e.publishTurnout),
   };
   // A roster election is charged to the members recorded at its opening; printed codes to the owner's group.
@@ -65,6 +69,7 @@ export async function chargeAndSign(
     optionLabels: e.options.map((o) => o.label),
     winners: input.winners,
     publishedTurnout: e.publishTurnout ? input.ballots : null,
+    liveTurnout: live,
     ledger,
   });
   const canonical = canonicalJson(statement);

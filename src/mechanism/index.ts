@@ -99,6 +99,8 @@ export {
   type StatementEnvelope,
   type ParameterCheck,
   type StatementLedger,
+  type LiveTurnoutRelease,
+  liveTurnoutRelease,
   type GroupStatementLedger,
   type MemberStatementLedger,
   isMemberLedger,

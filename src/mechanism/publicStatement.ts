@@ -3,7 +3,8 @@ import type { Bounds } from './bounds.ts';
 import type { ExponentialDraw, Neighbour } from './draw.ts';
 import { makeDraw } from './draw.ts';
 import { InvalidMechanismConfig } from './errors.ts';
-import { epsilonExceeds, type LedgerTotals, type UnprotectedRelease } from './ledger.ts';
+import { epsilonExceeds, sumEpsilons, type LedgerTotals, type UnprotectedRelease } from './ledger.ts';
+import { planLiveTurnout } from './liveTurnout.ts';
 import { rationalToText } from './rational.ts';
 import { DRAW_RULES, isDrawRule, ruleModule, type DrawRule } from './rules/index.ts';
 import { factorAtMost, type Protection } from './statement.ts';
@@ -49,6 +50,12 @@ export interface PublicStatement {
     winners: string[];
     /** Present only when the organiser chose to publish it; exact and unprotected. */
     turnout: { value: number; exact: true; protected: false } | null;
+    /**
+     * Present only when the organiser switched a live turnout on: noisy turnouts released while voting
+     * ran, at fixed times, by the binary-tree counter with discrete Laplace noise of scale `nodeScale`
+     * on every node (src/mechanism/liveTurnout.ts). Its ε is added to whether a member voted.
+     */
+    liveTurnout?: LiveTurnoutRelease;
   };
   privacy: {
     howVoted: Protection;
@@ -68,6 +75,27 @@ export interface PublicStatement {
 export type StatementLedger = GroupStatementLedger | MemberStatementLedger;
 export type GroupStatementLedger = { groupId: string; groupName: string } & LedgerTotals;
 export type MemberStatementLedger = { members: number } & LedgerTotals;
+
+export interface LiveTurnoutRelease {
+  counter: 'binary-tree';
+  epsilon: string;
+  releases: number;
+  intervalHours: number;
+  /** b = ⌈log2(releases + 1)⌉/ε, exact. */
+  nodeScale: string;
+}
+
+/** The statement's record of a live turnout, from its settings. */
+export function liveTurnoutRelease(input: { epsilon: string; releases: number; intervalHours: number }): LiveTurnoutRelease {
+  const plan = planLiveTurnout(input.releases, input.epsilon);
+  return {
+    counter: 'binary-tree',
+    epsilon: plan.epsilon.text,
+    releases: plan.releases,
+    intervalHours: input.intervalHours,
+    nodeScale: rationalToText(plan.scale),
+  };
+}
 
 export const isMemberLedger = (l: StatementLedger): l is MemberStatementLedger => 'members' in l;
 
@@ -94,6 +122,8 @@ export function buildPublicStatement(input: {
   winners: readonly number[] | null;
   /** The exact ballot count only when the organiser publishes it, else null. */
   publishedTurnout: number | null;
+  /** The live turnout's settings when it was on; absent or null when off. */
+  liveTurnout?: { epsilon: string; releases: number; intervalHours: number } | null;
   ledger: StatementLedger;
 }): PublicStatement {
   const { draw } = input;
@@ -108,6 +138,8 @@ export function buildPublicStatement(input: {
   const turnout = input.publishedTurnout;
   if (turnout !== null && (!Number.isSafeInteger(turnout) || turnout < 0)) throw new InvalidMechanismConfig('turnout must be a whole number ≥ 0');
   const published = turnout !== null;
+  const live = input.liveTurnout ? liveTurnoutRelease(input.liveTurnout) : null;
+  const whetherEpsilon = live ? sumEpsilons([draw.privacy.whetherVoted, live.epsilon]) : draw.privacy.whetherVoted;
   return {
     format: STATEMENT_FORMAT,
     electionId: input.electionId,
@@ -135,10 +167,11 @@ export function buildPublicStatement(input: {
         return label;
       }),
       turnout: published ? { value: turnout, exact: true, protected: false } : null,
+      ...(live ? { liveTurnout: live } : {}),
     },
     privacy: {
       howVoted: { epsilon: draw.privacy.howVoted, factorAtMost: factorAtMost(draw.privacy.howVoted) },
-      whetherVoted: published ? null : { epsilon: draw.privacy.whetherVoted, factorAtMost: factorAtMost(draw.privacy.whetherVoted) },
+      whetherVoted: published ? null : { epsilon: whetherEpsilon, factorAtMost: factorAtMost(whetherEpsilon) },
       unprotected: unprotectedReleases(published),
     },
     bounds: draw.bounds(0.05),
@@ -192,11 +225,26 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
     isDeepStrictEqual(s.privacy.howVoted, how),
     `how a member voted is protected at ε = ${how.epsilon} (odds change by at most ×${how.factorAtMost})`,
   );
-  const whether = published ? null : { epsilon: draw.privacy.whetherVoted, factorAtMost: factorAtMost(draw.privacy.whetherVoted) };
+  let live: LiveTurnoutRelease | null = null;
+  if (s.released.liveTurnout !== undefined) {
+    try {
+      live = liveTurnoutRelease(s.released.liveTurnout);
+    } catch {
+      live = null;
+    }
+    add(
+      live !== null && isDeepStrictEqual(s.released.liveTurnout, live),
+      live
+        ? `the live turnout's ${live.releases} releases at ε = ${live.epsilon} put noise of scale ${live.nodeScale} on each tree node`
+        : 'the live turnout settings are not valid',
+    );
+  }
+  const whetherEpsilon = live ? sumEpsilons([draw.privacy.whetherVoted, live.epsilon]) : draw.privacy.whetherVoted;
+  const whether = published ? null : { epsilon: whetherEpsilon, factorAtMost: factorAtMost(whetherEpsilon) };
   add(
     isDeepStrictEqual(s.privacy.whetherVoted, whether),
     whether
-      ? `whether a member voted is protected at ε = ${whether.epsilon}`
+      ? `whether a member voted is protected at ε = ${whether.epsilon}${live ? ` (the draw's ${draw.privacy.whetherVoted} and the live turnout's ${live.epsilon}, basic composition)` : ''}`
       : 'whether a member voted is not protected, because an exact turnout was published',
   );
   add(

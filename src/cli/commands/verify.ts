@@ -155,9 +155,15 @@ function summary(e: StatementEnvelope): string {
   const winners = s.released.anyoneVoted ? s.released.winners.map((w) => `"${shown(w)}"`).join(', ') : 'none (no ballots were cast)';
   const turnout = s.released.turnout ? `${s.released.turnout.value} ballots (exact, not protected)` : 'not published';
   const whether = s.privacy.whetherVoted ? `ε = ${s.privacy.whetherVoted.epsilon}` : 'not protected (exact turnout published)';
+  const live = s.released.liveTurnout;
   return [
     `What the statement says: election "${shown(s.electionTitle)}" (${s.electionId}), draw number ${s.drawSequence} of this instance, drawn ${s.drawnAt}.`,
     `Released: winners ${winners}; turnout ${turnout}; whether anyone voted (not protected).`,
+    ...(live
+      ? [
+          `Live turnout while voting ran: ${live.releases} noisy releases, one every ${live.intervalHours} hour(s), ε = ${live.epsilon} (binary-tree counter, discrete Laplace of scale ${live.nodeScale} on each node), included in whether a member voted.`,
+        ]
+      : []),
     `Rule: ${s.mechanism.rule}, ε = ${s.mechanism.epsilon}, ${s.mechanism.seats} seat(s), ${s.mechanism.neighbour} neighbours. How a member voted: ε = ${s.privacy.howVoted.epsilon}; whether: ${whether}.`,
     isMemberLedger(s.ledger)
       ? `The ${s.ledger.members} members of the roster over the 12 months to this draw, the most any one of them has: ${s.ledger.draws} draw(s), ε = ${s.ledger.howVotedEpsilon} for how they voted, ε = ${s.ledger.whetherVotedEpsilon} for whether (every draw on the instance over their address; basic composition, Dwork & Roth 2014, Thm 3.16).`

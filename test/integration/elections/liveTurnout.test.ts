@@ -1,7 +1,9 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
 import { testClock, testContext } from '../../helpers/context.ts';
-import { castAll, createDraft, createOrganiser, openFixture, type ElectionFixture } from '../../helpers/fixtures.ts';
+import { castAll, createDraft, createOrganiser, openFixture, tallyFixture, type ElectionFixture } from '../../helpers/fixtures.ts';
+import { findStatement } from '../../../src/elections/signDraw.ts';
+import { extendClosing } from '../../../src/elections/extendClosing.ts';
 import { listTurnoutReleases, releaseDueTurnouts } from '../../../src/elections/liveTurnout.ts';
 import { jobs } from '../../../src/housekeeping.ts';
 import type { UseCaseContext } from '../../../src/elections/context.ts';
@@ -34,6 +36,14 @@ describe.each(engines)('live turnout releases [%s]', (engine) => {
 
   afterAll(async () => {
     await db?.dispose();
+  });
+
+  it('its closing time cannot be moved (the schedule and the noise were fixed before opening); another election’s can', async () => {
+    const later = new Date(clock.now().getTime() + 10 * DAY);
+    await expect(extendClosing(ctx, { electionId: on.id, organiserId: on.organiserId, closesAt: later })).rejects.toThrow(/live turnout/);
+    const moved = await createDraft(ctx, on.organiserId, { codes: 1 });
+    await openFixture(ctx, moved);
+    await expect(extendClosing(ctx, { electionId: moved.id, organiserId: moved.organiserId, closesAt: later })).resolves.toMatchObject({ to: later });
   });
 
   it('makes nothing before the first release is due, then exactly the due ones, once', async () => {
@@ -70,6 +80,21 @@ describe.each(engines)('live turnout releases [%s]', (engine) => {
     expect(series.every((r) => Number.isSafeInteger(r.released))).toBe(true);
     expect((await ctx.knex('live_turnout_marks').select('at')).length).toBe(0);
     expect(await releaseDueTurnouts(ctx)).toBe(0);
+  });
+
+  it('the draw charges the live turnout’s ε to whether a member voted and the statement names it with its releases', async () => {
+    await tallyFixture(ctx, on, true);
+    const stored = await findStatement(ctx.knex, on.id);
+    const s = stored!.envelope.statement;
+    expect(s.released.liveTurnout).toEqual({ counter: 'binary-tree', epsilon: '1', releases: 7, intervalHours: 24, nodeScale: '3' });
+    expect(s.privacy.whetherVoted?.epsilon).toBe('2'); // the draw's 1 and the live turnout's 1
+    const row = await ctx.knex('privacy_ledger').where({ election_id: on.id }).first('how_voted_epsilon', 'whether_voted_epsilon');
+    expect(row).toMatchObject({ how_voted_epsilon: '1', whether_voted_epsilon: '2' });
+    // An election without it is charged as before.
+    await tallyFixture(ctx, off, true);
+    const plain = (await findStatement(ctx.knex, off.id))!.envelope.statement;
+    expect('liveTurnout' in plain.released).toBe(false);
+    expect(plain.privacy.whetherVoted?.epsilon).toBe('1');
   });
 
   it('an election whose settings the core refuses does not hold up the others', async () => {
