@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { InvalidInput } from '../errors.ts';
-import { DEFAULT_DRAW_RULE, DRAW_RULES, parseEpsilon, type DrawRule } from '../mechanism/index.ts';
+import { DEFAULT_DRAW_RULE, DRAW_RULES, TURNOUT_INTERVAL_HOURS, parseEpsilon, turnoutSchedule, type DrawRule } from '../mechanism/index.ts';
 import type { Neighbour } from './electionRepo.ts';
 import { isTimeZone } from './time.ts';
 
@@ -35,6 +35,11 @@ export interface DraftInput {
    * codes on creation, unchanged on an edit.
    */
   rosterId?: string | null;
+  /**
+   * The opt-in live turnout: its own ε (for whether a member voted) and the hours between releases;
+   * null when off. Absent: off on creation, unchanged on an edit.
+   */
+  liveTurnout?: { epsilon: string; intervalHours: number } | null;
 }
 
 export const DRAFT_LIMITS = Object.freeze({
@@ -95,6 +100,7 @@ export const draftSchema = z
       .max(L.groupMax, `Keep the group name to ${L.groupMax} characters or fewer.`)
       .optional(),
     rosterId: z.uuid({ error: ELECTORATE_MESSAGE }).nullable().optional(),
+    liveTurnout: z.object({ epsilon: z.string(), intervalHours: z.number().int() }).nullable().optional(),
   })
   .superRefine((d, issue) => {
     const seen = new Map<string, number>();
@@ -123,6 +129,30 @@ export const draftSchema = z
         path: ['epsilon'],
         message: 'ε must be a decimal from 0.01 to 10 with at most 4 decimal places, such as 0.5, 1 or 2.5.',
       });
+    }
+    if (d.liveTurnout) {
+      try {
+        parseEpsilon(d.liveTurnout.epsilon);
+      } catch {
+        issue.addIssue({
+          code: 'custom',
+          path: ['liveTurnout', 'epsilon'],
+          message: 'The live turnout’s ε must be a decimal from 0.01 to 10 with at most 4 decimal places, such as 0.5.',
+        });
+      }
+      if (!(TURNOUT_INTERVAL_HOURS as readonly number[]).includes(d.liveTurnout.intervalHours)) {
+        issue.addIssue({ code: 'custom', path: ['liveTurnout', 'intervalHours'], message: 'Choose one of the release intervals listed.' });
+      } else if (d.closesAt.getTime() > d.opensAt.getTime()) {
+        try {
+          turnoutSchedule(d.opensAt, d.closesAt, d.liveTurnout.intervalHours);
+        } catch {
+          issue.addIssue({
+            code: 'custom',
+            path: ['liveTurnout', 'intervalHours'],
+            message: 'That would be more than 4,032 releases. Choose a longer interval.',
+          });
+        }
+      }
     }
     if (!(d.closesAt.getTime() > d.opensAt.getTime())) {
       issue.addIssue({ code: 'custom', path: ['closesAt'], message: 'The closing time must be after the opening time.' });

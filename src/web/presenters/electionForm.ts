@@ -1,11 +1,20 @@
 import type { Election } from '../../elections/electionRepo.ts';
 import type { BudgetPreview } from '../../elections/ledger.ts';
-import { timeZones, utcToWallClockText, wallClockAt, formatWallClock } from '../../elections/time.ts';
+import { timeZones, utcToWallClockText, wallClockAt, formatWallClock, zonedToUtc } from '../../elections/time.ts';
 import type { ElectionFormValues } from '../routes/organise/electionSchema.ts';
 import { summaryOf, type FieldErrors } from '../routes/organise/forms.ts';
 import { guidanceFor, type GuidanceView } from './guidance.ts';
 import { ruleComparisonFor, type RuleComparisonView } from './ruleComparison.ts';
-import { DEFAULT_DRAW_RULE, RULES, drawRuleOr, type DrawRule } from '../../mechanism/index.ts';
+import {
+  DEFAULT_DRAW_RULE,
+  RULES,
+  TURNOUT_INTERVAL_HOURS,
+  drawRuleOr,
+  liveTurnoutGuidance,
+  turnoutSchedule,
+  type DrawRule,
+  type TurnoutGuidance,
+} from '../../mechanism/index.ts';
 
 export const DEFAULT_ROWS = 4;
 export const DEFAULT_EPSILON = '1';
@@ -35,6 +44,9 @@ export function blankValues(now: Date, timeZone = 'UTC'): ElectionFormValues {
     retentionDays: '30',
     memberGroup: '',
     electorate: 'printed',
+    liveTurnout: 'off',
+    liveTurnoutEpsilon: '0.5',
+    liveTurnoutInterval: '24',
   };
 }
 
@@ -61,6 +73,9 @@ export function valuesFromElection(e: Election, groupName = ''): ElectionFormVal
     retentionDays: e.retentionDays === null ? '30' : String(e.retentionDays),
     memberGroup: groupName,
     electorate: e.rosterId ?? 'printed',
+    liveTurnout: e.liveTurnout ? 'on' : 'off',
+    liveTurnoutEpsilon: e.liveTurnout?.epsilon ?? '0.5',
+    liveTurnoutInterval: String(e.liveTurnout?.intervalHours ?? 24),
   };
 }
 
@@ -100,6 +115,7 @@ export interface ElectionFormView {
   passphraseCleared: boolean;
   /** The rosters this organiser may choose as the electorate (and the draft's own, if shared with them). */
   rosters: ElectorateChoice[];
+  liveTurnout: LiveTurnoutView;
 }
 
 export interface ElectorateChoice {
@@ -159,5 +175,35 @@ export function electionFormView(input: {
     budget: input.budget ?? null,
     passphraseCleared: input.electionId === null && (input.passphraseCleared ?? false),
     rosters: [...(input.rosters ?? [])],
+    liveTurnout: liveTurnoutViewFor(values, voters, input.rosters ?? []),
   };
+}
+
+export interface LiveTurnoutView {
+  intervals: { hours: number; label: string; selected: boolean }[];
+  /** The error in ballots for this schedule and electorate; null until ε, times and an electorate are given. */
+  guidance: TurnoutGuidance | null;
+  /** Why there are no figures yet, when there are none. */
+  missing: string | null;
+}
+
+const INTERVAL_LABELS: Record<number, string> = { 1: 'Every hour', 3: 'Every 3 hours', 6: 'Every 6 hours', 12: 'Every 12 hours', 24: 'Every day' };
+
+/** The live turnout's section: the figures come from the schedule and the electorate (the roster's size, else the expected voters). */
+function liveTurnoutViewFor(values: ElectionFormValues, voters: number | null, rosters: readonly ElectorateChoice[]): LiveTurnoutView {
+  const hours = Number(values.liveTurnoutInterval);
+  const intervals = TURNOUT_INTERVAL_HOURS.map((h) => ({ hours: h, label: INTERVAL_LABELS[h] ?? `Every ${h} hours`, selected: h === hours }));
+  const roster = rosters.find((r) => r.id === values.electorate);
+  const electorate = roster ? roster.members : voters;
+  const opens = zonedToUtc(values.opensAt, values.timeZone);
+  const closes = zonedToUtc(values.closesAt, values.timeZone);
+  if (!opens.ok || !closes.ok) return { intervals, guidance: null, missing: 'Give the opening and closing times to see the error.' };
+  if (!electorate || electorate < 1)
+    return { intervals, guidance: null, missing: 'Give the number of voters you expect (or choose a roster) to see the error in ballots.' };
+  try {
+    const releases = turnoutSchedule(opens.utc, closes.utc, hours).length;
+    return { intervals, guidance: liveTurnoutGuidance(releases, values.liveTurnoutEpsilon.trim(), electorate), missing: null };
+  } catch {
+    return { intervals, guidance: null, missing: 'Give a valid ε, times and interval to see the error.' };
+  }
 }

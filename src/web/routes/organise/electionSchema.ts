@@ -30,6 +30,10 @@ export interface ElectionFormValues {
   memberGroup: string;
   /** 'printed' (codes issued by hand) or the id of a roster whose members the app mails a code. */
   electorate: string;
+  /** The opt-in live turnout: 'on' or 'off', its own ε and the hours between releases. */
+  liveTurnout: 'on' | 'off';
+  liveTurnoutEpsilon: string;
+  liveTurnoutInterval: string;
 }
 
 /** Rows beyond this are never rendered or read; the option limit itself is checked by the draft rules. */
@@ -58,8 +62,16 @@ export function readElectionForm(body: Body): ElectionFormValues {
     retentionDays: cut(field(body, 'retentionDays'), 20),
     memberGroup: cut(field(body, 'memberGroup'), 400),
     electorate: cut(field(body, 'electorate'), 40).trim() || 'printed',
+    liveTurnout: field(body, 'liveTurnout') === 'on' ? 'on' : 'off',
+    liveTurnoutEpsilon: cut(field(body, 'liveTurnoutEpsilon'), 20),
+    liveTurnoutInterval: cut(field(body, 'liveTurnoutInterval'), 4),
   };
 }
+
+const LIVE_TURNOUT_FIELDS: Record<string, string> = {
+  'liveTurnout.epsilon': 'liveTurnoutEpsilon',
+  'liveTurnout.intervalHours': 'liveTurnoutInterval',
+};
 
 const wholeNumber = (s: string): number | null => (/^\s*\d{1,9}\s*$/.test(s) ? Number(s.trim()) : null);
 
@@ -114,6 +126,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     // Left empty: the instance's default group on creation, and no change on an edit.
     memberGroup: v.memberGroup.trim() === '' ? undefined : v.memberGroup,
     rosterId: v.electorate === 'printed' ? null : v.electorate,
+    liveTurnout: v.liveTurnout === 'on' ? { epsilon: v.liveTurnoutEpsilon.trim(), intervalHours: wholeNumber(v.liveTurnoutInterval) ?? 0 } : null,
   };
   try {
     const draft = checkDraft(candidate);
@@ -123,7 +136,9 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     const timesFailed = !times.opensAt || !times.closesAt;
     for (const issue of e.issues) {
       const m = /^options\.(\d+)\.(label|description)$/.exec(issue.path);
-      const key = m ? `options.${rowOf[Number(m[1])]}.${m[2]}` : issue.path === 'rosterId' ? 'electorate' : issue.path;
+      const key = m
+        ? `options.${rowOf[Number(m[1])]}.${m[2]}`
+        : (LIVE_TURNOUT_FIELDS[issue.path] ?? (issue.path === 'rosterId' ? 'electorate' : issue.path));
       if (key in errors || key === '') continue;
       if (key === 'closesAt' && timesFailed) continue;
       if (key === 'timeZone' && errors.timeZone) continue;
