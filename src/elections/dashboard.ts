@@ -5,6 +5,7 @@ import type { Election } from './electionRepo.ts';
 import { electionStatus, type ElectionStatus } from './status.ts';
 import { countCodes } from './codeRepo.ts';
 import { THIS_PROCESS, withoutDeadClaim } from './tallyClaim.ts';
+import { listTurnoutReleases, type TurnoutRelease } from './liveTurnout.ts';
 
 export interface Dashboard {
   election: Election;
@@ -17,6 +18,8 @@ export interface Dashboard {
    */
   codes: { codesIssued: number; codesRevoked: number };
   events: AuditRow[];
+  /** The live turnout's releases so far (noisy figures only); null when it is off. */
+  liveTurnout: TurnoutRelease[] | null;
 }
 
 /** Everything the organiser's election page shows, read in one transaction so the figures agree. */
@@ -37,6 +40,7 @@ export async function loadDashboard(ctx: UseCaseContext, input: { electionId: st
       codes: await countCodes(trx, election.id).then((c) => ({ codesIssued: c.issued, codesRevoked: c.revoked })),
       // The draw is stamped with the minute it becomes visible; until then it is not listed.
       events: (await listEvents(trx, election.id, { publicOnly: false })).filter((ev) => ev.at <= now),
+      liveTurnout: election.liveTurnout ? await listTurnoutReleases({ knex: trx }, election.id) : null,
     };
   });
 }

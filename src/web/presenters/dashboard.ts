@@ -12,7 +12,7 @@ import {
   type ElectorateWarning,
   type ProtectionWarning,
 } from './electorate.ts';
-import { RULE_NAMES, drawRuleOr, makeExponentialDraw } from '../../mechanism/index.ts';
+import { RULE_NAMES, drawRuleOr, makeExponentialDraw, turnoutError, turnoutSchedule } from '../../mechanism/index.ts';
 
 const capitalised = (text: string): string => text.charAt(0).toUpperCase() + text.slice(1);
 
@@ -107,8 +107,9 @@ function timeSettings(d: Dashboard): { term: string; value: string }[] {
  * it is part of the result, seen by the organiser in the preview and by everyone on publication.
  */
 function turnoutNote(e: Dashboard['election']): string {
-  const live =
-    'Nobody is shown how many members have voted, you included, while voting runs or before the result is drawn: a live count would tell you whether a member you are watching has voted.';
+  const live = e.liveTurnout
+    ? 'Nobody is shown the exact number of members who have voted, you included, while voting runs or before the result is drawn; you see only the noisy live turnout below, released at fixed times, which protects whether a member voted at its own ε.'
+    : 'Nobody is shown how many members have voted, you included, while voting runs or before the result is drawn: a live count would tell you whether a member you are watching has voted.';
   return e.publishTurnout
     ? `${live} You chose to publish the turnout: the exact number of ballots is part of the drawn result, shown to you in the preview and to everyone once published, marked as exact and not protected.`
     : `${live} You chose not to publish the turnout, so nobody will ever be shown it; the result says only whether anyone voted.`;
@@ -150,6 +151,8 @@ export interface DashboardView {
     correctWording: boolean;
   };
   events: { iso: string; when: string; who: string; what: string }[];
+  /** The live turnout's released series with its error bound; null when it is off. */
+  liveTurnout: LiveTurnoutPanel | null;
   resultsPath: string;
   timeZone: string;
 }
@@ -160,6 +163,37 @@ function protectionOf(e: Dashboard['election']): ProtectionWarning | null {
   } catch {
     return null;
   }
+}
+
+export interface LiveTurnoutPanel {
+  rows: { iso: string; when: string; released: string }[];
+  planned: number;
+  bound: string;
+}
+
+function liveTurnoutPanel(d: Dashboard): LiveTurnoutPanel | null {
+  const e = d.election;
+  if (!e.liveTurnout || !d.liveTurnout) return null;
+  let planned = 0;
+  let bound: string;
+  try {
+    planned = turnoutSchedule(e.opensAt, e.closesAt, e.liveTurnout.intervalHours).length;
+    const err = turnoutError(planned, e.liveTurnout.epsilon);
+    bound =
+      `Each figure is the number of ballots cast by then plus noise: with at least 95% certainty it is within ±${err.ballots95.toLocaleString('en')} ballots of the true count ` +
+      `(that is for the noisiest of the ${planned} releases; not for all at once), and it may be below zero or above the electorate. ε = ${e.liveTurnout.epsilon} for whether a member voted.`;
+  } catch {
+    bound = 'The error of these figures could not be worked out for these settings.';
+  }
+  return {
+    rows: d.liveTurnout.map((r) => ({
+      iso: r.dueAt.toISOString(),
+      when: shortInstant(r.dueAt, e.timeZone),
+      released: r.released.toLocaleString('en'),
+    })),
+    planned,
+    bound,
+  };
 }
 
 export function dashboardView(d: Dashboard): DashboardView {
@@ -225,6 +259,7 @@ export function dashboardView(d: Dashboard): DashboardView {
       who: ev.organiserEmail ?? 'automatic',
       what: eventText(ev, e.timeZone),
     })),
+    liveTurnout: liveTurnoutPanel(d),
     resultsPath: `/results/${e.id}`,
     timeZone: e.timeZone,
   };

@@ -5,6 +5,8 @@ import { testApp } from '../../helpers/app.ts';
 import { testClock } from '../../helpers/context.ts';
 import { findElection } from '../../../src/elections/electionRepo.ts';
 import type { UseCaseContext } from '../../../src/elections/context.ts';
+import { castAll, createDraft, openFixture } from '../../helpers/fixtures.ts';
+import { releaseDueTurnouts } from '../../../src/elections/liveTurnout.ts';
 import { createElectionViaForm, electionForm, makeOrganiser, organiseContext, postForm, signedIn } from './organiseSupport.ts';
 
 /**
@@ -17,12 +19,14 @@ describe.each(engines)('election form: live turnout [%s]', (engine) => {
   let ctx: UseCaseContext;
   const clock = testClock('2026-06-01T09:00:00Z');
   let agent: Agent;
+  let me: { id: string; email: string };
+  let app: ReturnType<typeof testApp>;
 
   beforeAll(async () => {
     db = await freshDatabase(engine);
     ctx = organiseContext(db, clock);
-    const app = testApp(ctx);
-    const me = await makeOrganiser(ctx, 'captain@rowing.example');
+    app = testApp(ctx);
+    me = await makeOrganiser(ctx, 'captain@rowing.example');
     agent = await signedIn(app, me.email);
   });
   afterAll(async () => {
@@ -58,6 +62,27 @@ describe.each(engines)('election form: live turnout [%s]', (engine) => {
     const hourly = await agent.get(`/organise/elections/${id}/edit`);
     expect(hourly.text).toContain('Any one of the 57 releases');
     expect(hourly.text).toContain('would be useless: the error is larger than the whole electorate');
+  });
+
+  it('the dashboard shows the released series with its error bound, and no exact count', async () => {
+    const f = await createDraft(ctx, me.id, { codes: 6 });
+    await ctx.knex('elections').where({ id: f.id }).update({ live_turnout_epsilon: '1', live_turnout_interval_hours: 24 });
+    await openFixture(ctx, f);
+    const before = await agent.get(`/organise/elections/${f.id}`);
+    expect(before.text).toContain('Live turnout (noisy)');
+    expect(before.text).toContain('No release yet');
+    await castAll(ctx, f, [[0], [1], [2]]);
+    clock.advance(2 * 24 * 3600_000 + 60_000);
+    expect(await releaseDueTurnouts(ctx)).toBe(2);
+    agent = await signedIn(app, me.email); // two days on, the earlier session has lapsed
+    const page = await agent.get(`/organise/elections/${f.id}`);
+    expect(page.text).toContain('2 of 7 releases');
+    expect(page.text).toMatch(/within ±\d+ ballots of the true count/);
+    const stored = await ctx.knex('live_turnout_releases').where({ election_id: f.id }).orderBy('step').select('released');
+    for (const r of stored) expect(page.text).toContain(`<td>${Number(r.released).toLocaleString('en')}</td>`);
+    expect(page.text).not.toContain('Nobody is shown how many members have voted');
+    clock.set('2026-06-01T09:00:00Z');
+    agent = await signedIn(app, me.email);
   });
 
   it('refuses a bad ε or interval on the form and keeps what was typed', async () => {
