@@ -10,6 +10,7 @@ import { countApprovals } from './tallyCounter.ts';
 import { countCodes } from './codeRepo.ts';
 import { rewriteVotingRows, vacuumAfterTally } from './unlinkStorage.ts';
 import { chargeAndSign } from './signDraw.ts';
+import { takeReplacementCount } from './replacementRepo.ts';
 import { shredKeyOf, wrappedKeyOf } from './shredKeys.ts';
 
 /**
@@ -206,12 +207,15 @@ export async function runQueuedTally(ctx: UseCaseContext, q: QueuedTally): Promi
           scores.fill(0);
         }
 
+        // Roster elections: the replacement codes sent, published with the result; the grants go with the draw.
+        const replacements = e.rosterId ? await takeReplacementCount(trx, e.id) : undefined;
         const statement = buildStatement({
           draw,
           optionLabels,
           winners,
           turnout: e.publishTurnout ? ballots : null,
           electionTitle: e.title,
+          replacements,
         });
         const labels = statement.winners;
         const result: StoredResult = { winners: labels, statement };
@@ -219,7 +223,7 @@ export async function runQueuedTally(ctx: UseCaseContext, q: QueuedTally): Promi
         const now = ctx.now();
         const drawnAt = now <= q.revealAt ? q.revealAt : revealMinute(new Date(now.getTime() - 60_000));
         // The ledger is charged and the statement signed in this transaction, published or not.
-        await chargeAndSign(trx, ctx, { election: e, draw, winners, ballots, at: drawnAt });
+        await chargeAndSign(trx, ctx, { election: e, draw, winners, ballots, at: drawnAt, replacements });
         await trx('elections')
           .where({ id: e.id })
           .update({

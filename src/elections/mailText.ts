@@ -5,7 +5,10 @@ import { describeInstant as describeAnew } from './timeText.ts';
  * mail adapter turns these values into headers (src/mail/headers.ts checks them first). The ballot
  * link never carries the code: codes stay out of URLs, so they reach no server log or history.
  */
-export type MailingKind = 'invitation' | 'opens' | 'closing' | 'published';
+export type MailingKind = 'invitation' | 'opens' | 'closing' | 'published' | 'replacement';
+/** The mailings that carry a ballot code: each delivery gets a fresh one. */
+export type CodeMailingKind = 'invitation' | 'replacement';
+export const carriesCode = (kind: MailingKind): kind is CodeMailingKind => kind === 'invitation' || kind === 'replacement';
 
 export interface MailElection {
   id: string;
@@ -69,11 +72,42 @@ export function invitationText(e: MailElection, to: { name: string | null }, cod
   };
 }
 
+/**
+ * A replacement code, asked for on the ballot page with this address. Every sentence must hold:
+ * the first code is not withdrawn (nothing stored says which code went to whom), each member gets
+ * at most one replacement per vote (REPLACEMENTS_PER_MEMBER), and the organiser sees per address
+ * only that a replacement message was queued, sent or failed.
+ */
+export function replacementText(e: MailElection, to: { name: string | null }, code: string, publicUrl: string): { subject: string; text: string } {
+  return {
+    subject: `A replacement ballot code for “${e.title}”`,
+    text: [
+      greeting(to.name),
+      '',
+      `Someone asked on the ballot page of “${e.title}” for a replacement ballot code for this address. Here it is:`,
+      '',
+      'Your ballot code:',
+      '',
+      `    ${code}`,
+      '',
+      `Vote here: ${publicUrl}/vote/${e.id}`,
+      `Voting closes ${describeInstant(e.closesAt, e.timeZone)}.`,
+      '',
+      'Your first code still works too, if you find it: the site never kept a record of which code was sent to whom, so it cannot tell which one to switch off.',
+      'Please vote only once. If you have already voted with your first code, do not use this one; if you did not ask for it, you can ignore this message.',
+      'Each member can be sent one replacement code per vote, and this is yours, so asking again sends nothing more.',
+      'The number of replacement codes sent is published with the result, which says how much they could have changed it.',
+      'Like your first code, this one was made for this message and sent straight from the voting site: the organiser never sees it. The organiser can see that a replacement message went to your address.',
+      ...footer(e),
+    ].join('\r\n'),
+  };
+}
+
 /** A notice to the whole roster: voting opens, closes soon, or the result is out. Never a code. */
 export function noticeText(
   e: MailElection,
   to: { name: string | null },
-  kind: Exclude<MailingKind, 'invitation'>,
+  kind: Exclude<MailingKind, CodeMailingKind>,
   publicUrl: string,
 ): { subject: string; text: string } {
   const vote = `${publicUrl}/vote/${e.id}`;

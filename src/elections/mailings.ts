@@ -21,7 +21,7 @@ import {
   type DeliveryState,
   type Mailing,
 } from './mailRepo.ts';
-import type { MailingKind } from './mailText.ts';
+import { carriesCode, type MailingKind } from './mailText.ts';
 
 /**
  * Mail to a roster, as the organiser sees and steers it. The invitation is queued when a roster
@@ -139,14 +139,14 @@ export async function cancelNotice(ctx: UseCaseContext, input: { electionId: str
   });
 }
 
-/** The organiser's "send again": failed invitations are queued again, each to get a fresh code. */
+/** The organiser's "send again": failed invitations and replacements are queued again, each to get a fresh code. */
 export async function resendFailed(ctx: UseCaseContext, input: { electionId: string; organiserId: string }): Promise<{ queued: number }> {
   return ctx.knex.transaction(async (trx) => {
     const e = await rosterElection(trx, input.electionId, input.organiserId, true);
     const now = ctx.now();
     if (!(e.state === 'open' && now < e.closesAt)) throw new ElectionStateConflict('Voting has closed, so a code sent now could not be used.');
     let queued = 0;
-    for (const m of await listMailings(trx, e.id)) if (m.kind === 'invitation') queued += await requeueFailed(trx, m.id);
+    for (const m of await listMailings(trx, e.id)) if (carriesCode(m.kind)) queued += await requeueFailed(trx, m.id);
     await recordEvent(trx, { electionId: e.id, organiserId: input.organiserId, action: 'invitations-resent', detail: { count: queued } }, now);
     return { queued };
   });

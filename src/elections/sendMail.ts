@@ -12,14 +12,14 @@ import {
   type Mailing,
   type Recipient,
 } from './mailRepo.ts';
-import { invitationText, noticeText, type MailElection } from './mailText.ts';
+import { carriesCode, invitationText, noticeText, replacementText, type CodeMailingKind, type MailElection } from './mailText.ts';
 import { startDueNotices } from './mailings.ts';
 
 /**
  * The sender: one round of mail to rosters, run by one instance at a time (startMailLoop holds
  * the mail lock), so nothing pending at the start of a round is still in anyone's hands.
  *
- * An invitation's code lives only in this round's memory. For each batch, one transaction takes
+ * An invitation's (or a replacement's) code lives only in this round's memory. For each batch, one transaction takes
  * the deliveries ('sending') and stores the codes' keyed hashes in pending_codes, which no cast
  * accepts. Then the messages go to the mail server. A second transaction moves the hashes of
  * accepted messages into ballot_codes (spendable) and deletes the others, and marks each delivery
@@ -77,9 +77,10 @@ async function sendBatch(
   size: number,
 ): Promise<{ sent: number; failed: number }> {
   const now = ctx.now();
-  const invitation = m.kind === 'invitation';
+  // Invitations and replacements carry a code; notices do not.
+  const withCode = carriesCode(m.kind);
   // A code mailed after voting closed could never be used: such deliveries fail, saying why.
-  const votingOver = invitation && !(e.state === 'open' && now < e.closesAt);
+  const votingOver = withCode && !(e.state === 'open' && now < e.closesAt);
   const prepared = await ctx.knex.transaction(async (trx) => {
     const recipients = await claimDeliveries(trx, m.id, size);
     if (votingOver) {
@@ -94,15 +95,25 @@ async function sendBatch(
     }
     const list: Prepared[] = recipients.map((recipient) => {
       const to = { address: recipient.email, name: recipient.displayName };
-      if (!invitation) {
-        const words = noticeText(mailElection(e), { name: recipient.displayName }, m.kind as Exclude<Mailing['kind'], 'invitation'>, mail.publicUrl);
+      if (!withCode) {
+        const words = noticeText(
+          mailElection(e),
+          { name: recipient.displayName },
+          m.kind as Exclude<Mailing['kind'], CodeMailingKind>,
+          mail.publicUrl,
+        );
         return { recipient, message: { to, ...words }, hash: null };
       }
       const code = generateCode(ctx.random);
-      const words = invitationText(mailElection(e), { name: recipient.displayName }, code.display, mail.publicUrl);
+      const words = (m.kind === 'replacement' ? replacementText : invitationText)(
+        mailElection(e),
+        { name: recipient.displayName },
+        code.display,
+        mail.publicUrl,
+      );
       return { recipient, message: { to, ...words }, hash: codeHash(ctx.secrets.codePepper, e.id, code.canonical) };
     });
-    if (invitation) await insertPendingHashes(trx, e.id, list.map((p) => p.hash!).sort(byValue));
+    if (withCode) await insertPendingHashes(trx, e.id, list.map((p) => p.hash!).sort(byValue));
     return list;
   });
   if (prepared.length === 0) return { sent: 0, failed: 0 };
@@ -124,7 +135,7 @@ async function sendBatch(
     }
   });
   await ctx.knex.transaction(async (trx) => {
-    if (invitation) await settlePending(trx, e.id, accepted.sort(byValue), refused);
+    if (withCode) await settlePending(trx, e.id, accepted.sort(byValue), refused);
     await markDeliveries(trx, m.id, sent, 'sent');
     for (const [answer, ids] of failed) await markDeliveries(trx, m.id, ids, 'failed', answer);
   });

@@ -29,7 +29,15 @@ import { registerSigningKey } from './signingKeyRepo.ts';
 export async function chargeAndSign(
   trx: Db,
   ctx: UseCaseContext,
-  input: { election: Election; draw: ExponentialDraw; winners: number[] | null; ballots: number; at: Date },
+  input: {
+    election: Election;
+    draw: ExponentialDraw;
+    winners: number[] | null;
+    ballots: number;
+    at: Date;
+    /** Roster elections: replacement codes sent (replacementRepo.takeReplacementCount). */
+    replacements?: number;
+  },
 ): Promise<StatementEnvelope> {
   const { election: e, draw, at } = input;
   // One election, one draw: if a statement exists (an election reset behind the app's back), refuse.
@@ -48,7 +56,11 @@ export async function chargeAndSign(
   let ledger: StatementLedger;
   if (members > 0) {
     await chargeDraw(trx, { groupId: null, ...charge });
-    ledger = { members, ...(await electorateTotals(trx, e.id, at)) };
+    ledger = {
+      members,
+      ...(input.replacements === undefined ? {} : { replacements: input.replacements }),
+      ...(await electorateTotals(trx, e.id, at)),
+    };
   } else {
     const groupId = e.groupId ?? (await groupIdFor(trx, e.ownerId, DEFAULT_GROUP_NAME, at));
     if (!e.groupId) await trx('elections').where({ id: e.id }).update({ group_id: groupId });

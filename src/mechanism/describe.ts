@@ -1,4 +1,5 @@
 import { describeBounds } from './describeBounds.ts';
+import { replacementBoundsSentence, replacementPrivacySentence } from './describeReplacements.ts';
 import { InvalidMechanismConfig } from './errors.ts';
 import { COSTS_ADD_UP, factorExplained } from './plainFactor.ts';
 import { ruleOfStatementMechanism } from './rules/index.ts';
@@ -75,7 +76,17 @@ function releasedParagraph(s: PrivacyStatement): string {
 
 function boundsSentenceOf(s: PrivacyStatement): string {
   if (s.outcome === 'no-ballots') return 'No draw took place, so no accuracy guarantee applies.';
-  return describeBounds(s.bounds, s.seats, 'past');
+  const extra = s.replacements === undefined ? null : replacementBoundsSentence(s.replacements, s.bounds);
+  return extra ? `${describeBounds(s.bounds, s.seats, 'past')} ${extra}` : describeBounds(s.bounds, s.seats, 'past');
+}
+
+/** Roster elections: how many members could hold two codes, and what that does to their protection. */
+function replacementParagraph(s: PrivacyStatement): string | null {
+  if (s.replacements === undefined) return null;
+  return replacementPrivacySentence(s.replacements, {
+    howVoted: s.protects.howVoted.epsilon,
+    whetherVoted: s.protects.whetherVoted?.epsilon ?? null,
+  });
 }
 
 /** The caution every result and planning screen carries (see RULES: cautions). */
@@ -100,6 +111,8 @@ export function describeStatement(s: PrivacyStatement): StatementText {
     };
   }
   const paragraphs = [howDrawn(s), privacyParagraph(s)];
+  const replaced = replacementParagraph(s);
+  if (replaced) paragraphs.push(replaced);
   if (s.seats > 1) paragraphs.push(compositionParagraph(s));
   paragraphs.push(releasedParagraph(s));
   return { headline: headlineOf(s), paragraphs, boundsSentence: boundsSentenceOf(s), caution: RANDOM_WINNER_CAUTION };

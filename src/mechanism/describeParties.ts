@@ -1,6 +1,7 @@
 import type { PrivacyCost, Neighbour } from './draw.ts';
 import { factorExplained } from './plainFactor.ts';
 import { factorAtMost } from './statement.ts';
+import { replacementPolicySentence, replacementPrivacySentence } from './describeReplacements.ts';
 
 /**
  * What each party can learn, in plain words, separately for the members, the public and the
@@ -19,6 +20,11 @@ export interface PartySettings {
    * printed codes (the organiser's member group). Absent: the ledger is not described.
    */
   electorate?: 'roster' | 'printed';
+  /**
+   * Replacement codes sent, once the result is drawn (roster elections; the statement's
+   * `replacements`). Before the draw a roster electorate states the rule instead.
+   */
+  replacements?: number;
 }
 
 export interface PartyText {
@@ -50,6 +56,17 @@ export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyTe
     ? `After the draw the organiser sees the exact turnout in the preview, up to ${hours(s.previewHours)} before everyone else.`
     : 'The organiser is never shown the turnout either: only whether anyone voted, with the result.';
   const ledger = s.electorate ? ledgerSentences(s.electorate) : null;
+  const codes = { howVoted: privacy.howVoted, whetherVoted: s.publishTurnout ? null : privacy.whetherVoted };
+  const replacement =
+    s.replacements !== undefined
+      ? replacementPrivacySentence(s.replacements, codes)
+      : s.electorate === 'roster'
+        ? replacementPolicySentence(codes)
+        : null;
+  const organiserReplacement =
+    replacement === null
+      ? null
+      : 'Lost codes: for an address that asked for a replacement, the organiser’s mail page shows that a replacement message was queued, sent or failed; never a code, and nothing that pairs the new code with the lost one.';
   const parties: PartyText[] = [
     {
       party: 'members',
@@ -61,7 +78,15 @@ export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyTe
     {
       party: 'public',
       heading: 'What anyone can learn from the published result',
-      sentences: [howVoted, whetherVoted, liveForOthers, anyone, published, ...(ledger ? [ledger.public] : [])],
+      sentences: [
+        howVoted,
+        whetherVoted,
+        ...(replacement ? [replacement] : []),
+        liveForOthers,
+        anyone,
+        published,
+        ...(ledger ? [ledger.public] : []),
+      ],
     },
     {
       party: 'organiser',
@@ -72,6 +97,7 @@ export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyTe
         organiserTurnout,
         'Whether anyone voted at all: the organiser learns it with the drawn result, shortly before the public does.',
         ...(ledger ? [ledger.organiser] : []),
+        ...(organiserReplacement ? [organiserReplacement] : []),
       ],
     },
   ];

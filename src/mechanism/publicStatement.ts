@@ -74,7 +74,12 @@ export interface PublicStatement {
  */
 export type StatementLedger = GroupStatementLedger | MemberStatementLedger;
 export type GroupStatementLedger = { groupId: string; groupName: string } & LedgerTotals;
-export type MemberStatementLedger = { members: number } & LedgerTotals;
+/**
+ * `replacements`: replacement codes sent to members who lost theirs (at most one each, the lost
+ * code still works), so the counts can carry up to that many extra ballots and those members are
+ * protected at twice the ε (describeReplacements.ts). Absent in statements signed before replacements existed.
+ */
+export type MemberStatementLedger = { members: number; replacements?: number } & LedgerTotals;
 
 export interface LiveTurnoutRelease {
   counter: 'binary-tree';

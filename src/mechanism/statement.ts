@@ -47,6 +47,11 @@ export interface PrivacyStatement {
   notReleased: NotReleased[];
   /** Exact and not protected when present; null when the organiser chose not to publish it. */
   turnout: number | null;
+  /**
+   * Roster elections only: replacement codes sent (describeReplacements.ts). Each such member
+   * could hold two working codes; absent for printed codes and for results drawn before replacements.
+   */
+  replacements?: number;
 }
 
 const Decimal = decimalWithPrecision(40);
@@ -99,6 +104,7 @@ export function buildStatement(input: {
   winners: number[] | null;
   turnout: number | null;
   electionTitle?: string;
+  replacements?: number;
 }): PrivacyStatement {
   const { draw } = input;
   const labels = checkLabels(input.optionLabels, draw.options);
@@ -134,5 +140,11 @@ export function buildStatement(input: {
     released: ['winners', 'option-labels', 'epsilon', 'bounds', ...(published ? (['turnout'] as const) : [])],
     notReleased: ['approval-counts', 'ballots', ...(published ? [] : (['turnout'] as const))],
     turnout,
+    ...(input.replacements === undefined ? {} : { replacements: checkReplacements(input.replacements) }),
   };
+}
+
+function checkReplacements(n: unknown): number {
+  if (!Number.isSafeInteger(n) || (n as number) < 0) throw new InvalidMechanismConfig('replacements must be a whole number ≥ 0');
+  return n as number;
 }

@@ -252,7 +252,17 @@ export interface Limits {
   readonly receiptChecks: RequestHandler;
   /** The home page's code box, which tries each code against every open election at once. */
   readonly codeLookups: RequestHandler;
+  /** "Lost your code?" on a roster election's ballot page: every request counts. */
+  readonly replacementRequests: RequestHandler;
 }
+
+/**
+ * Replacement requests: every request counts, whatever the address, so the limit says nothing
+ * about the roster. Per client it allows a few typing mistakes; per election it bounds the
+ * database work and the mail one election can cause from many clients (each member can be sent at
+ * most one replacement anyway, so it bounds load, not what any request can get).
+ */
+export const REPLACEMENT_LIMITS = Object.freeze({ perClient: 10, perElection: 1000, windowMs: 60 * 60_000 });
 
 const MIN = 60_000;
 
@@ -293,6 +303,15 @@ export function createLimits(knex: Knex): Limits {
     // site-wide allowance let one address's refused guesses lock the box for everyone.
     codeLookups: new AttemptLimit(knex, 'ballot code attempts', 'failures-only', [
       { name: 'lookup-client', points: 300, windowMs: 10 * MIN, key: clientOf },
+    ]).middleware,
+    replacementRequests: new AttemptLimit(knex, 'requests for a replacement code', 'every', [
+      {
+        name: 'replace-client-election',
+        points: REPLACEMENT_LIMITS.perClient,
+        windowMs: REPLACEMENT_LIMITS.windowMs,
+        key: both(clientOf, electionOf),
+      },
+      { name: 'replace-election', points: REPLACEMENT_LIMITS.perElection, windowMs: REPLACEMENT_LIMITS.windowMs, key: electionOf, ceiling: true },
     ]).middleware,
   };
 }

@@ -45,6 +45,8 @@ export interface VotingElectionView {
   promise: [string, string];
   /** What members, the public and the organiser can each learn: read before voting. */
   parties: PartyText[];
+  /** The electorate is a roster: codes come by email, and a lost one can be replaced from the ballot page. */
+  roster: boolean;
 }
 
 /** Drafts are handled before this: members never see them (they answer 404). */
@@ -123,6 +125,7 @@ export function votingElectionView(e: Election, now: Date): VotingElectionView {
     caution: DRAW_CAUTION,
     promise: promiseOf(e.seats),
     parties: partiesOf(e.epsilon, e.options.length, e.seats, e.neighbour, e.publishTurnout, e.rosterId ? 'roster' : 'printed'),
+    roster: e.rosterId !== null,
   };
 }
 

@@ -12,6 +12,8 @@ export interface MailPageView {
   where: { smtp: string | null; outbox: string | null };
   invitation: (MailingView & { total: number; done: number }) | null;
   notices: (MailingView & { label: string; total: number })[];
+  /** Replacements asked for on the ballot page: per address only queued, sent or failed, like the invitation. */
+  replacement: (MailingView & { total: number }) | null;
   canSchedule: boolean;
   canResend: boolean;
 }
@@ -28,6 +30,7 @@ const total = (m: MailingView) => m.counts.queued + m.counts.sending + m.counts.
 export function mailPageView(page: MailPage, where: Mailer['where'] | null, now: Date): MailPageView {
   const e = page.election;
   const inv = page.mailings.find((m) => m.kind === 'invitation') ?? null;
+  const rep = page.mailings.find((m) => m.kind === 'replacement') ?? null;
   const votingOpen = e.state === 'open' && now < e.closesAt;
   return {
     id: e.id,
@@ -38,8 +41,11 @@ export function mailPageView(page: MailPage, where: Mailer['where'] | null, now:
     seesAddresses: page.seesAddresses,
     where: { smtp: where?.kind === 'smtp' ? where.host : null, outbox: where?.kind === 'outbox' ? where.folder : null },
     invitation: inv ? { ...inv, total: total(inv), done: inv.counts.sent + inv.counts.failed } : null,
-    notices: page.mailings.filter((m) => m.kind !== 'invitation').map((m) => ({ ...m, label: noticeLabel(m), total: total(m) })),
+    notices: page.mailings
+      .filter((m) => m.kind !== 'invitation' && m.kind !== 'replacement')
+      .map((m) => ({ ...m, label: noticeLabel(m), total: total(m) })),
+    replacement: rep ? { ...rep, total: total(rep) } : null,
     canSchedule: page.roster !== null && e.state !== 'published',
-    canResend: votingOpen && (inv?.counts.failed ?? 0) > 0,
+    canResend: votingOpen && (inv?.counts.failed ?? 0) + (rep?.counts.failed ?? 0) > 0,
   };
 }

@@ -37,6 +37,7 @@ const statementShape = z
     seats: z.number().int().min(1),
     protects: z.object({ howVoted: protection, whetherVoted: protection.nullable() }),
     turnout: z.number().int().min(0).nullable(),
+    replacements: z.number().int().min(0).optional(),
   })
   .loose();
 const storedResult = z.object({ statement: statementShape }).loose();
@@ -197,7 +198,12 @@ function publishedResultViewOf(stored: unknown): PublishedResultView {
   }).privacy;
   return {
     headline: text.headline,
-    parties: describeParties(privacy, { neighbour: statement.neighbour, publishTurnout: statement.turnout !== null, previewHours: 48 }),
+    parties: describeParties(privacy, {
+      neighbour: statement.neighbour,
+      publishTurnout: statement.turnout !== null,
+      previewHours: 48,
+      ...(statement.replacements === undefined ? {} : { replacements: statement.replacements }),
+    }),
     meaning: meaningOf(statement.winners, seats, noBallots),
     orderNote:
       seats > 1 && !noBallots

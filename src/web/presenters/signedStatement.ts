@@ -14,6 +14,8 @@ export interface SignedStatementView {
   /** Printed codes: the group's name. A roster: null, and members says how many were charged. */
   groupName: string | null;
   members: number | null;
+  /** A roster: replacement codes sent, as signed; null for printed codes and older statements. */
+  replacements: number | null;
   howVotedTotal: string;
   draws: number;
 }
@@ -30,6 +32,7 @@ export function signedStatementView(electionId: string, facts: SignedStatementFa
     ledgerUrl: isMemberLedger(s.ledger) ? null : `/groups/${s.ledger.groupId}/ledger`,
     groupName: isMemberLedger(s.ledger) ? null : (group?.name ?? s.ledger.groupName),
     members: isMemberLedger(s.ledger) ? s.ledger.members : null,
+    replacements: isMemberLedger(s.ledger) ? (s.ledger.replacements ?? null) : null,
     howVotedTotal: s.ledger.howVotedEpsilon,
     draws: s.ledger.draws,
   };

@@ -5,6 +5,8 @@ import { castBallot } from '../../../elections/castBallot.ts';
 import { checkCode } from '../../../elections/checkCode.ts';
 import type { Election } from '../../../elections/electionRepo.ts';
 import { readElection } from '../../../elections/readElection.ts';
+import { requestReplacement } from '../../../elections/replacements.ts';
+import { InvalidInput } from '../../../errors.ts';
 import { CodeAlreadySpent, CodeRevoked, ElectionNotFound, ElectionNotOpen } from '../../../elections/errors.ts';
 import { formatReceipt, parseApprovals, tickedOptions, votingElectionView, type VoteStep, type VotingElectionView } from '../../presenters/ballot.ts';
 import { generateCastToken, normaliseCode } from '../../../custody/index.ts';
@@ -35,7 +37,7 @@ export function voteRouter(deps: AppDeps): Router {
   const { ctx } = deps;
   // Codes carry 80 random bits (DEVELOPERS.md, "Ballot codes"), so this bounds load rather than guessing. A whole meeting may share one
   // address, so only failed steps use up the allowance: members who type their code right never do.
-  const { codeAttempts } = deps.limits;
+  const { codeAttempts, replacementRequests } = deps.limits;
 
   const receipts = receiptCookie(deps.sessionSecret, isSecureSite(deps.config.publicUrl), ctx.random);
   const steps = memberSteps(deps);
@@ -88,6 +90,28 @@ export function voteRouter(deps: AppDeps): Router {
     assertOpen(election);
     const state = steps.read(req, e.id);
     res.render('vote/start', { title: election.title, election, code: '', ticksKept: state?.step === 'ticks' });
+  });
+
+  /**
+   * "Lost your code?" (roster elections): the same 200 page for every well-formed address, on the
+   * roster or not, granted or capped; the use-case says nothing back. Counted per client and per
+   * election before any work, in the database. A malformed address is told so, with the form.
+   */
+  router.post('/vote/:id/replacement', replacementRequests, async (req, res) => {
+    const e = await memberElection(req.params.id);
+    const election = remember(res, e, 'code');
+    assertOpen(election);
+    const email = (req.body as Record<string, unknown> | undefined)?.email;
+    try {
+      await requestReplacement(ctx, { electionId: e.id, email });
+    } catch (err) {
+      if (!(err instanceof InvalidInput) || !election.roster) return noteWindow(res)(err);
+      const typed = typeof email === 'string' ? email.slice(0, 254) : '';
+      return res
+        .status(400)
+        .render('vote/start', { title: election.title, election, code: '', ticksKept: false, lostCode: { email: typed, error: err.message } });
+    }
+    res.render('vote/replacement-sent', { title: `Check your email: ${election.title}`, election });
   });
 
   router.post('/vote/:id/ballot', codeAttempts, async (req, res) => {
