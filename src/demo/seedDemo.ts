@@ -23,7 +23,7 @@ export interface DemoSummary {
   /** False when the sample elections existed already: nothing was added, and no password is shown. */
   created: boolean;
   organiser: { id: string; email: string; password: string | null };
-  open: { id: string; title: string; voters: number; codes: number; unusedCodes: string[]; passphrase: string };
+  open: { id: string; title: string; codes: number; unusedCodes: string[]; passphrase: string };
   /** groupId: the member group whose privacy ledger the draw was charged to. */
   published: { id: string; title: string; receipt: string; groupId: string | null };
   /** The roster election: its invented members are each mailed a code (null in a demo made before it existed). */
@@ -119,7 +119,6 @@ function summaryOf(r: DemoRecord, password: string | null): DemoSummary {
     open: {
       id: r.openElectionId!,
       title: ROWING_CLUB.title,
-      voters: ROWING_CLUB.voters,
       codes: ROWING_CLUB.codes,
       unusedCodes: r.unusedCodes ?? [],
       passphrase: r.openElectionPassphrase!,

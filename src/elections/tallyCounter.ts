@@ -107,16 +107,21 @@ async function countInWorkers(db: Db, req: CountRequest, batchSize: number, real
 async function countHere(db: Db, req: CountRequest, batchSize: number, real: { n: number }): Promise<ApprovalTally> {
   const key = openingKey(req.publicKey, req.secretKey, req.electionId, req.optionCount);
   const tally: ApprovalTally = { counts: new Uint32Array(req.optionCount), ballots: 0, unreadable: 0 };
-  for await (const batch of paddedBatches(db, req, batchSize, real)) {
-    for (const sealed of batch) {
-      try {
-        openAndCount(key, sealed, tally.counts);
-      } catch (e) {
-        if (!(e instanceof BallotUnreadable)) throw e;
-        tally.unreadable++;
+  try {
+    for await (const batch of paddedBatches(db, req, batchSize, real)) {
+      for (const sealed of batch) {
+        try {
+          openAndCount(key, sealed, tally.counts);
+        } catch (e) {
+          if (!(e instanceof BallotUnreadable)) throw e;
+          tally.unreadable++;
+        }
+        tally.ballots++;
       }
-      tally.ballots++;
     }
+  } catch (err) {
+    tally.counts.fill(0); // a count stopped part-way is zeroed before it is dropped, as a finished one is by the caller
+    throw err;
   }
   return tally;
 }

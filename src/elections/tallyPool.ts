@@ -86,7 +86,7 @@ export class TallyPool {
   /** Waits for every worker's counts and adds them up. */
   async finish(optionCount: number): Promise<PartialTally> {
     if (this.failure) throw this.failure;
-    const parts = await Promise.all(
+    const settled = await Promise.allSettled(
       this.slots.map(
         (s) =>
           new Promise<PartialTally>((resolve, reject) => {
@@ -99,6 +99,13 @@ export class TallyPool {
           }),
       ),
     );
+    const failed = settled.find((r) => r.status === 'rejected');
+    if (failed) {
+      // The counts of the workers that did answer are zeroed before the failure is passed on.
+      for (const r of settled) if (r.status === 'fulfilled') wipe(r.value.counts);
+      throw failed.reason;
+    }
+    const parts = settled.map((r) => (r as PromiseFulfilledResult<PartialTally>).value);
     const total: PartialTally = { counts: new Uint32Array(optionCount), ballots: 0, unreadable: 0 };
     for (const p of parts) {
       p.counts.forEach((c, i) => (total.counts[i]! += c));

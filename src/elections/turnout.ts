@@ -6,9 +6,12 @@ import { ElectionNotFound } from './errors.ts';
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /**
- * What the organiser's dashboard may show: how many ballots were cast and how many codes
- * exist. Never anything per option. Ballots are counted from receipts, which survive
- * shredding, so the figure does not drop to zero after publication.
+ * The exact number of ballots cast and of codes issued and withdrawn, read straight from the rows,
+ * for tests and checks. No organiser’s page shows it: the dashboard (dashboard.ts) reads only the
+ * codes, since a live count would tell an organiser watching a member whether they voted; the
+ * exact turnout reaches anyone only inside a drawn result whose organiser chose before opening to
+ * publish it. Whoever can read the database can count the same rows (README, threat model). Never
+ * anything per option. Ballots are counted from receipts, which survive shredding.
  */
 export async function countTurnout(db: Db, electionId: string): Promise<{ ballotsCast: number; codesIssued: number; codesRevoked: number }> {
   if (!UUID.test(electionId)) throw new ElectionNotFound();

@@ -12,7 +12,7 @@ const usage = `Usage: veiltally demo
 Adds two sample elections to the database the server uses (the embedded database in
 VEILTALLY_DATA_DIR, default ./data, or DATABASE_URL), through the same steps an organiser
 and members take, and prints their addresses:
-  - an open election: a rowing club naming its new boat (25 of 40 codes used; a few unused
+  - an open election: a rowing club naming its new boat (40 codes issued, some used; a few unused
     codes are printed so you can vote);
   - a published result: a tenants' association choosing three repairs, with a receipt to check;
   - a demo organiser login, printed once.
@@ -25,7 +25,7 @@ export function demoText(s: DemoSummary, publicUrl: string): string {
     s.created ? 'Sample elections added (demo data, made up).' : 'The sample elections were already here; nothing was added.',
     '',
     `Open election: ${s.open.title}`,
-    `  6 options, 1 seat, ε = 1; ${s.open.voters} of ${s.open.codes} codes used so far.`,
+    `  6 options, 1 seat, ε = 1; ${s.open.codes} codes issued, some already used (an organiser is never told how many).`,
     `  Ballot:  ${publicUrl}/vote/${s.open.id}`,
     '  Unused codes you can vote with (one ballot each):',
     ...s.open.unusedCodes.map((c) => `    ${c}`),
