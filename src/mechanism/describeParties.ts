@@ -4,8 +4,8 @@ import { factorAtMost } from './statement.ts';
 import { replacementPolicySentence, replacementPrivacySentence } from './describeReplacements.ts';
 
 /**
- * What each party can learn, in plain words, separately for the members, the public and the
- * organiser: how a member voted, whether a member voted, what the organiser saw while voting
+ * What each party can learn, in plain words, separately for the members, the public, the
+ * organiser and whoever runs the site (the operator): how a member voted, whether a member voted, what the organiser saw while voting
  * ran, and whether anyone voted at all. Each sentence is a claim about that party and must hold
  * against it (the tests check them from that party's side): where the organiser learns more than
  * the public, the text says so. Shown on the ballot page before voting and on the result page.
@@ -72,7 +72,7 @@ export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyTe
       party: 'members',
       heading: 'What other members can learn about you',
       sentences: [
-        'Other members learn exactly what the public learns, below. Your receipt lets you, and only you, check that your ballot was counted; it does not show how you voted.',
+        'Other members learn exactly what the public learns, below. Your receipt lets you check that your ballot was counted; it does not show how you voted. The organiser and the public never see your receipt unless you show it to them. Whoever runs this site does: the server makes it when you cast, stores a keyed hash of it whose key it holds, and sees it again when it is checked.',
       ],
     },
     {
@@ -101,9 +101,33 @@ export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyTe
       ],
     },
   ];
-  if (ledger)
-    parties.push({ party: 'operator', heading: 'What whoever runs this site can learn from the privacy ledger', sentences: [ledger.operator] });
+  parties.push({ party: 'operator', heading: 'What whoever runs this site can learn', sentences: operatorSentences(s.electorate, ledger) });
   return parties;
+}
+
+/**
+ * Whoever runs the server (README, threat model): what they can see, live and at rest, beyond any
+ * other party. The sentences above hold against members, the public and the organiser; these say
+ * where they do not hold against the operator. Per electorate kind when it is known.
+ */
+function operatorSentences(electorate: PartySettings['electorate'], ledger: { operator: string } | null): string[] {
+  const common = [
+    'Whoever runs this site (its operator) is trusted with more than anyone else: the protections above hold against members, the public and the organiser, not against them.',
+    'While voting runs, the database rows show how many ballots have been cast at any moment. Each sealed ballot is stored in the same database transaction that uses up its code, so the database’s own transaction ids pair them, until the tally rewrites every ballot and code row of the vote in random order; older copies of the rows stay on disk until the database reclaims them, and in its log and backups.',
+    'The server, and any proxy in front of it, sees the network address of every request, ballot casts and receipt checks included. The site logs no address; its attempt limits keep them, for each limit’s window, only under an unkeyed hash, which anyone who can read the database can reverse by trying addresses.',
+    'At the tally the server’s memory holds the election key, unlocked with the organiser’s passphrase, and the counts: someone in control of the server then could read every ballot. Until the shred, the key directory holds the key file that every stored ballot also needs.',
+  ];
+  const kind =
+    electorate === 'roster'
+      ? [
+          'The invitations: the site sends each member’s code to their address. Until the mail server accepts a message it exists only in the server’s memory; after that, whoever runs the mail server, or reads the outbox folder of .eml files when no mail server is set up, can read each address with its code. With the code rows, that tells who has voted; with the transaction ids above, which sealed ballot is theirs, and at the tally, how they voted.',
+        ]
+      : electorate === 'printed'
+        ? [
+            'Printed codes: the site never learns who holds which code, so what the operator can pair is a code with its ballot, not with a member, unless they learn who got the code (from whoever handed the codes out, or from the network address a member voted from).',
+          ]
+        : [];
+  return [...common, ...kind, ...(ledger ? [ledger.operator] : [])];
 }
 
 /** What the privacy ledger tells each party (README, threat model); tested from each side in test/integration/web/ledger-members.test.ts. */

@@ -177,9 +177,16 @@ function resultChartOf(s: {
 }
 
 /** Published results never change, so their view is made once per stored result (memo.ts). */
-export const publishedResultView = memoised(publishedResultViewOf, (stored: unknown) => JSON.stringify(stored), 100);
+export const publishedResultView = memoised(
+  publishedResultViewOf,
+  (stored: unknown, electorate: Electorate) => `${electorate} ${JSON.stringify(stored)}`,
+  100,
+);
 
-function publishedResultViewOf(stored: unknown): PublishedResultView {
+/** Who voted: a roster (codes mailed by the site) or printed codes; what the operator can see differs (describeParties). */
+type Electorate = 'roster' | 'printed';
+
+function publishedResultViewOf(stored: unknown, electorate: Electorate): PublishedResultView {
   const { statement } = storedResult.parse(stored);
   const text = describeStatement(statement as unknown as PrivacyStatement);
   const neighbour = NEIGHBOURS[statement.neighbour];
@@ -202,6 +209,7 @@ function publishedResultViewOf(stored: unknown): PublishedResultView {
       neighbour: statement.neighbour,
       publishTurnout: statement.turnout !== null,
       previewHours: 48,
+      electorate,
       ...(statement.replacements === undefined ? {} : { replacements: statement.replacements }),
     }),
     meaning: meaningOf(statement.winners, seats, noBallots),
@@ -232,6 +240,15 @@ function publishedResultViewOf(stored: unknown): PublishedResultView {
   };
 }
 
+/**
+ * The electorate kind of a drawn election. Publication lets its roster be deleted (the roster id is then
+ * null), but a draw charged per member never has a member group, while a printed-code draw always gets
+ * one (elections/signDraw.ts), so the group tells them apart.
+ */
+function electorateOf(e: Election): Electorate {
+  return e.rosterId !== null || e.groupId === null ? 'roster' : 'printed';
+}
+
 export function resultPageView(e: Election, events: readonly AuditRow[], now: Date): ResultPageView {
   const published = e.state === 'published';
   const closedAt = votingTimes(e, now).closed;
@@ -249,6 +266,6 @@ export function resultPageView(e: Election, events: readonly AuditRow[], now: Da
     publishDueAt: e.state === 'tallied' && !resultHidden(e, now) && e.publishDueAt ? shownTime(e.publishDueAt, e.timeZone) : null,
     caution: DRAW_CAUTION,
     timeline: timelineView(events, e, now),
-    result: published ? publishedResultView(e.result) : null,
+    result: published ? publishedResultView(e.result, electorateOf(e)) : null,
   };
 }

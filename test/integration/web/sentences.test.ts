@@ -3,11 +3,14 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import request from 'supertest';
 import type { Express } from 'express';
+import { publishResult } from '../../../src/elections/publishResult.ts';
+import { deleteRoster } from '../../../src/rosters/manageRosters.ts';
 import type { UseCaseContext } from '../../../src/elections/context.ts';
 import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
 import { testApp } from '../../helpers/app.ts';
 import { testClock } from '../../helpers/context.ts';
-import { castAll, openElectionFixture, tallyFixture } from '../../helpers/fixtures.ts';
+import { castAll, openElectionFixture, tallyFixture, type ElectionFixture } from '../../helpers/fixtures.ts';
+import { rosterElection, rosterWith } from '../../helpers/roster.ts';
 import { makeOrganiser, organiseContext, signedIn, tokenIn } from './organiseSupport.ts';
 
 const DAY = 24 * 3600_000;
@@ -21,6 +24,15 @@ function words(html: string): string {
     .replace(/&#34;|&quot;/g, '"')
     .replace(/&amp;/g, '&')
     .replace(/\s+/g, ' ');
+}
+
+/** The sentences under one heading of a result or ballot page's "Who could learn what". */
+function partyText(html: string, heading: string): string {
+  const at = html.indexOf(`<h3>${heading}</h3>`);
+  if (at < 0) return '';
+  const rest = html.slice(at + heading.length + 9);
+  const end = rest.search(/<h3>|<\/details>|<\/section>/);
+  return words(end < 0 ? rest : rest.slice(0, end));
 }
 
 function sourceFiles(dir: string): string[] {
@@ -122,5 +134,59 @@ describe.each(engines)('the privacy sentences say what is true [%s]', (engine) =
     expect(comment).toContain('No organiser’s page shows it');
     const importers = sourceFiles(join(SRC, 'web')).filter((p) => readFileSync(p, 'utf8').includes('countTurnout'));
     expect(importers).toEqual([]);
+  });
+
+  async function published(f: Pick<ElectionFixture, 'id' | 'organiserId'>): Promise<string> {
+    clock.advance(8 * DAY);
+    await tallyFixture(ctx, { ...f, codes: [], options: [] }, false);
+    clock.advance(2 * 60_000);
+    await publishResult(ctx, { electionId: f.id, organiserId: f.organiserId });
+    return (await request(app).get(`/results/${f.id}`).expect(200)).text;
+  }
+
+  it('7. the receipt sentence names whom it holds against, and that the operator sees receipts', async () => {
+    const f = await openElectionFixture(ctx, organiser.id, { codes: 2, epsilon: '1' });
+    await castAll(ctx, f, [[0]]);
+    const members = partyText(await published(f), 'What other members can learn about you');
+    expect(members).toContain('Other members learn exactly what the public learns');
+    expect(members).not.toContain('and only you');
+    expect(members).toContain('The organiser and the public never see your receipt unless you show it to them');
+    expect(members).toContain('Whoever runs this site does');
+  });
+
+  it('8. the result page names the operator, with what they see for printed codes', async () => {
+    const f = await openElectionFixture(ctx, organiser.id, { codes: 2, epsilon: '1' });
+    await castAll(ctx, f, [[1]]);
+    const operator = partyText(await published(f), 'What whoever runs this site can learn');
+    expect(operator).toContain('how many ballots have been cast at any moment');
+    expect(operator).toContain('the database’s own transaction ids pair them');
+    expect(operator).toContain('network address of every request');
+    expect(operator).toContain('the key directory');
+    expect(operator).toContain('Printed codes: the site never learns who holds which code');
+    expect(operator).toContain('for printed codes it holds nothing about any member');
+    expect(operator).not.toContain('invitation');
+  });
+
+  it('8. the result page names the operator, with what they see for a roster: the invitations and the ledger', async () => {
+    const rosterId = await rosterWith(ctx, organiser.id, [{ email: 'ann@rowing.example' }, { email: 'bo@rowing.example' }]);
+    const id = await rosterElection(ctx, organiser.id, rosterId);
+    await published({ id, organiserId: organiser.id });
+    // Publication lets the roster be deleted; the result page still describes a roster vote.
+    for (const deleted of [false, true]) {
+      if (deleted) await deleteRoster(ctx, { organiserId: organiser.id, rosterId });
+      const page = (await request(app).get(`/results/${id}`).expect(200)).text;
+      const operator = partyText(page, 'What whoever runs this site can learn');
+      expect(operator).toContain('how many ballots have been cast at any moment');
+      expect(operator).toContain('The invitations:');
+      expect(operator).toContain('outbox folder');
+      expect(operator).toContain('holds the key the addresses are hashed under');
+      expect(operator).not.toContain('Printed codes');
+    }
+    // The ballot page says the same before voting.
+    const other = await rosterWith(ctx, organiser.id, [{ email: 'cy@rowing.example' }], 'Sculling squad');
+    const id2 = await rosterElection(ctx, organiser.id, other, { title: 'Name the sculling boat' });
+    const ballot = partyText((await request(app).get(`/vote/${id2}`).expect(200)).text, 'What whoever runs this site can learn');
+    expect(ballot).toContain('The invitations:');
+    expect(ballot).toContain('how many ballots have been cast at any moment');
   });
 });

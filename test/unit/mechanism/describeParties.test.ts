@@ -24,12 +24,23 @@ describe('what each party can learn, for every combination of settings', () => {
   it.each(table)('ε=$epsilon $neighbour, $seats seat(s), turnout published: $publishTurnout, preview $previewHours h', (c) => {
     const draw = makeExponentialDraw({ epsilon: c.epsilon, options: 5, seats: c.seats, neighbour: c.neighbour });
     const parts = describeParties(draw.privacy, { neighbour: c.neighbour, publishTurnout: c.publishTurnout, previewHours: c.previewHours });
-    expect(parts.map((p) => p.party)).toEqual(['members', 'public', 'organiser']);
-    const [members, pub, org] = parts.map((p) => p.sentences.join(' ')) as [string, string, string];
+    expect(parts.map((p) => p.party)).toEqual(['members', 'public', 'organiser', 'operator']);
+    const [members, pub, org, operator] = parts.map((p) => p.sentences.join(' ')) as [string, string, string, string];
 
     // Members: what the public learns, plus their own receipt, which shows nothing of the vote.
     expect(members).toContain('exactly what the public learns');
     expect(members).toContain('does not show how you voted');
+    // The receipt is private from the organiser and the public, not from whoever runs the site.
+    expect(members).not.toContain('only you');
+    expect(members).toContain('The organiser and the public never see your receipt');
+    expect(members).toContain('Whoever runs this site does');
+
+    // The operator: trusted, and what they see live and at rest, whatever the settings.
+    expect(operator).toContain('not against them');
+    expect(operator).toContain('how many ballots have been cast at any moment');
+    expect(operator).toContain('the database’s own transaction ids pair them');
+    expect(operator).toContain('network address of every request');
+    expect(operator).toContain('someone in control of the server then could read every ballot');
 
     // The public: how, whether, live, anyone at all, and that every draw is published.
     // Plain words first ("multiply or divide the chance … by 2.72"), the symbol explained where it appears.
@@ -93,17 +104,23 @@ describe('the accuracy sentence with k seats gives the all-seats guarantee as a 
 
 describe('what the privacy ledger tells each party', () => {
   const privacy = makeExponentialDraw({ epsilon: '1', options: 3, seats: 1, neighbour: 'replace-one' }).privacy;
-  it('names the operator only when the electorate is known, and says what a roster reveals', () => {
+  it('describes the ledger, and what the operator sees of each electorate kind, only when the electorate is known', () => {
     const base = { neighbour: 'replace-one', publishTurnout: false, previewHours: 48 } as const;
-    expect(describeParties(privacy, base).map((p) => p.party)).toEqual(['members', 'public', 'organiser']);
+    const unknown = Object.fromEntries(describeParties(privacy, base).map((p) => [p.party, p.sentences.join(' ')]));
+    expect(Object.keys(unknown)).toEqual(['members', 'public', 'organiser', 'operator']);
+    expect(unknown.operator).not.toMatch(/invitations|Printed codes|ledger/);
     const roster = describeParties(privacy, { ...base, electorate: 'roster' });
     expect(roster.map((p) => p.party)).toEqual(['members', 'public', 'organiser', 'operator']);
     const text = Object.fromEntries(roster.map((p) => [p.party, p.sentences.join(' ')]));
     expect(text.public).toContain('the most any one member has spent over 12 months');
     expect(text.organiser).toContain('one real address');
     expect(text.operator).toContain('holds the key the addresses are hashed under');
+    expect(text.operator).toContain('The invitations:');
+    expect(text.operator).not.toContain('Printed codes');
     const printed = Object.fromEntries(describeParties(privacy, { ...base, electorate: 'printed' }).map((p) => [p.party, p.sentences.join(' ')]));
     expect(printed.public).toContain("the organiser's own member group");
     expect(printed.operator).toContain('holds nothing about any member');
+    expect(printed.operator).toContain('Printed codes: the site never learns who holds which code');
+    expect(printed.operator).not.toContain('invitations');
   });
 });
