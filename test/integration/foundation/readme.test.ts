@@ -5,6 +5,7 @@ import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { commands } from '../../../src/cli/commands.ts';
 import { makeExponentialDraw } from '../../../src/mechanism/index.ts';
+import { offlineVerifiers } from '../../../src/web/routes/statements/offlineVerifier.ts';
 import { REPO_ROOT } from '../../helpers/server.ts';
 
 /**
@@ -126,6 +127,13 @@ describe('README', () => {
     const read = [...source.matchAll(/^ {2}([A-Z][A-Z0-9_]+): /gm)].map((m) => m[1]!);
     expect(read.length).toBeGreaterThan(5);
     expect(firstColumn(section('Configuration reference')).sort()).toEqual([...new Set(read)].sort());
+  });
+
+  it('gives the SHA-256 of the two offline checkers exactly as /verify serves them', () => {
+    // Any change to a checker changes its hash; this keeps the README's figures from going stale.
+    const { html, node } = offlineVerifiers();
+    expect(/`veiltally-verify\.mjs`: `([0-9a-f]{64})`/.exec(README)?.[1]).toBe(node.sha256);
+    expect(/`veiltally-verify\.html`: `([0-9a-f]{64})`/.exec(README)?.[1]).toBe(html.sha256);
   });
 
   it('lists exactly the commands `veiltally` has', () => {

@@ -186,4 +186,88 @@ describe.each(engines)('the offline checker /verify offers [%s]', (engine) => {
       fs.rmSync(dir, { recursive: true, force: true });
     }
   });
+
+  it('the OpenSSL commands /verify shows, run word for word, pass the downloaded statement and fail a changed one', async () => {
+    expect(spawnSync('openssl', ['version'], { encoding: 'utf8' }).stdout).toMatch(/^OpenSSL [3-9]\./);
+    const d = await s.decided([[0, 2], [1], [0]], { epsilon: '1', codes: 3 });
+    const text = (await request(s.app).get(`/results/${d.f.id}/statement.json`).expect(200)).text;
+    const envelope = JSON.parse(text) as StatementEnvelope;
+    const keyText = (await request(s.app).get(`/keys/${envelope.statement.keyId}.json`).expect(200)).text;
+    const keyDoc = JSON.parse(keyText) as { fingerprint: string };
+    const page = (await request(s.app).get('/verify').expect(200)).text;
+    const list = /<ol class="steps" id="openssl-steps">([\s\S]*?)<\/ol>/.exec(page)?.[1];
+    expect(list, '/verify lists the OpenSSL commands').toBeTruthy();
+    const unescape = (t: string) =>
+      t.replace(/&lt;/g, '<').replace(/&gt;/g, '>').replace(/&#34;/g, '"').replace(/&#39;/g, "'").replace(/&amp;/g, '&');
+    const commands = [...list!.matchAll(/<pre class="commands"><code>([\s\S]*?)<\/code><\/pre>/g)].map((m) => unescape(m[1]!));
+    expect(commands).toHaveLength(6);
+    expect(commands.join('\n')).toContain('openssl pkeyutl -verify -pubin -inkey key.pem -rawin -in signed.json -sigfile signature.bin');
+
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-openssl-check-'));
+    const runAll = (statement: string) => {
+      fs.writeFileSync(path.join(dir, 'statement.json'), statement);
+      fs.writeFileSync(path.join(dir, 'key.json'), keyText);
+      // Only the tools the page names: a shell, sed, tr, printf, grep, cat and openssl; no node, no project.
+      return spawnSync('/bin/sh', ['-c', commands.join('\n')], { cwd: dir, encoding: 'utf8', env: { PATH: '/usr/bin:/bin' } });
+    };
+    try {
+      const good = runAll(text);
+      expect(good.stderr).toBe('');
+      expect(good.stdout).toContain('Signature Verified Successfully');
+      expect(good.status).toBe(0);
+      // The bytes OpenSSL checked are the statement's RFC 8785 form, as the canonicalize package makes it.
+      expect(fs.readFileSync(path.join(dir, 'signed.json'), 'utf8')).toBe(canonicalize(envelope.statement));
+      expect(fs.statSync(path.join(dir, 'signature.bin')).size).toBe(64);
+      // The fingerprint OpenSSL prints is the one the key file and /keys publish.
+      expect(good.stdout).toContain(keyDoc.fingerprint.replace(/ /g, ''));
+      expect(good.stdout).toContain(`"electionId":"${d.f.id}"`);
+      expect(good.stdout).toContain(`"winners":${JSON.stringify(d.winners)}`);
+
+      const tampered = JSON.parse(text) as StatementEnvelope;
+      tampered.statement.released.winners = [envelope.statement.options.find((o) => !d.winners.includes(o))!];
+      const bad = runAll(canonicalize(tampered) + '\n');
+      expect(bad.stdout).not.toContain('Signature Verified Successfully');
+      expect(bad.status).not.toBe(0);
+      // As the page says: a re-laid-out copy fails this route (OpenSSL cannot canonicalise), though not the checkers.
+      expect(runAll(JSON.stringify(envelope, null, 2)).status).not.toBe(0);
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it('the Node twin passes any JSON rendering of the statement: other spacing and every object’s keys in another order', async () => {
+    const d = await s.decided([[1], [0, 1], [2]], { epsilon: '2', codes: 3 });
+    const text = (await request(s.app).get(`/results/${d.f.id}/statement.json`).expect(200)).text;
+    const envelope = JSON.parse(text) as StatementEnvelope;
+    const key = (await request(s.app).get(`/keys/${envelope.statement.keyId}.json`).expect(200)).text;
+    const reordered = (v: unknown): unknown =>
+      Array.isArray(v)
+        ? v.map(reordered)
+        : v && typeof v === 'object'
+          ? Object.fromEntries(
+              Object.entries(v)
+                .reverse()
+                .map(([k, x]) => [k, reordered(x)]),
+            )
+          : v;
+    const rendering = JSON.stringify(reordered(envelope), null, '\t').replace(/":/g, '" :  ').replace(/\n/g, '\r\n');
+    expect(rendering.indexOf('"statement"')).toBeLessThan(rendering.indexOf('"signature"'));
+    const file = await downloaded('veiltally-verify.mjs');
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-node-render-'));
+    try {
+      fs.writeFileSync(path.join(dir, 'veiltally-verify.mjs'), file.html);
+      fs.writeFileSync(path.join(dir, 'statement.json'), rendering);
+      fs.writeFileSync(path.join(dir, 'key.json'), key);
+      const run = spawnSync(process.execPath, ['veiltally-verify.mjs', 'statement.json', '--key', 'key.json', '--election', d.f.id], {
+        cwd: dir,
+        encoding: 'utf8',
+        env: { PATH: process.env.PATH ?? '' },
+      });
+      expect(run.stdout).toContain('laid out differently');
+      expect(run.stdout).toContain('All checks passed.');
+      expect(run.status).toBe(0);
+    } finally {
+      fs.rmSync(dir, { recursive: true, force: true });
+    }
+  });
 });

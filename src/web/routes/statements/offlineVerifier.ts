@@ -99,3 +99,40 @@ export function offlineVerifiers(): { html: OfflineFile; node: OfflineFile } {
   }
   return loaded;
 }
+
+/**
+ * The signature checked with OpenSSL (3.0 or later) instead of the checker: OpenSSL reads neither JSON
+ * nor base64url, so sed, tr and printf (on every Unix-like system) cut out the three pieces, and
+ * OpenSSL checks Ed25519 (RFC 8032) over the statement's bytes. The statement file as downloaded is
+ * the envelope in RFC 8785 canonical form, {"signature":{…},"statement":…}, so the part after
+ * "statement": is exactly the canonical form of the statement, the bytes that were signed. The DER
+ * prefix is the SubjectPublicKeyInfo of an Ed25519 key (RFC 8410 §4), 12 bytes that base64 to
+ * "MCowBQYDK2VwAyEA". Shown on /verify and run word for word by test/integration/web/offline-verifier.test.ts.
+ */
+export const OPENSSL_STEPS: readonly { say: string; run: string }[] = [
+  {
+    say: 'The signed bytes: the statement part of the file, as downloaded.',
+    run: `sed -e 's/^{"signature":{[^}]*},"statement"://' -e 's/}$//' statement.json | tr -d '\\n' > signed.json`,
+  },
+  {
+    say: 'The signature, from base64url to its 64 raw bytes.',
+    run: `sed -e 's/^{"signature":{[^}]*"value":"\\([A-Za-z0-9_-]*\\)".*$/\\1==/' statement.json | tr '_-' '/+' | openssl base64 -d -A > signature.bin`,
+  },
+  {
+    say: 'The public key, from the key file into a PEM file OpenSSL reads.',
+    run: `sed -n 's/^.*"publicKey": *"\\([A-Za-z0-9_-]*\\)".*$/\\1=/p' key.json | tr '_-' '/+' > key.b64
+printf -- '-----BEGIN PUBLIC KEY-----\\nMCowBQYDK2VwAyEA%s\\n-----END PUBLIC KEY-----\\n' "$(cat key.b64)" > key.pem`,
+  },
+  {
+    say: 'The key’s fingerprint: compare it with one published elsewhere (the key id is its first 16 hex digits).',
+    run: `openssl base64 -d -A -in key.b64 | openssl dgst -sha256`,
+  },
+  {
+    say: 'Which election and which winners the signed bytes name (they are plain JSON: read the whole of signed.json if you like).',
+    run: `grep -o -e '"electionId":"[^"]*"' -e '"winners":\\[[^]]*]' signed.json`,
+  },
+  {
+    say: 'The check: OpenSSL prints “Signature Verified Successfully” and exits with 0 only when the signature holds.',
+    run: `openssl pkeyutl -verify -pubin -inkey key.pem -rawin -in signed.json -sigfile signature.bin`,
+  },
+];

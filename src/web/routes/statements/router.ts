@@ -12,7 +12,7 @@ import { STATEMENT_SCHEMA_URL, statementSchemaText } from '../../../statement/fo
 import type { AppDeps } from '../../deps.ts';
 import { ledgerPageView } from '../../presenters/ledger.ts';
 import { idParam, keyIdParam } from './schema.ts';
-import { offlineVerifiers } from './offlineVerifier.ts';
+import { OPENSSL_STEPS, offlineVerifiers } from './offlineVerifier.ts';
 
 export const KEYS_URL = '/.well-known/veiltally-keys.json';
 
@@ -80,6 +80,7 @@ export function statementsRouter(deps: AppDeps): Router {
       keysUrl: KEYS_URL,
       verifier: html,
       nodeVerifier: node,
+      opensslSteps: OPENSSL_STEPS,
     });
   });
 
