@@ -1,5 +1,5 @@
 import type { Election } from '../../elections/electionRepo.ts';
-import type { BudgetPreview } from '../../elections/ledger.ts';
+import { DEFAULT_GROUP_NAME, type BudgetPreview } from '../../elections/ledger.ts';
 import { timeZones, utcToWallClockText, wallClockAt, formatWallClock, zonedToUtc } from '../../elections/time.ts';
 import type { ElectionFormValues } from '../routes/organise/electionSchema.ts';
 import { summaryOf, type FieldErrors } from '../routes/organise/forms.ts';
@@ -116,6 +116,49 @@ export interface ElectionFormView {
   /** The rosters this organiser may choose as the electorate (and the draft's own, if shared with them). */
   rosters: ElectorateChoice[];
   liveTurnout: LiveTurnoutView;
+  moreSettings: MoreSettingsView;
+}
+
+/** The folded "More settings": the choices in force said in one line, open when one of them needs a look. */
+export interface MoreSettingsView {
+  open: boolean;
+  summary: string;
+  /** Why it opened by itself, or null. */
+  reason: string | null;
+}
+
+/** Error keys of the fields under "More settings" (views/organise/election-form.ejs). */
+export const MORE_SETTINGS_FIELDS: readonly string[] = [
+  'neighbour',
+  'rule',
+  'memberGroup',
+  'publishTurnout',
+  'retention',
+  'retentionDays',
+  'liveTurnout',
+  'liveTurnoutEpsilon',
+  'liveTurnoutInterval',
+];
+
+function moreSettingsFor(values: ElectionFormValues, errors: FieldErrors, budget: BudgetPreview | null): MoreSettingsView {
+  const rule = RULES.find((r) => r.id === drawRuleOr(values.rule))!;
+  const days = values.retentionDays.trim();
+  const summary = [
+    values.neighbour === 'add-remove' ? 'how members voted protected at 2ε' : 'each ballot protected at ε',
+    rule.name,
+    `ledger group “${values.memberGroup.trim() || DEFAULT_GROUP_NAME}”`,
+    values.publishTurnout === 'yes' ? 'exact turnout published' : 'turnout not published',
+    values.retention === 'keep' ? `sealed ballots kept ${days} ${days === '1' ? 'day' : 'days'}` : 'sealed ballots shredded at publication',
+    values.liveTurnout === 'on' ? 'live turnout on' : 'no live turnout',
+  ].join(' · ');
+  const errorInside = Object.keys(errors).some((k) => MORE_SETTINGS_FIELDS.includes(k));
+  const overBudget = budget?.exceeds === true;
+  const reason = errorInside
+    ? 'Opened because an answer in here needs another look.'
+    : overBudget
+      ? 'Opened because this election would pass the member group’s annual privacy budget: see the ledger below.'
+      : null;
+  return { open: errorInside || overBudget, summary: summary.charAt(0).toUpperCase() + summary.slice(1), reason };
 }
 
 export interface ElectorateChoice {
@@ -176,6 +219,7 @@ export function electionFormView(input: {
     passphraseCleared: input.electionId === null && (input.passphraseCleared ?? false),
     rosters: [...(input.rosters ?? [])],
     liveTurnout: liveTurnoutViewFor(values, voters, input.rosters ?? []),
+    moreSettings: moreSettingsFor(values, errors, input.budget ?? null),
   };
 }
 

@@ -114,6 +114,12 @@ describe.each(engines)('the privacy ledger [%s]', (engine) => {
     expect(form).toContain('has spent ε = 8 for how members voted over the last 12 months');
     expect(form).toContain('it would reach ε = 10.01');
     expect(form).toContain('This election would pass the group’s annual budget.');
+    // The ledger sits under "More settings", which opens by itself to show it (issue 22 item 3).
+    expect(form).toContain('<details class="more-settings" id="more-settings" open>');
+    expect(form).toContain('Opened because this election would pass the member group’s annual privacy budget');
+    const small = await createDraft(s.ctx, s.organiserId, { memberGroup: 'Choir', epsilon: '0.5' });
+    const folded = (await agent.get(`/organise/elections/${small.id}/edit`).expect(200)).text;
+    expect(folded).toContain('<details class="more-settings" id="more-settings">');
 
     // Another group is not affected; and an instance configured to allow it opens with the total on record.
     const other = await createDraft(s.ctx, s.organiserId, { memberGroup: 'Choir', epsilon: '4' });

@@ -127,6 +127,24 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     expect(Number((await db.knex('elections').count({ n: '*' }).first())!.n)).toBe(before);
   });
 
+  it('folds the advanced settings under "More settings", opened by itself when one of them needs a look', async () => {
+    const fresh = await agent.get('/organise/elections/new');
+    expect(fresh.text).toContain('<details class="more-settings" id="more-settings">');
+    expect(fresh.text).toContain('Each ballot protected at ε · the exponential mechanism · ledger group “Members”');
+    for (const id of ['neighbour-add-remove', 'rule-permute-and-flip', 'memberGroup', 'publishTurnout-yes', 'retentionDays', 'liveTurnoutEpsilon']) {
+      const at = fresh.text.indexOf(`id="${id}"`);
+      expect(at, id).toBeGreaterThan(fresh.text.indexOf('id="more-settings"'));
+      expect(at, id).toBeLessThan(fresh.text.indexOf('</details>', fresh.text.indexOf('id="more-settings"')));
+    }
+    const outside = await create({ title: '' });
+    expect(outside.text).toContain('<details class="more-settings" id="more-settings">');
+    const inside = await create({ retention: 'keep', retentionDays: '91' });
+    expect(inside.status).toBe(400);
+    expect(inside.text).toContain('<details class="more-settings" id="more-settings" open>');
+    expect(inside.text).toContain('Opened because an answer in here needs another look.');
+    expect(inside.text).toContain('sealed ballots kept 91 days');
+  });
+
   it('a time repeated when the clocks go back takes its first occurrence', async () => {
     // 01:30 on 25 Oct 2026 happens twice in London (tzdata: Rule EU 1996 max Oct lastSun 1:00u): first at 00:30 UTC.
     const id = await createElectionViaForm(agent, { opensAt: '2026-10-25T01:30', closesAt: '2026-10-26T12:00' });
