@@ -57,21 +57,30 @@ export const DRAFT_LIMITS = Object.freeze({
 });
 
 const L = DRAFT_LIMITS;
+
+/** A count with its noun in the singular or the plural: "1 seat", "2 seats". */
+export const countOf = (n: number, one: string, many = `${one}s`): string => `${n.toLocaleString('en')} ${n === 1 ? one : many}`;
+
+/** A text limit's message: the limit and how long the text is now, so nothing is cut and the organiser knows by how much. */
+const tooLong = (what: string, max: number) => ({
+  error: (iss: { input?: unknown }) =>
+    `Keep ${what} to ${max.toLocaleString('en')} characters or fewer; it has ${typeof iss.input === 'string' ? iss.input.length.toLocaleString('en') : 'more'} now.`,
+});
 /** The same words for a malformed id, a missing roster and someone else's roster, so ids cannot be probed. */
 export const ELECTORATE_MESSAGE = 'Choose one of your rosters, or printed codes.';
 /** Labels are compared trimmed and case-insensitively, so "Oak" and " oak " count as the same option. */
 export const labelKey = (label: string): string => label.trim().normalize('NFC').toLocaleLowerCase('en');
 
 const option = z.object({
-  label: z.string().trim().min(1, 'Give this option a label.').max(L.labelMax, `Keep the label to ${L.labelMax} characters or fewer.`),
-  description: z.string().trim().max(L.optionDescriptionMax, `Keep the description to ${L.optionDescriptionMax} characters or fewer.`),
+  label: z.string().trim().min(1, 'Give this option a label.').max(L.labelMax, tooLong('the label', L.labelMax)),
+  description: z.string().trim().max(L.optionDescriptionMax, tooLong('the option’s description', L.optionDescriptionMax)),
 });
 
 export const draftSchema = z
   .object({
-    title: z.string().trim().min(1, 'Give the election a title.').max(L.titleMax, `Keep the title to ${L.titleMax} characters or fewer.`),
-    description: z.string().trim().max(L.descriptionMax, `Keep the description to ${L.descriptionMax} characters or fewer.`),
-    contact: z.string().trim().max(L.contactMax, `Keep the contact line to ${L.contactMax} characters or fewer.`).optional(),
+    title: z.string().trim().min(1, 'Give the election a title.').max(L.titleMax, tooLong('the title', L.titleMax)),
+    description: z.string().trim().max(L.descriptionMax, tooLong('the description', L.descriptionMax)),
+    contact: z.string().trim().max(L.contactMax, tooLong('the contact line', L.contactMax)).optional(),
     options: z.array(option).min(L.optionsMin, `Give at least ${L.optionsMin} options.`).max(L.optionsMax, `Give at most ${L.optionsMax} options.`),
     seats: z.number().int('Seats must be a whole number.').min(1, 'There must be at least 1 seat.'),
     epsilon: z.string(),
@@ -97,7 +106,7 @@ export const draftSchema = z
       .string()
       .trim()
       .min(1, 'Name the group of members who vote, such as “Rowing club members”.')
-      .max(L.groupMax, `Keep the group name to ${L.groupMax} characters or fewer.`)
+      .max(L.groupMax, tooLong('the group name', L.groupMax))
       .optional(),
     rosterId: z.uuid({ error: ELECTORATE_MESSAGE }).nullable().optional(),
     liveTurnout: z.object({ epsilon: z.string(), intervalHours: z.number().int() }).nullable().optional(),
@@ -118,7 +127,7 @@ export const draftSchema = z
       issue.addIssue({
         code: 'custom',
         path: ['seats'],
-        message: `With ${d.options.length} options there can be at most ${d.options.length - 1} seats.`,
+        message: `With ${d.options.length} options there can be at most ${countOf(d.options.length - 1, 'seat')}.`,
       });
     }
     try {

@@ -42,7 +42,13 @@ const seatWords = (n: number) => plural(n, 'seat');
 export function guidanceFor(input: GuidanceInput): GuidanceView {
   if (input.options < 2) return { ready: false, reason: 'Enter at least two options to see how ε affects the result.' };
   if (!Number.isInteger(input.seats) || input.seats < 1 || input.seats > input.options - 1) {
-    return { ready: false, reason: `Choose between 1 and ${input.options - 1} seats to see the guidance.` };
+    return {
+      ready: false,
+      reason:
+        input.options === 2
+          ? 'With 2 options there is 1 seat: choose 1 to see the guidance.'
+          : `Choose between 1 and ${input.options - 1} seats to see the guidance.`,
+    };
   }
   let draw;
   try {

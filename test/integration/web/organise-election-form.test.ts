@@ -145,6 +145,38 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     expect(inside.text).toContain('sealed ballots kept 91 days');
   });
 
+  it('refuses a too-long answer naming the limit, keeps every character typed, and says each limit before it bites', async () => {
+    const fresh = await agent.get('/organise/elections/new');
+    // No field cuts what is typed without a word: no maxlength anywhere on the form.
+    expect(fresh.text).not.toMatch(/maxlength/i);
+    for (const said of [
+      'Up to 200 characters',
+      'Up to 5,000 characters',
+      'Up to 300 characters',
+      'a label of up to 120 characters',
+      'description of up to 500',
+      'Up to 120 characters. Left empty',
+      'at most 4 decimal places',
+      'Up to 1,000,000',
+      'at most 1,024',
+    ])
+      expect(fresh.text, said).toContain(said);
+    const long = 'Heron '.repeat(834).slice(0, 5000);
+    const res = await create({ optionLabel: ['Kingfisher', long], optionDescription: ['', 'd'.repeat(501)], title: 't'.repeat(201) });
+    expect(res.status).toBe(400);
+    expect(res.text).toContain('Keep the label to 120 characters or fewer; it has 5,000 now.');
+    expect(res.text).toContain('Keep the option’s description to 500 characters or fewer; it has 501 now.');
+    expect(res.text).toContain('Keep the title to 200 characters or fewer; it has 201 now.');
+    expect(res.text).toContain(`value="${long}"`);
+    expect(res.text).toContain(`value="${'d'.repeat(501)}"`);
+  });
+
+  it('says "at most 1 seat" in the singular', async () => {
+    const res = await create({ optionLabel: ['Heron', 'Otter'], optionDescription: ['', ''], seats: '2' });
+    expect(res.text).toContain('With 2 options there can be at most 1 seat.');
+    expect(res.text).not.toContain('1 seats');
+  });
+
   it('a time repeated when the clocks go back takes its first occurrence', async () => {
     // 01:30 on 25 Oct 2026 happens twice in London (tzdata: Rule EU 1996 max Oct lastSun 1:00u): first at 00:30 UTC.
     const id = await createElectionViaForm(agent, { opensAt: '2026-10-25T01:30', closesAt: '2026-10-26T12:00' });

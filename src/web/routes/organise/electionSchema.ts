@@ -8,7 +8,7 @@ import { field, fields, type FieldErrors } from './forms.ts';
 
 type Body = Record<string, unknown> | undefined;
 
-/** The election form exactly as typed: strings only, so a re-render shows what was entered. */
+/** The election form exactly as typed, nothing cut (too long is refused by the draft rules, naming the limit): strings only, so a re-render shows what was entered. */
 export interface ElectionFormValues {
   title: string;
   description: string;
@@ -38,33 +38,32 @@ export interface ElectionFormValues {
 
 /** Rows beyond this are never rendered or read; the option limit itself is checked by the draft rules. */
 export const MAX_ROWS = DRAFT_LIMITS.optionsMax + 20;
-const cut = (s: string, n: number) => s.slice(0, n);
 
 export function readElectionForm(body: Body): ElectionFormValues {
   const labels = fields(body, 'optionLabel', MAX_ROWS);
   const descriptions = fields(body, 'optionDescription', MAX_ROWS);
   const rows = Math.max(labels.length, descriptions.length);
   return {
-    title: cut(field(body, 'title'), 1000),
-    description: cut(field(body, 'description'), 20_000),
-    contact: cut(field(body, 'contact'), 1000),
-    options: Array.from({ length: rows }, (_, i) => ({ label: cut(labels[i] ?? '', 1000), description: cut(descriptions[i] ?? '', 2000) })),
-    seats: cut(field(body, 'seats'), 20),
-    epsilon: cut(field(body, 'epsilon'), 20),
+    title: field(body, 'title'),
+    description: field(body, 'description'),
+    contact: field(body, 'contact'),
+    options: Array.from({ length: rows }, (_, i) => ({ label: labels[i] ?? '', description: descriptions[i] ?? '' })),
+    seats: field(body, 'seats'),
+    epsilon: field(body, 'epsilon'),
     neighbour: field(body, 'neighbour') === 'add-remove' ? 'add-remove' : 'replace-one',
     rule: drawRuleOr(field(body, 'rule')),
-    expectedVoters: cut(field(body, 'expectedVoters'), 20),
-    opensAt: cut(field(body, 'opensAt'), 40),
-    closesAt: cut(field(body, 'closesAt'), 40),
-    timeZone: cut(field(body, 'timeZone'), 64),
+    expectedVoters: field(body, 'expectedVoters'),
+    opensAt: field(body, 'opensAt'),
+    closesAt: field(body, 'closesAt'),
+    timeZone: field(body, 'timeZone'),
     publishTurnout: field(body, 'publishTurnout') === 'yes' ? 'yes' : 'no',
     retention: field(body, 'retention') === 'keep' ? 'keep' : 'shred',
-    retentionDays: cut(field(body, 'retentionDays'), 20),
-    memberGroup: cut(field(body, 'memberGroup'), 400),
-    electorate: cut(field(body, 'electorate'), 40).trim() || 'printed',
+    retentionDays: field(body, 'retentionDays'),
+    memberGroup: field(body, 'memberGroup'),
+    electorate: field(body, 'electorate').trim() || 'printed',
     liveTurnout: field(body, 'liveTurnout') === 'on' ? 'on' : 'off',
-    liveTurnoutEpsilon: cut(field(body, 'liveTurnoutEpsilon'), 20),
-    liveTurnoutInterval: cut(field(body, 'liveTurnoutInterval'), 4),
+    liveTurnoutEpsilon: field(body, 'liveTurnoutEpsilon'),
+    liveTurnoutInterval: field(body, 'liveTurnoutInterval'),
   };
 }
 
