@@ -1,4 +1,5 @@
 import type { Db } from '../db/knex.ts';
+import { isUuid } from '../custody/ids.ts';
 import { toCount } from '../db/knex.ts';
 
 export interface Organiser {
@@ -18,8 +19,6 @@ export interface OrganiserCredentials {
   passwordHash: string;
   demo: boolean;
 }
-
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /** Emails are stored trimmed and lower-cased, so sign-in does not depend on how they were typed. */
 export const normaliseEmail = (email: string): string => email.trim().toLowerCase();
@@ -44,7 +43,7 @@ export async function findCredentials(db: Db, email: string): Promise<OrganiserC
 }
 
 export async function findOrganiser(db: Db, id: string): Promise<Organiser | null> {
-  if (!UUID.test(id)) return null;
+  if (!isUuid(id)) return null;
   const rows = await listQuery(db).where('o.id', id);
   return rows[0] ? fromRow(rows[0]) : null;
 }
@@ -100,7 +99,7 @@ export async function updatePasswordHash(db: Db, id: string, passwordHash: strin
 
 /** Makes an organiser an administrator or not; false when nobody current has that id. Command line only. */
 export async function setAdmin(db: Db, id: string, admin: boolean): Promise<boolean> {
-  if (!UUID.test(id)) return false;
+  if (!isUuid(id)) return false;
   return (await db('organisers').where({ id, demo: false }).whereNull('removed_at').update({ admin })) === 1;
 }
 

@@ -1,8 +1,13 @@
 import type { RandomSource as RandomBytes } from '../mechanism/random.ts';
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+/** A UUID's text (RFC 9562 §4) in either case, unanchored: for finding one inside longer text. */
+export const UUID_PATTERN = '[0-9a-fA-F]{8}-[0-9a-fA-F]{4}-[0-9a-fA-F]{4}-[0-9a-fA-F]{4}-[0-9a-fA-F]{12}';
+const UUID = new RegExp(`^${UUID_PATTERN}$`);
 
-/** Whether `id` has a UUID's shape (RFC 9562 §4): what uuidBytes accepts. */
+/**
+ * Whether `id` has a UUID's shape (RFC 9562 §4), in either case: what uuidBytes accepts. The one
+ * test of an id's shape; upper-case ids pass, and PostgreSQL's uuid type compares them as equal.
+ */
 export function isUuid(id: string): boolean {
   return UUID.test(id);
 }

@@ -26,7 +26,7 @@ export {
 export type { OpeningKey } from './ballot.ts';
 export { codeHash, receiptHash, memberHash, hmacSha256 } from './keyedHash.ts';
 export { signStatement, verifyStatement, publicKeyFromSeed, signingKeyId, keyFingerprint } from './signing.ts';
-export { isUuid, uuidBytes, randomUuid } from './ids.ts';
+export { isUuid, uuidBytes, randomUuid, UUID_PATTERN } from './ids.ts';
 export { sodiumRandom, wipe } from './sodium.ts';
 export { WrongPassphrase, BallotUnreadable, CodeTypo, CodeMalformed, ReceiptMalformed, WrappedKeyInvalid } from './errors.ts';
 export { sealForElection, openForElection } from './sealed.ts';

@@ -9,6 +9,7 @@ import {
   openReceiptForToken,
   outerBallot,
   parseCastToken,
+  isUuid,
   randomUuid,
   receiptHash,
   sealReceiptForToken,
@@ -141,7 +142,7 @@ async function castChecked(
     try {
       e = await votingElection(trx, electionId, ctx.now());
     } catch (err) {
-      if (err instanceof ElectionNotOpen && token && tHash && UUID.test(electionId)) {
+      if (err instanceof ElectionNotOpen && token && tHash && isUuid(electionId)) {
         const earlier = await receiptForToken(trx, electionId, token, tHash);
         if (earlier) return { receipt: earlier };
       }
@@ -179,8 +180,6 @@ async function castChecked(
     throw new Error('could not find a free receipt');
   });
 }
-
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 async function receiptForToken(db: Db, electionId: string, token: Buffer, tHash: Buffer): Promise<string | null> {
   const row = await db('cast_tokens').where({ election_id: electionId, token_hash: tHash }).first('sealed_receipt');

@@ -1,4 +1,5 @@
 import type { Db } from '../db/knex.ts';
+import { isUuid } from '../custody/ids.ts';
 import { toBuffer } from '../db/knex.ts';
 import { drawRuleOr, type DrawRule } from '../mechanism/index.ts';
 
@@ -118,11 +119,9 @@ async function loadOptions(db: Db, electionId: string): Promise<ElectionOption[]
   return rows.map((o) => ({ position: o.position, label: o.label, description: o.description }));
 }
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
-
 /** Finds an election by id; a malformed id is simply not found. */
 export async function findElection(db: Db, id: string): Promise<Election | null> {
-  if (!UUID.test(id)) return null;
+  if (!isUuid(id)) return null;
   // The options come in the same statement: every member page starts here, so one round trip
   // fewer on each (README, Performance).
   const row = await db('elections')
@@ -141,7 +140,7 @@ export async function findElection(db: Db, id: string): Promise<Election | null>
 
 /** Locks the election row for the rest of the transaction (serialises tally, open, close, publish). */
 export async function lockElection(trx: Db, id: string): Promise<Election | null> {
-  if (!UUID.test(id)) return null;
+  if (!isUuid(id)) return null;
   const row = await trx('elections').where({ id }).forUpdate().first();
   return row ? fromRow(row, await loadOptions(trx, id)) : null;
 }

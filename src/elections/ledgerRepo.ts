@@ -1,4 +1,5 @@
 import crypto from 'node:crypto';
+import { isUuid } from '../custody/ids.ts';
 import type { Db } from '../db/knex.ts';
 import type { LedgerEntry, UnprotectedRelease } from '../mechanism/index.ts';
 
@@ -32,7 +33,7 @@ export async function groupIdFor(db: Db, ownerId: string, name: string, at: Date
 }
 
 export async function findGroup(db: Db, id: string): Promise<MemberGroup | null> {
-  if (!/^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i.test(id)) return null;
+  if (!isUuid(id)) return null;
   const row = await db('member_groups').where({ id }).first('id', 'name');
   return row ? { id: row.id, name: row.name } : null;
 }

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { memberHash, randomUuid } from '../custody/index.ts';
+import { isUuid, memberHash, randomUuid } from '../custody/index.ts';
 import { InvalidInput } from '../errors.ts';
 import { memberEmailSchema } from '../rosters/rosterInput.ts';
 import { canonicalEmail } from '../rosters/rosterRepo.ts';
@@ -28,8 +28,6 @@ import { grantReplacement, replacementMailing } from './replacementRepo.ts';
  * transaction and commit, small but not zero and not measured here. The message itself is sent later by the mail loop,
  * never within the request; its outgoing SMTP connection is visible to whoever watches the server.
  */
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
-
 export const replacementForm = z.object({ email: z.string().max(1000).catch('') });
 
 export async function requestReplacement(ctx: UseCaseContext, input: { electionId: string; email: unknown }): Promise<void> {
@@ -39,7 +37,7 @@ export async function requestReplacement(ctx: UseCaseContext, input: { electionI
     const message = parsed.error.issues[0]!.message;
     throw new InvalidInput(message, [{ path: 'email', message }]);
   }
-  if (!UUID.test(input.electionId)) throw new ElectionNotFound();
+  if (!isUuid(input.electionId)) throw new ElectionNotFound();
   const canonical = canonicalEmail(parsed.data);
   const hash = memberHash(ctx.secrets.codePepper, canonical);
   await ctx.knex.transaction(async (trx) => {

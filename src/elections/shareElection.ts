@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { isUuid } from '../custody/ids.ts';
 import type { Db } from '../db/knex.ts';
 import { findCurrentOrganiserByEmail } from '../accounts/organiserRepo.ts';
 import { InvalidInput } from '../errors.ts';
@@ -11,7 +12,6 @@ import { ownedElection } from './electionAccess.ts';
  * as its owner does (codes, opening, closing, tally with the passphrase, publication). The
  * passphrase is never shared by the site: the owner passes it on privately if they wish.
  */
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 const emailField = z
   .string()
   .trim()
@@ -69,7 +69,7 @@ export async function unshareElection(
 ): Promise<void> {
   await ctx.knex.transaction(async (trx) => {
     const e = await ownedElection(trx, input.electionId, input.organiserId, { lock: true });
-    if (!UUID.test(input.withOrganiserId)) return;
+    if (!isUuid(input.withOrganiserId)) return;
     const target = await trx('organisers').where({ id: input.withOrganiserId }).first('id', 'email');
     if (!target) return;
     const removed = await trx('election_organisers').where({ election_id: e.id, organiser_id: target.id }).delete();

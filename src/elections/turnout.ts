@@ -1,9 +1,8 @@
 import type { Db } from '../db/knex.ts';
+import { isUuid } from '../custody/ids.ts';
 import { countReceipts } from './ballotRepo.ts';
 import { countCodes } from './codeRepo.ts';
 import { ElectionNotFound } from './errors.ts';
-
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /**
  * The exact number of ballots cast and of codes issued and withdrawn, read straight from the rows,
@@ -14,7 +13,7 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
  * anything per option. Ballots are counted from receipts, which survive shredding.
  */
 export async function countTurnout(db: Db, electionId: string): Promise<{ ballotsCast: number; codesIssued: number; codesRevoked: number }> {
-  if (!UUID.test(electionId)) throw new ElectionNotFound();
+  if (!isUuid(electionId)) throw new ElectionNotFound();
   const ballotsCast = await countReceipts(db, electionId);
   const codes = await countCodes(db, electionId);
   return { ballotsCast, codesIssued: codes.issued, codesRevoked: codes.revoked };

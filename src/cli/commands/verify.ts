@@ -1,6 +1,6 @@
 import fs from 'node:fs';
 import { z } from 'zod';
-import { signingKeyId, verifyStatement } from '../../custody/index.ts';
+import { isUuid, signingKeyId, verifyStatement } from '../../custody/index.ts';
 import { InvalidInput } from '../../errors.ts';
 import { canonicalJson, isMemberLedger, recheckStatement, STATEMENT_FORMAT, type StatementEnvelope } from '../../mechanism/index.ts';
 import { schemaProblems } from '../../statement/format.ts';
@@ -29,10 +29,7 @@ KEY_FILE is the key file from the instance's /keys page (JSON with "publicKey"),
 const spec = { key: 'value', election: 'value' } as const;
 const flagSchema = z.object({
   key: z.string().optional(),
-  election: z
-    .string()
-    .regex(/^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i, { error: 'must be an election id (a UUID)' })
-    .optional(),
+  election: z.string().refine(isUuid, { error: 'must be an election id (a UUID)' }).optional(),
 });
 
 function readText(path: string, what: string): string {

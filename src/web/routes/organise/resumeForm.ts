@@ -2,6 +2,7 @@ import { Router, type Request } from 'express';
 import { z } from 'zod';
 import { SignInFailed } from '../../../accounts/errors.ts';
 import { signIn } from '../../../accounts/signIn.ts';
+import { isUuid } from '../../../custody/index.ts';
 import type { AppDeps } from '../../deps.ts';
 import { CsrfRejected } from '../../errors.ts';
 import type { Recovery } from '../../middleware/errorHandler.ts';
@@ -15,7 +16,7 @@ import { startSession } from './auth.ts';
  * The form re-opens through the guidance route, which stores nothing, so nothing is saved
  * without the organiser seeing it first.
  */
-const FORM_PATH = /^\/organise\/elections\/(new|[0-9a-f-]{36})\/(edit|guidance)$|^\/organise\/elections\/(new)$/i;
+const FORM_PATH = /^\/organise\/elections\/([^/]+)\/(edit|guidance)$|^\/organise\/elections\/(new)$/i;
 const NEVER_CARRIED = new Set(['_csrf', 'passphrase', 'passphraseAgain', 'password', 'email', 'intent', 'resumeTo']);
 const FIELD_NAME = /^[A-Za-z][A-Za-z0-9_]{0,40}$/;
 const MAX_FIELDS = 1200;
@@ -41,6 +42,7 @@ function resumeTarget(path: string): string | null {
   const m = FORM_PATH.exec(path);
   if (!m) return null;
   const id = m[1] ?? m[3]!;
+  if (id.toLowerCase() !== 'new' && !isUuid(id)) return null;
   return `/organise/elections/${id.toLowerCase()}/guidance`;
 }
 
