@@ -9,7 +9,7 @@ import { HEARTBEAT_MS, INTERRUPTED, THIS_PROCESS, beat, claimHeld, releasedClaim
 import { countApprovals } from './tallyCounter.ts';
 import { countCodes } from './codeRepo.ts';
 import { rewriteVotingRows, vacuumAfterTally } from './unlinkStorage.ts';
-import { chargeAndSign } from './signDraw.ts';
+import { chargeAndSign, liveTurnoutOf } from './signDraw.ts';
 import { takeReplacementCount } from './replacementRepo.ts';
 import { shredKeyOf, wrappedKeyOf } from './shredKeys.ts';
 
@@ -216,6 +216,9 @@ export async function runQueuedTally(ctx: UseCaseContext, q: QueuedTally): Promi
           turnout: e.publishTurnout ? ballots : null,
           electionTitle: e.title,
           replacements,
+          liveTurnout: liveTurnoutOf(e),
+          // A quorum's bit is released whatever it says: the draw runs either way, and the bylaws decide what follows.
+          quorum: e.quorum === null ? null : { minimum: e.quorum, ballots },
         });
         const labels = statement.winners;
         const result: StoredResult = { winners: labels, statement };

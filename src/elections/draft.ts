@@ -40,6 +40,11 @@ export interface DraftInput {
    * null when off. Absent: off on creation, unchanged on an edit.
    */
   liveTurnout?: { epsilon: string; intervalHours: number } | null;
+  /**
+   * A bylaw quorum: the least number of ballots the organisation's rules require; null for none.
+   * Absent: none on creation, unchanged on an edit. The draw releases one exact bit, whether it was met.
+   */
+  quorum?: number | null;
 }
 
 export const DRAFT_LIMITS = Object.freeze({
@@ -110,6 +115,13 @@ export const draftSchema = z
       .optional(),
     rosterId: z.uuid({ error: ELECTORATE_MESSAGE }).nullable().optional(),
     liveTurnout: z.object({ epsilon: z.string(), intervalHours: z.number().int() }).nullable().optional(),
+    quorum: z
+      .number()
+      .int('Give the quorum as a whole number of ballots, or leave it empty.')
+      .min(1, 'A quorum is at least 1 ballot. Leave it empty for no quorum.')
+      .max(L.votersMax, `We support up to ${L.votersMax.toLocaleString('en')} voters.`)
+      .nullable()
+      .optional(),
   })
   .superRefine((d, issue) => {
     const seen = new Map<string, number>();

@@ -19,6 +19,7 @@ function draftColumns(d: DraftInput) {
     publish_turnout: d.publishTurnout,
     retention_days: d.retentionDays,
     expected_voters: d.expectedVoters,
+    ...(d.quorum === undefined ? {} : { quorum: d.quorum }),
     ...(d.liveTurnout === undefined
       ? {}
       : { live_turnout_epsilon: d.liveTurnout?.epsilon ?? null, live_turnout_interval_hours: d.liveTurnout?.intervalHours ?? null }),

@@ -33,6 +33,8 @@ export interface Election {
   expectedVoters: number | null;
   /** The opt-in live turnout (src/elections/liveTurnout.ts): its own ε and release interval; null when off. */
   liveTurnout: { epsilon: string; intervalHours: number } | null;
+  /** A bylaw quorum: the least number of ballots; null when none was set. The result says exactly whether it was met. */
+  quorum: number | null;
   publicKey: Buffer | null;
   wrappedKey: unknown;
   result: unknown;
@@ -88,6 +90,7 @@ function fromRow(r: Record<string, unknown>, options: ElectionOption[]): Electio
     expectedVoters: (r.expected_voters as number | null) ?? null,
     liveTurnout:
       r.live_turnout_epsilon == null ? null : { epsilon: String(r.live_turnout_epsilon), intervalHours: Number(r.live_turnout_interval_hours) },
+    quorum: r.quorum == null ? null : Number(r.quorum),
     publicKey: r.public_key == null ? null : toBuffer(r.public_key),
     wrappedKey: r.wrapped_key == null ? null : json(r.wrapped_key),
     result: r.result == null ? null : json(r.result),

@@ -19,6 +19,11 @@ import { electorateTotals } from './ledger.ts';
 import { chargeDraw, countElectorate, DEFAULT_GROUP_NAME, findGroup, groupIdFor, listLedger } from './ledgerRepo.ts';
 import { registerSigningKey } from './signingKeyRepo.ts';
 
+/** A live turnout's settings and its number of releases, for the ledger and both statements; null when it was off. */
+export function liveTurnoutOf(e: Election): { epsilon: string; intervalHours: number; releases: number } | null {
+  return e.liveTurnout ? { ...e.liveTurnout, releases: turnoutSchedule(e.opensAt, e.closesAt, e.liveTurnout.intervalHours).length } : null;
+}
+
 /**
  * The part of the draw that makes it accountable, run inside the draw's own transaction:
  * charge the ledger, the members' or the group's (whether or not the result is ever published), take the next
@@ -43,13 +48,13 @@ export async function chargeAndSign(
   // One election, one draw: if a statement exists (an election reset behind the app's back), refuse.
   if (await trx('statements').where({ election_id: e.id }).first('draw_sequence')) throw new AlreadyTallied();
   // A live turnout's releases are charged with the draw, to whether a member voted (basic composition).
-  const live = e.liveTurnout ? { ...e.liveTurnout, releases: turnoutSchedule(e.opensAt, e.closesAt, e.liveTurnout.intervalHours).length } : null;
+  const live = liveTurnoutOf(e);
   const charge = {
     electionId: e.id,
     at,
     howVoted: draw.privacy.howVoted,
     whetherVoted: live ? sumEpsilons([draw.privacy.whetherVoted, live.epsilon]) : draw.privacy.whetherVoted,
-    unprotected: unprotectedReleases(e.publishTurnout),
+    unprotected: unprotectedReleases(e.publishTurnout, e.quorum !== null),
   };
   // A roster election is charged to the members recorded at its opening; printed codes to the owner's group.
   const members = await countElectorate(trx, e.id);
@@ -82,6 +87,7 @@ export async function chargeAndSign(
     winners: input.winners,
     publishedTurnout: e.publishTurnout ? input.ballots : null,
     liveTurnout: live,
+    quorum: e.quorum === null ? null : { minimum: e.quorum, ballots: input.ballots },
     ledger,
   });
   const canonical = canonicalJson(statement);

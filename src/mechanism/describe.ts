@@ -8,6 +8,8 @@ import type { PrivacyStatement } from './statement.ts';
 export interface StatementText {
   headline: string;
   paragraphs: string[];
+  /** Everything the result releases, one item each, keyed as in the statement (releasedItems). */
+  released: ReleasedItem[];
   boundsSentence: string;
   caution: string;
 }
@@ -37,6 +39,12 @@ function howDrawn(s: PrivacyStatement): string {
   return `Each of the ${s.seats} seats was drawn in turn from the options not drawn yet, at random and weighted toward the most approved options: an option that more members approved was more likely to be drawn, but not certain to be. ${ruleSentence(s)} ${nobodySaw}`;
 }
 
+/** With a live turnout, whether a member voted carries its ε too (basic composition). */
+function whetherVotedNote(s: PrivacyStatement): string | null {
+  if (!s.liveTurnout || !s.protects.whetherVoted) return null;
+  return `The live turnout released while voting ran adds its ε = ${s.liveTurnout.epsilon} for whether a member voted, which is protected at ε = ${s.protects.whetherVoted.epsilon} in all (the costs add up).`;
+}
+
 function privacyParagraph(s: PrivacyStatement): string {
   const setting = `Here the privacy setting, written ε (epsilon), is ${s.epsilon}: the smaller it is, the more strongly each ballot is protected.`;
   const how = s.protects.howVoted;
@@ -44,7 +52,15 @@ function privacyParagraph(s: PrivacyStatement): string {
   const turnoutNote = 'The turnout is published as an exact count and is not protected: it shows how many members voted.';
   // With no ballots nothing is drawn (outcome "no-ballots"), so a lone voter changes the outcome
   // itself, which no factor e^ε bounds (Dwork & Roth 2014, Def. 2.4): say so, never over-promise.
-  const anyoneVoted = 'One thing is shown whatever the setting: whether anyone voted at all, since with no ballots no winner is drawn.';
+  const anyoneVoted = [
+    'One thing is shown whatever the setting: whether anyone voted at all, since with no ballots no winner is drawn.',
+    ...(s.quorum
+      ? [
+          `One more is shown exactly and is not protected by ε: whether the quorum of ${s.quorum.minimum} was met (near the quorum, one member’s choice to vote can change it).`,
+        ]
+      : []),
+    ...(whetherVotedNote(s) ? [whetherVotedNote(s) as string] : []),
+  ].join(' ');
   if (s.neighbour === 'replace-one') {
     const first = `Whatever any one member ticked could at most have multiplied or divided the chance of this announcement by ${factorExplained(how.factorAtMost, 'ε')}.`;
     const second = whether
@@ -66,9 +82,57 @@ function compositionParagraph(s: PrivacyStatement): string {
   return `${total} That total is for whether a member voted. For what a member ticked the total is 2ε = ${s.protects.howVoted.epsilon}, as above.`;
 }
 
+/** One thing the result releases: `key` is the statement's name for it (released[] and privacy.unprotected of the signed statement). */
+export interface ReleasedItem {
+  key: 'winners' | 'option-labels' | 'epsilon' | 'bounds' | 'anyone-voted' | 'turnout' | 'live-turnout' | 'quorum-met';
+  text: string;
+}
+
+/**
+ * Everything the result releases, in plain words. The unprotected ones say so: whether anyone voted, the exact
+ * turnout when published, the quorum's bit when a quorum was set.
+ */
+export function releasedItems(s: PrivacyStatement): ReleasedItem[] {
+  const items: ReleasedItem[] = [
+    { key: 'winners', text: s.outcome === 'no-ballots' ? 'that no winner was drawn' : s.seats === 1 ? 'the winner' : 'the winners, in draw order' },
+    { key: 'option-labels', text: 'the list of options' },
+    { key: 'epsilon', text: `the privacy setting ε = ${s.epsilon} and the draw rule` },
+    { key: 'bounds', text: 'the accuracy guarantees, which follow from the settings alone' },
+    { key: 'anyone-voted', text: 'whether anyone voted at all (not protected)' },
+  ];
+  if (s.turnout !== null)
+    items.push({ key: 'turnout', text: `the turnout: ${s.turnout} ${s.turnout === 1 ? 'ballot' : 'ballots'}, exact and not protected` });
+  if (s.liveTurnout)
+    items.push({
+      key: 'live-turnout',
+      text: `the live turnout: ${s.liveTurnout.releases} noisy ${s.liveTurnout.releases === 1 ? 'count' : 'counts'} released while voting ran, at ε = ${s.liveTurnout.epsilon}`,
+    });
+  if (s.quorum)
+    items.push({
+      key: 'quorum-met',
+      text: `whether the quorum of ${s.quorum.minimum} ${s.quorum.minimum === 1 ? 'ballot' : 'ballots'} was met: ${s.quorum.met ? 'yes' : 'no'} (exact, not protected)`,
+    });
+  return items;
+}
+
+/** The quorum in words: the answer, what the draw did, and why the answer is not protected. */
+export function quorumSentences(q: { minimum: number; met: boolean }): { answer: string; caution: string } {
+  const ballots = `${q.minimum} ${q.minimum === 1 ? 'ballot' : 'ballots'}`;
+  return {
+    answer: q.met
+      ? `Quorum met: yes. The ballots cast reached the quorum of ${ballots}.`
+      : `Quorum met: no. The ballots cast did not reach the quorum of ${ballots}. The draw ran anyway, as set before voting; whether this result stands without a quorum is for your organisation’s bylaws to decide.`,
+    caution:
+      'This yes or no is exact, so that the bylaws get a definite answer, and for that reason it is not protected by the privacy setting: ' +
+      'when the turnout is close to the quorum, one member’s choice to vote can change it, so anyone who knows whether every other member voted would learn whether that member did.',
+  };
+}
+
 function releasedParagraph(s: PrivacyStatement): string {
   const shown = ['the winners', 'the list of options', 'the privacy setting ε', 'the guarantees below'];
   if (s.turnout !== null) shown.push(`the turnout (${s.turnout} ballots, exact)`);
+  if (s.liveTurnout) shown.push(`the live turnout (${s.liveTurnout.releases} noisy counts while voting ran, ε = ${s.liveTurnout.epsilon})`);
+  if (s.quorum) shown.push(`whether the quorum of ${s.quorum.minimum} was met (${s.quorum.met ? 'yes' : 'no'}, exact)`);
   const hidden = ['how many approvals any option received', 'any ballot'];
   if (s.turnout === null) hidden.push('the turnout');
   return `Published: ${listWords(shown, 'and')}. Never published: ${listWords(hidden, 'or')}.`;
@@ -108,6 +172,7 @@ export function describeStatement(s: PrivacyStatement): StatementText {
       paragraphs: ['No ballots were cast, so nothing was counted and no winner was drawn. The result shows that nobody voted, and nothing more.'],
       boundsSentence: boundsSentenceOf(s),
       caution: RANDOM_WINNER_CAUTION,
+      released: releasedItems(s),
     };
   }
   const paragraphs = [howDrawn(s), privacyParagraph(s)];
@@ -115,5 +180,5 @@ export function describeStatement(s: PrivacyStatement): StatementText {
   if (replaced) paragraphs.push(replaced);
   if (s.seats > 1) paragraphs.push(compositionParagraph(s));
   paragraphs.push(releasedParagraph(s));
-  return { headline: headlineOf(s), paragraphs, boundsSentence: boundsSentenceOf(s), caution: RANDOM_WINNER_CAUTION };
+  return { headline: headlineOf(s), paragraphs, boundsSentence: boundsSentenceOf(s), caution: RANDOM_WINNER_CAUTION, released: releasedItems(s) };
 }

@@ -72,7 +72,15 @@ export {
   protectionStrength,
 } from './electorate.ts';
 export { type PrivacyStatement, type Protection, type Released, type NotReleased, buildStatement } from './statement.ts';
-export { type StatementText, describeStatement, ruleSentence, RANDOM_WINNER_CAUTION } from './describe.ts';
+export {
+  type StatementText,
+  type ReleasedItem,
+  describeStatement,
+  quorumSentences,
+  releasedItems,
+  ruleSentence,
+  RANDOM_WINNER_CAUTION,
+} from './describe.ts';
 export { describeBounds } from './describeBounds.ts';
 export { canonicalJson, canonicalStatementBytes } from './canonical.ts';
 export { canonicalBytes } from './canonical.ts';
@@ -101,6 +109,8 @@ export {
   type StatementLedger,
   type LiveTurnoutRelease,
   liveTurnoutRelease,
+  quorumRelease,
+  type QuorumRelease,
   type GroupStatementLedger,
   type MemberStatementLedger,
   isMemberLedger,

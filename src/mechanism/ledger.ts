@@ -10,9 +10,12 @@ import { InvalidMechanismConfig } from './errors.ts';
  */
 const Decimal = decimalWithPrecision(40);
 
-/** Releases with no finite ε: whether anyone voted at all, and an exact turnout when published. */
-export type UnprotectedRelease = 'anyone-voted' | 'exact-turnout';
-export const UNPROTECTED_RELEASES: readonly UnprotectedRelease[] = ['anyone-voted', 'exact-turnout'];
+/**
+ * Releases with no finite ε: whether anyone voted at all, an exact turnout when published, and
+ * whether a bylaw quorum was met when one was set (one exact bit).
+ */
+export type UnprotectedRelease = 'anyone-voted' | 'exact-turnout' | 'quorum-met';
+export const UNPROTECTED_RELEASES: readonly UnprotectedRelease[] = ['anyone-voted', 'exact-turnout', 'quorum-met'];
 
 export interface LedgerEntry {
   chargedAt: Date;

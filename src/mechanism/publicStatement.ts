@@ -56,6 +56,11 @@ export interface PublicStatement {
      * on every node (src/mechanism/liveTurnout.ts). Its ε is added to whether a member voted.
      */
     liveTurnout?: LiveTurnoutRelease;
+    /**
+     * Present only when the organiser set a bylaw quorum: the least number of ballots, and one exact
+     * bit, whether the ballots reached it. Not differentially private (privacy.unprotected lists it).
+     */
+    quorum?: QuorumRelease;
   };
   privacy: {
     howVoted: Protection;
@@ -90,6 +95,25 @@ export interface LiveTurnoutRelease {
   nodeScale: string;
 }
 
+/**
+ * A bylaw quorum's one exact bit. Exact because bylaws need a definite answer (a noisy test would
+ * sometimes say "not met" when it was met), and so not protected: near the threshold one member's
+ * choice to vote can flip it, and whoever knows everyone else's participation learns that member's.
+ */
+export interface QuorumRelease {
+  minimum: number;
+  met: boolean;
+  exact: true;
+  protected: false;
+}
+
+/** The quorum's release, from the minimum and the ballots counted. */
+export function quorumRelease(minimum: number, ballots: number): QuorumRelease {
+  if (!Number.isSafeInteger(minimum) || minimum < 1) throw new InvalidMechanismConfig('a quorum must be a whole number of ballots ≥ 1');
+  if (!Number.isSafeInteger(ballots) || ballots < 0) throw new InvalidMechanismConfig('the ballots counted must be a whole number ≥ 0');
+  return { minimum, met: ballots >= minimum, exact: true, protected: false };
+}
+
 /** The statement's record of a live turnout, from its settings. */
 export function liveTurnoutRelease(input: { epsilon: string; releases: number; intervalHours: number }): LiveTurnoutRelease {
   const plan = planLiveTurnout(input.releases, input.epsilon);
@@ -110,8 +134,9 @@ export interface StatementEnvelope {
   signature: { alg: 'Ed25519'; keyId: string; value: string };
 }
 
-export function unprotectedReleases(turnoutPublished: boolean): UnprotectedRelease[] {
-  return turnoutPublished ? ['anyone-voted', 'exact-turnout'] : ['anyone-voted'];
+/** The releases with no finite ε, in this order: anyone voted, the exact turnout (if published), the quorum bit (if set). */
+export function unprotectedReleases(turnoutPublished: boolean, quorumSet = false): UnprotectedRelease[] {
+  return ['anyone-voted', ...(turnoutPublished ? (['exact-turnout'] as const) : []), ...(quorumSet ? (['quorum-met'] as const) : [])];
 }
 
 export function buildPublicStatement(input: {
@@ -129,6 +154,8 @@ export function buildPublicStatement(input: {
   publishedTurnout: number | null;
   /** The live turnout's settings when it was on; absent or null when off. */
   liveTurnout?: { epsilon: string; releases: number; intervalHours: number } | null;
+  /** The bylaw quorum when one was set, and the ballots counted (exact, known only to the draw); absent or null when none. */
+  quorum?: { minimum: number; ballots: number } | null;
   ledger: StatementLedger;
 }): PublicStatement {
   const { draw } = input;
@@ -145,6 +172,11 @@ export function buildPublicStatement(input: {
   const published = turnout !== null;
   const live = input.liveTurnout ? liveTurnoutRelease(input.liveTurnout) : null;
   const whetherEpsilon = live ? sumEpsilons([draw.privacy.whetherVoted, live.epsilon]) : draw.privacy.whetherVoted;
+  const quorum = input.quorum ? quorumRelease(input.quorum.minimum, input.quorum.ballots) : null;
+  if (input.quorum && (input.winners === null) !== (input.quorum.ballots === 0))
+    throw new InvalidMechanismConfig('the ballots counted for the quorum must be 0 exactly when no ballots were cast');
+  if (input.quorum && published && input.quorum.ballots !== turnout)
+    throw new InvalidMechanismConfig('the ballots counted for the quorum must be the published turnout');
   return {
     format: STATEMENT_FORMAT,
     electionId: input.electionId,
@@ -173,11 +205,12 @@ export function buildPublicStatement(input: {
       }),
       turnout: published ? { value: turnout, exact: true, protected: false } : null,
       ...(live ? { liveTurnout: live } : {}),
+      ...(quorum ? { quorum } : {}),
     },
     privacy: {
       howVoted: { epsilon: draw.privacy.howVoted, factorAtMost: factorAtMost(draw.privacy.howVoted) },
       whetherVoted: published ? null : { epsilon: whetherEpsilon, factorAtMost: factorAtMost(whetherEpsilon) },
-      unprotected: unprotectedReleases(published),
+      unprotected: unprotectedReleases(published, quorum !== null),
     },
     bounds: draw.bounds(0.05),
     ledger: { ...input.ledger },
@@ -252,9 +285,32 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
       ? `whether a member voted is protected at ε = ${whether.epsilon}${live ? ` (the draw's ${draw.privacy.whetherVoted} and the live turnout's ${live.epsilon}, basic composition)` : ''}`
       : 'whether a member voted is not protected, because an exact turnout was published',
   );
+  const q = s.released.quorum;
+  if (q !== undefined) {
+    const shape =
+      q !== null &&
+      typeof q === 'object' &&
+      Number.isSafeInteger(q.minimum) &&
+      q.minimum >= 1 &&
+      typeof q.met === 'boolean' &&
+      q.exact === true &&
+      q.protected === false;
+    // The bit itself is covered by the signature; here it must agree with whatever else the statement releases.
+    const turnoutAgrees = !shape || s.released.turnout === null || q.met === s.released.turnout.value >= q.minimum;
+    const emptyAgrees = !shape || s.released.anyoneVoted || !q.met;
+    add(
+      shape && turnoutAgrees && emptyAgrees,
+      !shape
+        ? 'the quorum release is not valid'
+        : `the quorum of ${q.minimum} ballot(s) is released as one exact, unprotected bit (met: ${q.met ? 'yes' : 'no'})${
+            s.released.turnout !== null ? `, consistent with the published turnout of ${s.released.turnout.value}` : ''
+          }${s.released.anyoneVoted ? '' : ', consistent with no ballots cast'}`,
+    );
+  }
+  const unprotected = unprotectedReleases(published, q !== undefined);
   add(
-    isDeepStrictEqual([...s.privacy.unprotected].sort(), unprotectedReleases(published).sort()),
-    `the unprotected releases are listed: ${unprotectedReleases(published).join(', ')}`,
+    isDeepStrictEqual([...s.privacy.unprotected].sort(), [...unprotected].sort()),
+    `the unprotected releases are listed: ${unprotected.join(', ')}`,
   );
   add(
     s.released.anyoneVoted === s.released.winners.length > 0 && (s.released.winners.length === 0 || s.released.winners.length === m.seats),

@@ -2,6 +2,8 @@ import { decimalWithPrecision } from './decimal.ts';
 import type { Bounds } from './bounds.ts';
 import type { ExponentialDraw, Neighbour } from './draw.ts';
 import { InvalidMechanismConfig } from './errors.ts';
+import { sumEpsilons } from './ledger.ts';
+import { planLiveTurnout } from './liveTurnout.ts';
 import { rationalToText } from './rational.ts';
 import { ruleModule, type StatementMechanism, type StatementSampler } from './rules/index.ts';
 
@@ -11,7 +13,7 @@ export interface Protection {
   factorAtMost: number;
 }
 
-export type Released = 'winners' | 'option-labels' | 'epsilon' | 'bounds' | 'turnout';
+export type Released = 'winners' | 'option-labels' | 'epsilon' | 'bounds' | 'turnout' | 'live-turnout' | 'quorum-met';
 export type NotReleased = 'approval-counts' | 'ballots' | 'turnout';
 
 /**
@@ -52,6 +54,13 @@ export interface PrivacyStatement {
    * could hold two working codes; absent for printed codes and for results drawn before replacements.
    */
   replacements?: number;
+  /**
+   * Only when a live turnout was on: its ε (included in protects.whetherVoted) and how many noisy
+   * releases it made while voting ran. Absent otherwise, and in results drawn before it existed.
+   */
+  liveTurnout?: { epsilon: string; releases: number };
+  /** Only when a bylaw quorum was set: the minimum and the one exact, unprotected bit. */
+  quorum?: { minimum: number; met: boolean };
 }
 
 const Decimal = decimalWithPrecision(40);
@@ -105,6 +114,10 @@ export function buildStatement(input: {
   turnout: number | null;
   electionTitle?: string;
   replacements?: number;
+  /** The live turnout's settings when it was on (its ε is added to whether a member voted). */
+  liveTurnout?: { epsilon: string; releases: number } | null;
+  /** The bylaw quorum when one was set, and the ballots counted. */
+  quorum?: { minimum: number; ballots: number } | null;
 }): PrivacyStatement {
   const { draw } = input;
   const labels = checkLabels(input.optionLabels, draw.options);
@@ -116,6 +129,9 @@ export function buildStatement(input: {
   }
   const published = turnout !== null;
   const rule = ruleModule(draw.rule);
+  const live = input.liveTurnout ? planLiveTurnout(input.liveTurnout.releases, input.liveTurnout.epsilon) : null;
+  const whetherVoted = live ? sumEpsilons([draw.privacy.whetherVoted, live.epsilon.text]) : draw.privacy.whetherVoted;
+  const quorum = input.quorum ? checkQuorum(input.quorum, winners, turnout) : null;
   return {
     statementVersion: 1,
     electionTitle: title?.trim() ? title.trim() : null,
@@ -130,18 +146,37 @@ export function buildStatement(input: {
     neighbour: draw.neighbour,
     protects: {
       howVoted: { epsilon: draw.privacy.howVoted, factorAtMost: factorAtMost(draw.privacy.howVoted) },
-      whetherVoted: published ? null : { epsilon: draw.privacy.whetherVoted, factorAtMost: factorAtMost(draw.privacy.whetherVoted) },
+      whetherVoted: published ? null : { epsilon: whetherVoted, factorAtMost: factorAtMost(whetherVoted) },
     },
     seats: draw.seats,
     composition: draw.privacy.composition,
     perRoundEpsilon: draw.privacy.perRoundEpsilon,
     perRoundScale: rationalToText(draw.perRoundScale),
     bounds: draw.bounds(0.05),
-    released: ['winners', 'option-labels', 'epsilon', 'bounds', ...(published ? (['turnout'] as const) : [])],
+    released: [
+      'winners',
+      'option-labels',
+      'epsilon',
+      'bounds',
+      ...(published ? (['turnout'] as const) : []),
+      ...(live ? (['live-turnout'] as const) : []),
+      ...(quorum ? (['quorum-met'] as const) : []),
+    ],
     notReleased: ['approval-counts', 'ballots', ...(published ? [] : (['turnout'] as const))],
     turnout,
     ...(input.replacements === undefined ? {} : { replacements: checkReplacements(input.replacements) }),
+    ...(live ? { liveTurnout: { epsilon: live.epsilon.text, releases: live.releases } } : {}),
+    ...(quorum ? { quorum } : {}),
   };
+}
+
+function checkQuorum(q: { minimum: number; ballots: number }, winners: number[] | null, turnout: number | null): { minimum: number; met: boolean } {
+  if (!Number.isSafeInteger(q.minimum) || q.minimum < 1) throw new InvalidMechanismConfig('a quorum must be a whole number of ballots ≥ 1');
+  if (!Number.isSafeInteger(q.ballots) || q.ballots < 0) throw new InvalidMechanismConfig('the ballots counted must be a whole number ≥ 0');
+  if ((winners === null) !== (q.ballots === 0))
+    throw new InvalidMechanismConfig('the ballots counted for the quorum must be 0 exactly when no ballots were cast');
+  if (turnout !== null && turnout !== q.ballots) throw new InvalidMechanismConfig('the ballots counted for the quorum must be the published turnout');
+  return { minimum: q.minimum, met: q.ballots >= q.minimum };
 }
 
 function checkReplacements(n: unknown): number {

@@ -34,6 +34,10 @@ export interface FixtureOptions {
   publishTurnout?: boolean;
   codes?: number;
   memberGroup?: string;
+  /** A bylaw quorum in ballots (null or absent: none). */
+  quorum?: number | null;
+  /** The opt-in live turnout's settings (absent: off). */
+  liveTurnout?: { epsilon: string; intervalHours: number } | null;
 }
 
 export interface ElectionFixture {
@@ -79,6 +83,8 @@ export async function createDraft(ctx: UseCaseContext, organiserId: string, o: F
       retentionDays: null,
       expectedVoters: 20,
       ...(o.memberGroup === undefined ? {} : { memberGroup: o.memberGroup }),
+      ...(o.quorum === undefined ? {} : { quorum: o.quorum }),
+      ...(o.liveTurnout === undefined ? {} : { liveTurnout: o.liveTurnout }),
     },
   });
   const { codes } = await issueCodes(ctx, { electionId: id, organiserId, count: o.codes ?? 6 });

@@ -153,12 +153,18 @@ function summary(e: StatementEnvelope): string {
   const turnout = s.released.turnout ? `${s.released.turnout.value} ballots (exact, not protected)` : 'not published';
   const whether = s.privacy.whetherVoted ? `ε = ${s.privacy.whetherVoted.epsilon}` : 'not protected (exact turnout published)';
   const live = s.released.liveTurnout;
+  const quorum = s.released.quorum;
   return [
     `What the statement says: election "${shown(s.electionTitle)}" (${s.electionId}), draw number ${s.drawSequence} of this instance, drawn ${s.drawnAt}.`,
     `Released: winners ${winners}; turnout ${turnout}; whether anyone voted (not protected).`,
     ...(live
       ? [
           `Live turnout while voting ran: ${live.releases} noisy releases, one every ${live.intervalHours} hour(s), ε = ${live.epsilon} (binary-tree counter, discrete Laplace of scale ${live.nodeScale} on each node), included in whether a member voted.`,
+        ]
+      : []),
+    ...(quorum
+      ? [
+          `Quorum: ${quorum.minimum} ballot(s), met: ${quorum.met ? 'yes' : 'no'}. One exact bit, not protected by ε: near the quorum one member's choice to vote can change it.`,
         ]
       : []),
     `Rule: ${s.mechanism.rule}, ε = ${s.mechanism.epsilon}, ${s.mechanism.seats} seat(s), ${s.mechanism.neighbour} neighbours. How a member voted: ε = ${s.privacy.howVoted.epsilon}; whether: ${whether}.`,

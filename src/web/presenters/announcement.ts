@@ -1,5 +1,5 @@
 import type { PublicStatement } from '../../mechanism/index.ts';
-import { RULE_NAMES } from '../../mechanism/index.ts';
+import { RULE_NAMES, quorumSentences } from '../../mechanism/index.ts';
 import { shownTime, type ShownTime } from './publicTime.ts';
 
 /**
@@ -17,6 +17,8 @@ export interface AnnouncementView {
   orderNote: string | null;
   /** Only when the organiser chose to publish it: exact and unprotected, and said so. */
   turnout: string | null;
+  /** Only when a bylaw quorum was set: the exact yes or no, said to be unprotected. */
+  quorum: string | null;
   caution: string;
   drawnAt: ShownTime;
   drawSequence: number;
@@ -41,6 +43,12 @@ export function leadSentence(s: Pick<PublicStatement, 'electionTitle' | 'release
   return `${vote}, ${listWords(winners)} were drawn for the ${s.mechanism.seats} seats, in that order, each ${how}, ${eps} for the whole draw.`;
 }
 
+/** The quorum's answer for the minutes: exact, from the statement, with what it does not protect. */
+export function quorumLine(q: { minimum: number; met: boolean }): string {
+  const { answer } = quorumSentences(q);
+  return `${answer} This answer is exact and not protected by the privacy setting.`;
+}
+
 export function announcementView(s: PublicStatement, timeZone: string, publicUrl: string): AnnouncementView {
   const base = publicUrl.replace(/\/$/, '');
   const several = s.mechanism.seats > 1 && s.released.winners.length > 0;
@@ -52,6 +60,7 @@ export function announcementView(s: PublicStatement, timeZone: string, publicUrl
     turnout: turnout
       ? `${turnout.value} ${turnout.value === 1 ? 'ballot was' : 'ballots were'} cast. The organiser chose to publish this figure; it is exact and not protected by the privacy setting.`
       : null,
+    quorum: s.released.quorum ? quorumLine(s.released.quorum) : null,
     caution:
       `The result was drawn with ${RULE_NAMES[s.mechanism.rule]}, so the option drawn is not always the most approved one. ` +
       'Nobody, the organiser included, was shown how many approvals any option received.',
@@ -83,6 +92,7 @@ export function announcementText(a: AnnouncementView): string {
     a.sentence,
     ...(a.orderNote ? [a.orderNote] : []),
     ...(a.turnout ? [a.turnout] : []),
+    ...(a.quorum ? [a.quorum] : []),
     a.caution,
     `Drawn ${a.drawnAt.text}, draw number ${a.drawSequence} of this site.`,
   ];

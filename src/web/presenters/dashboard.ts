@@ -229,6 +229,13 @@ export function dashboardView(d: Dashboard): DashboardView {
       ...timeSettings(d),
       { term: 'Turnout', value: e.publishTurnout ? 'Published as an exact, unprotected count' : 'Not published' },
       {
+        term: 'Quorum',
+        value:
+          e.quorum === null
+            ? 'None set'
+            : `${plural(e.quorum, 'ballot')}: the result will say exactly whether it was met (one bit, not protected by ε); the draw runs either way`,
+      },
+      {
         term: 'After publication',
         value:
           e.retentionDays === null ? 'Key and sealed ballots shredded at once' : `Kept sealed for ${plural(e.retentionDays, 'day')}, then shredded`,

@@ -47,6 +47,7 @@ export function blankValues(now: Date, timeZone = 'UTC'): ElectionFormValues {
     liveTurnout: 'off',
     liveTurnoutEpsilon: '0.5',
     liveTurnoutInterval: '24',
+    quorum: '',
   };
 }
 
@@ -76,6 +77,7 @@ export function valuesFromElection(e: Election, groupName = ''): ElectionFormVal
     liveTurnout: e.liveTurnout ? 'on' : 'off',
     liveTurnoutEpsilon: e.liveTurnout?.epsilon ?? '0.5',
     liveTurnoutInterval: String(e.liveTurnout?.intervalHours ?? 24),
+    quorum: e.quorum === null ? '' : String(e.quorum),
   };
 }
 
@@ -138,6 +140,7 @@ export const MORE_SETTINGS_FIELDS: readonly string[] = [
   'liveTurnout',
   'liveTurnoutEpsilon',
   'liveTurnoutInterval',
+  'quorum',
 ];
 
 function moreSettingsFor(values: ElectionFormValues, errors: FieldErrors, budget: BudgetPreview | null): MoreSettingsView {
@@ -150,6 +153,7 @@ function moreSettingsFor(values: ElectionFormValues, errors: FieldErrors, budget
     values.publishTurnout === 'yes' ? 'exact turnout published' : 'turnout not published',
     values.retention === 'keep' ? `sealed ballots kept ${days} ${days === '1' ? 'day' : 'days'}` : 'sealed ballots shredded at publication',
     values.liveTurnout === 'on' ? 'live turnout on' : 'no live turnout',
+    values.quorum.trim() === '' ? 'no quorum' : `quorum of ${values.quorum.trim()} (an exact yes or no released)`,
   ].join(' · ');
   const errorInside = Object.keys(errors).some((k) => MORE_SETTINGS_FIELDS.includes(k));
   const overBudget = budget?.exceeds === true;

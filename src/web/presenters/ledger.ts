@@ -4,6 +4,7 @@ import { yearBefore } from '../../mechanism/index.ts';
 const UNPROTECTED_TEXT: Record<string, string> = {
   'anyone-voted': 'whether anyone voted at all',
   'exact-turnout': 'the exact turnout',
+  'quorum-met': 'whether the quorum was met',
 };
 
 export interface LedgerRowView {

@@ -9,8 +9,10 @@ import {
   describeStatement,
   makeDraw,
   makeExponentialDraw,
+  quorumSentences,
   ruleOfStatementMechanism,
   type PartyText,
+  type ReleasedItem,
   type PrivacyStatement,
   type StatementMechanism,
 } from '../../mechanism/index.ts';
@@ -38,6 +40,7 @@ const statementShape = z
     protects: z.object({ howVoted: protection, whetherVoted: protection.nullable() }),
     turnout: z.number().int().min(0).nullable(),
     replacements: z.number().int().min(0).optional(),
+    quorum: z.object({ minimum: z.number().int().min(1), met: z.boolean() }).optional(),
   })
   .loose();
 const storedResult = z.object({ statement: statementShape }).loose();
@@ -88,6 +91,10 @@ export interface PublishedResultView {
   noBallots: boolean;
   winners: string[];
   turnout: number | null;
+  /** Only when a bylaw quorum was set: the exact answer and why it is not protected. */
+  quorum: { met: boolean; answer: string; caution: string } | null;
+  /** Everything the result releases, keyed as in the signed statement (describe.ts, releasedItems). */
+  released: ReleasedItem[];
   parameters: {
     epsilon: string;
     seats: number;
@@ -227,6 +234,8 @@ function publishedResultViewOf(stored: unknown, electorate: Electorate): Publish
     noBallots,
     winners: statement.winners,
     turnout: statement.turnout,
+    quorum: statement.quorum ? { met: statement.quorum.met, ...quorumSentences(statement.quorum) } : null,
+    released: text.released,
     parameters: {
       epsilon: statement.epsilon,
       seats: statement.seats,

@@ -34,6 +34,8 @@ export interface ElectionFormValues {
   liveTurnout: 'on' | 'off';
   liveTurnoutEpsilon: string;
   liveTurnoutInterval: string;
+  /** A bylaw quorum in ballots; empty for none (the default). */
+  quorum: string;
 }
 
 /** Rows beyond this are never rendered or read; the option limit itself is checked by the draft rules. */
@@ -64,6 +66,7 @@ export function readElectionForm(body: Body): ElectionFormValues {
     liveTurnout: field(body, 'liveTurnout') === 'on' ? 'on' : 'off',
     liveTurnoutEpsilon: field(body, 'liveTurnoutEpsilon'),
     liveTurnoutInterval: field(body, 'liveTurnoutInterval'),
+    quorum: field(body, 'quorum'),
   };
 }
 
@@ -94,6 +97,10 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
   const expectedVoters = votersGiven ? wholeNumber(v.expectedVoters) : null;
   if (votersGiven && expectedVoters === null)
     errors.expectedVoters = 'Give the number of voters you expect as a whole number, such as 40, or leave it empty.';
+  // Optional: left empty, no quorum is set and nothing about it is released.
+  const quorumGiven = v.quorum.trim() !== '';
+  const quorum = quorumGiven ? wholeNumber(v.quorum) : null;
+  if (quorumGiven && quorum === null) errors.quorum = 'Give the quorum as a whole number of ballots, such as 25, or leave it empty for none.';
   const retentionDays = v.retention === 'keep' ? wholeNumber(v.retentionDays) : null;
   if (v.retention === 'keep' && retentionDays === null) errors.retentionDays = 'Give the number of days as a whole number from 1 to 90.';
   const ambiguous: ('opensAt' | 'closesAt')[] = [];
@@ -126,6 +133,7 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
     memberGroup: v.memberGroup.trim() === '' ? undefined : v.memberGroup,
     rosterId: v.electorate === 'printed' ? null : v.electorate,
     liveTurnout: v.liveTurnout === 'on' ? { epsilon: v.liveTurnoutEpsilon.trim(), intervalHours: wholeNumber(v.liveTurnoutInterval) ?? 0 } : null,
+    quorum: quorumGiven ? (quorum ?? 1) : null,
   };
   try {
     const draft = checkDraft(candidate);
