@@ -38,6 +38,7 @@ describe.each(engines)('election form: quorum [%s]', (engine) => {
     expect(res.text).toContain('it is not protected by ε');
     expect(res.text).toContain('anyone who knows whether\n    every other member voted would learn whether that member did');
     expect(res.text).toContain('The draw runs either way');
+    expect(res.text).toContain('no live turnout · no quorum</span>');
     const id = await createElectionViaForm(agent);
     expect((await findElection(ctx.knex, id))?.quorum).toBeNull();
   });
@@ -45,7 +46,9 @@ describe.each(engines)('election form: quorum [%s]', (engine) => {
   it('set: stored with the draft, shown on the edit form and the dashboard, and cleared by leaving it empty', async () => {
     const id = await createElectionViaForm(agent, { quorum: ' 25 ' });
     expect((await findElection(ctx.knex, id))?.quorum).toBe(25);
-    expect((await agent.get(`/organise/elections/${id}/edit`)).text).toContain('id="quorum" name="quorum" value="25"');
+    const edit = (await agent.get(`/organise/elections/${id}/edit`)).text;
+    expect(edit).toContain('id="quorum" name="quorum" value="25"');
+    expect(edit).toContain('quorum of 25 (an exact yes or no released)</span>');
     const dash = (await agent.get(`/organise/elections/${id}`)).text;
     expect(dash).toContain('25 ballots: the result will say exactly whether it was met (one bit, not protected by ε); the draw runs either way');
     const saved = await postForm(
@@ -69,6 +72,8 @@ describe.each(engines)('election form: quorum [%s]', (engine) => {
       expect(res.status, typed).toBe(400);
       expect(res.text, typed).toContain(message);
       expect(res.text, typed).toContain(`id="quorum" name="quorum" value="${typed}"`);
+      // The quorum sits under "More settings", which opens by itself on its error.
+      expect(res.text, typed).toContain('<details class="more-settings" id="more-settings" open>');
     }
   });
 
