@@ -103,28 +103,53 @@ export async function groupNameOf(ctx: UseCaseContext, groupId: string | null): 
 
 /**
  * The history of every member of a roster election's electorate (fixed at its opening): for each
- * member, the elections over them, this one excluded. Members with the same elections share one
- * list, so a roster of thousands who always vote together costs one list.
+ * member, the elections over them, this one excluded, and whether they hold a second code in this
+ * one. Members with the same elections share one list, so a roster of thousands who always vote
+ * together costs one list. An election where the member held a second code (a replacement) is
+ * listed with `secondCode`, its charge doubled: two codes are two records (group privacy, Dwork &
+ * Roth 2014 Thm 2.2: k records, kε), for how they voted and for whether they voted.
  */
-async function memberHistories(db: Db, electionId: string): Promise<Map<string, ElectorateElection[]>> {
+interface MemberHistory {
+  elections: ElectorateElection[];
+  secondCodeHere: boolean;
+}
+
+const twice = (c: LedgerEntry): LedgerEntry => ({
+  ...c,
+  howVotedEpsilon: sumEpsilons([c.howVotedEpsilon, c.howVotedEpsilon]),
+  whetherVotedEpsilon: sumEpsilons([c.whetherVotedEpsilon, c.whetherVotedEpsilon]),
+});
+
+/** An election's cost to a member: its charge once drawn, else what its draw will charge; twice with a second code. */
+const chargeTo = (e: ElectorateElection): LedgerEntry | null => (e.charge && e.secondCode ? twice(e.charge) : e.charge);
+const pendingCost = (e: ElectorateElection): string => {
+  const c = howVotedCost(e.epsilon, e.neighbour);
+  return e.secondCode ? sumEpsilons([c, c]) : c;
+};
+
+async function memberHistories(db: Db, electionId: string): Promise<Map<string, MemberHistory>> {
   const pairs = await electionsOfMembers(db, electionId);
-  const ids = new Map<string, string[]>();
+  const ids = new Map<string, { list: string[]; here: boolean }>();
   for (const p of pairs) {
-    const list = ids.get(p.member) ?? [];
-    if (p.electionId !== electionId) list.push(p.electionId);
-    ids.set(p.member, list);
+    const m = ids.get(p.member) ?? { list: [], here: false };
+    if (p.electionId !== electionId) m.list.push(p.secondCode ? `${p.electionId}*2` : p.electionId);
+    else m.here = p.secondCode;
+    ids.set(p.member, m);
   }
   const elections = new Map((await electionsWithCharges(db, [...new Set(pairs.map((p) => p.electionId))])).map((e) => [e.id, e]));
   const shared = new Map<string, ElectorateElection[]>();
-  const out = new Map<string, ElectorateElection[]>();
-  for (const [member, list] of ids) {
+  const out = new Map<string, MemberHistory>();
+  for (const [member, { list, here }] of ids) {
     const key = [...list].sort().join(',');
     let history = shared.get(key);
     if (!history) {
-      history = list.map((id) => elections.get(id)!);
+      history = list.map((id) => {
+        const e = elections.get(id.replace(/\*2$/, ''))!;
+        return id.endsWith('*2') ? { ...e, secondCode: true as const } : e;
+      });
       shared.set(key, history);
     }
-    out.set(member, history);
+    out.set(member, { elections: history, secondCodeHere: here });
   }
   return out;
 }
@@ -148,12 +173,12 @@ export async function memberBudgetPreview(
   const histories = await memberHistories(db, input.electionId);
   const costs = new Map<ElectorateElection[], { spent: string[]; pending: string[] }>();
   const members = new Map<string, { spent: string[]; pending: string[] }>();
-  for (const [member, history] of histories) {
+  for (const [member, { elections: history }] of histories) {
     let c = costs.get(history);
     if (!c) {
       c = {
-        spent: history.filter((e) => e.charge && e.charge.chargedAt > since).map((e) => e.charge!.howVotedEpsilon),
-        pending: history.filter((e) => !e.charge && (e.state === 'open' || e.state === 'closed')).map((e) => howVotedCost(e.epsilon, e.neighbour)),
+        spent: history.filter((e) => e.charge && e.charge.chargedAt > since).map((e) => chargeTo(e)!.howVotedEpsilon),
+        pending: history.filter((e) => !e.charge && (e.state === 'open' || e.state === 'closed')).map(pendingCost),
       };
       costs.set(history, c);
     }
@@ -170,13 +195,18 @@ export async function memberBudgetPreview(
 export async function electorateTotals(db: Db, electionId: string, at: Date): Promise<LedgerTotals> {
   const histories = await memberHistories(db, electionId);
   const own = (await electionsWithCharges(db, [electionId]))[0]?.charge;
-  const entries = new Map<ElectorateElection[], LedgerEntry[]>();
+  const entries = new Map<ElectorateElection[], [LedgerEntry[] | null, LedgerEntry[] | null]>();
   const byMember = new Map<string, LedgerEntry[]>();
-  for (const [member, history] of histories) {
-    let list = entries.get(history);
+  for (const [member, { elections: history, secondCodeHere }] of histories) {
+    const pair = entries.get(history) ?? [null, null];
+    entries.set(history, pair);
+    // A holder of a second code in this election is charged its draw twice.
+    const which = secondCodeHere ? 1 : 0;
+    let list = pair[which];
     if (!list) {
-      list = [...(own ? [own] : []), ...history.flatMap((e) => (e.charge ? [e.charge] : []))];
-      entries.set(history, list);
+      const mine = own ? [secondCodeHere ? twice(own) : own] : [];
+      list = [...mine, ...history.flatMap((e) => (e.charge ? [chargeTo(e)!] : []))];
+      pair[which] = list;
     }
     byMember.set(member, list);
   }

@@ -120,13 +120,24 @@ export async function countElectorate(db: Db, electionId: string): Promise<numbe
   return Number(row?.n ?? 0);
 }
 
-/** For each member of this election's electorate (hash in hex), every election whose electorate holds them, this one included. */
-export async function electionsOfMembers(db: Db, electionId: string): Promise<{ member: string; electionId: string }[]> {
+/**
+ * For each member of this election's electorate (hash in hex), every election whose electorate
+ * holds them, this one included, and whether they held a second code there: a replacement granted
+ * (replacement_grants, before the draw) or recorded by the draw (ledger_second_codes).
+ */
+export async function electionsOfMembers(db: Db, electionId: string): Promise<{ member: string; electionId: string; secondCode: boolean }[]> {
   const rows = await db('ledger_electorates as me')
     .join('ledger_electorates as o', 'o.member_hash', 'me.member_hash')
     .where('me.election_id', electionId)
-    .select(db.raw("encode(o.member_hash, 'hex') as member"), 'o.election_id');
-  return rows.map((r) => ({ member: r.member as string, electionId: r.election_id as string }));
+    .select(
+      db.raw("encode(o.member_hash, 'hex') as member"),
+      'o.election_id',
+      db.raw(
+        `(EXISTS (SELECT 1 FROM ledger_second_codes s WHERE s.election_id = o.election_id AND s.member_hash = o.member_hash)
+          OR EXISTS (SELECT 1 FROM replacement_grants g WHERE g.election_id = o.election_id AND g.member_hash = o.member_hash)) as second_code`,
+      ),
+    );
+  return rows.map((r) => ({ member: r.member as string, electionId: r.election_id as string, secondCode: r.second_code === true }));
 }
 
 export interface ElectorateElection {
@@ -136,6 +147,8 @@ export interface ElectorateElection {
   neighbour: 'replace-one' | 'add-remove';
   /** The draw's charge, or null while the election is not drawn. */
   charge: LedgerEntry | null;
+  /** Set in one member's history (ledger.ts): they held a second code here, so count it twice. */
+  secondCode?: true;
 }
 
 /** The elections with these ids, each with its ledger charge if drawn. */

@@ -53,7 +53,15 @@ export async function countReplacements(db: Db, electionId: string): Promise<num
   return toCount(r?.n ?? 0);
 }
 
-/** In the draw's transaction: the number of grants, and the grants (member hashes) deleted. */
+/**
+ * In the draw's transaction: the grants' member hashes move to the ledger (ledger_second_codes,
+ * each holder charged twice this draw's ε), the grants are deleted, and their number is returned.
+ */
 export async function takeReplacementCount(db: Db, electionId: string): Promise<number> {
+  await db.raw(
+    `INSERT INTO ledger_second_codes (election_id, member_hash)
+     SELECT election_id, member_hash FROM replacement_grants WHERE election_id = CAST(? AS uuid) ORDER BY member_hash`,
+    [electionId],
+  );
   return (await db('replacement_grants').where({ election_id: electionId }).delete().returning('election_id')).length;
 }

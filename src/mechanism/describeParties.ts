@@ -135,7 +135,7 @@ function ledgerSentences(electorate: 'roster' | 'printed'): { public: string; or
   if (electorate === 'roster') {
     return {
       public:
-        "The privacy ledger: this vote is charged to each member of the roster, under a keyed hash of their address, never the address. The published statement gives the most any one member has spent over 12 months, counting every vote on this site over their address, other organisers' included; a figure higher than this roster's own votes explain shows that someone on it also voted in another electorate here, never who, where or how.",
+        "The privacy ledger: this vote is charged to each member of the roster, under a keyed hash of their address, never the address. The published statement gives the most any one member has spent over 12 months, counting every vote on this site over their address, other organisers' included; a figure higher than this roster's own votes explain shows that someone on it also voted in another electorate here, or held a replacement code (charged twice), never who, where or how.",
       organiser:
         'From the privacy ledger: the same figure as the public and, when opening is refused for the budget, the most a member would reach. A roster holding one real address would tell its organiser that person’s 12-month total on this site, though not which votes nor how they voted.',
       operator:

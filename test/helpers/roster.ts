@@ -21,7 +21,7 @@ export async function rosterElection(
   ctx: UseCaseContext,
   organiserId: string,
   rosterId: string,
-  o: { open?: boolean; opensInHours?: number; closesInHours?: number; title?: string } = {},
+  o: { open?: boolean; opensInHours?: number; closesInHours?: number; title?: string; epsilon?: string } = {},
 ): Promise<string> {
   const now = ctx.now();
   const opensAt = new Date(now.getTime() + (o.opensInHours ?? 0) * 3600_000);
@@ -38,7 +38,7 @@ export async function rosterElection(
         { label: 'Otter', description: '' },
       ],
       seats: 1,
-      epsilon: '1',
+      epsilon: o.epsilon ?? '1',
       neighbour: 'replace-one',
       opensAt,
       closesAt: new Date(opensAt.getTime() + (o.closesInHours ?? 7 * 24) * 3600_000),
