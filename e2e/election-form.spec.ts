@@ -65,4 +65,44 @@ describe('the election form, in Chromium', () => {
     expect(await seriousViolations(page)).toEqual([]);
     await context.close();
   });
+
+  it('"Add 5 more rows" brings back every field as typed, the passphrase included', async () => {
+    const { context, page } = await newPage(PHONE);
+    await signIn(page);
+    await page.goto(`${env.server.url}/organise/elections/new`);
+    const text: [string, string][] = [
+      ['#title', 'Name the new sculling boat'],
+      ['#description', 'Two seats.\nPick every name you like.'],
+      ['#contact', 'Ask the boathouse captain'],
+      ['#option-1-label', 'Heron'],
+      ['#option-1-description', 'Grey and patient'],
+      ['#option-2-label', 'Kingfisher'],
+      ['#option-3-label', 'Otter'],
+      ['#option-4-label', 'Swift'],
+      ['#seats', '2'],
+      ['#epsilon', '1.5'],
+      ['#expectedVoters', '24'],
+      ['#opensAt', '2026-06-11T18:00'],
+      ['#closesAt', '2026-06-13T20:30'],
+      ['#passphrase', 'heron otter swift kingfisher'],
+      ['#passphraseAgain', 'heron otter swift kingfisher'],
+    ];
+    for (const [sel, v] of text) await page.locator(sel).fill(v);
+    await page.locator('#more-settings > summary').click();
+    const ticks = ['#neighbour-add-remove', '#rule-permute-and-flip', '#publishTurnout-yes', '#retention-keep', '#liveTurnout-on'];
+    for (const sel of ticks) await page.locator(sel).check();
+    const more: [string, string][] = [
+      ['#retentionDays', '12'],
+      ['#memberGroup', 'Sculling section'],
+      ['#liveTurnoutEpsilon', '0.25'],
+    ];
+    for (const [sel, v] of more) await page.locator(sel).fill(v);
+    await page.getByRole('button', { name: 'Add 5 more rows' }).click();
+    await page.waitForURL(/\/organise\/elections\/new\/guidance#more-rows$/);
+    await page.locator('#option-9-label').waitFor();
+    for (const [sel, v] of [...text, ...more]) await expect(page.locator(sel).inputValue(), sel).resolves.toBe(v);
+    for (const sel of ticks) await expect(page.locator(sel).isChecked(), sel).resolves.toBe(true);
+    expect(page.url()).not.toContain('heron');
+    await context.close();
+  });
 });

@@ -95,7 +95,7 @@ describe('the look, in Chromium', () => {
     await page.getByRole('button', { name: 'Update the guidance for these settings' }).click();
     await page.waitForURL(/\/organise\/elections\/new\/guidance#guidance$/);
     await expect(page.getByText('If all 12 voters approve one option and nobody approves any other').isVisible()).resolves.toBe(true);
-    await expect(page.locator('#passphrase-again-note').isVisible()).resolves.toBe(true);
+    await expect(page.getByLabel('Passphrase', { exact: true }).inputValue()).resolves.toBe('rowing club boat naming');
     await audit(page, 'form-guidance');
     await page.getByLabel('Privacy level ε', { exact: true }).fill('4');
     await page.getByRole('button', { name: 'Update the guidance for these settings' }).click();

@@ -113,8 +113,8 @@ export interface ElectionFormView {
   canAddRows: boolean;
   /** The group's privacy spending and what this election would add; null until a group and a valid ε are given. */
   budget: BudgetPreview | null;
-  /** A passphrase had been typed but the form came back: it is never echoed, so say it must be typed again. */
-  passphraseCleared: boolean;
+  /** A new election's passphrase fields as typed, shown again when the form comes back (the answer is no-store); empty on an edit. */
+  passphrase: { passphrase: string; passphraseAgain: string };
   /** The rosters this organiser may choose as the electorate (and the draft's own, if shared with them). */
   rosters: ElectorateChoice[];
   liveTurnout: LiveTurnoutView;
@@ -179,7 +179,7 @@ export function electionFormView(input: {
   addRows?: number;
   maxRows: number;
   budget?: BudgetPreview | null;
-  passphraseCleared?: boolean;
+  passphrase?: { passphrase: string; passphraseAgain: string };
   rosters?: readonly ElectorateChoice[];
 }): ElectionFormView {
   const errors = input.errors ?? {};
@@ -220,7 +220,7 @@ export function electionFormView(input: {
     ambiguous: input.ambiguous ?? [],
     canAddRows: values.options.length < input.maxRows,
     budget: input.budget ?? null,
-    passphraseCleared: input.electionId === null && (input.passphraseCleared ?? false),
+    passphrase: input.electionId === null && input.passphrase ? input.passphrase : { passphrase: '', passphraseAgain: '' },
     rosters: [...(input.rosters ?? [])],
     liveTurnout: liveTurnoutViewFor(values, voters, input.rosters ?? []),
     moreSettings: moreSettingsFor(values, errors, input.budget ?? null),

@@ -123,7 +123,9 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     expect(res.text).toContain(message);
     const typed = (overrides as Record<string, string>).title ?? 'Name the new boat';
     expect(res.text).toContain(`id="title" name="title" value="${typed}"`); // what was typed is kept
-    expect(res.text).not.toContain(PASSPHRASE);
+    const pass = (overrides as Record<string, string>).passphrase ?? PASSPHRASE;
+    expect(res.text).toContain(`id="passphrase" name="passphrase" value="${pass}"`); // the passphrase too, in a no-store answer
+    expect(res.headers['cache-control']).toBe('no-store');
     expect(Number((await db.knex('elections').count({ n: '*' }).first())!.n)).toBe(before);
   });
 
@@ -209,7 +211,7 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
   });
 
   describe('guidance', () => {
-    it('re-renders the new form with the numbers, keeping every value but the passphrase', async () => {
+    it('re-renders the new form with the numbers, keeping every value', async () => {
       const token = await csrfFrom(agent, '/organise/elections/new');
       const res = await agent
         .post('/organise/elections/new/guidance')
@@ -218,7 +220,7 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
       expect(res.status).toBe(200);
       expect(res.text).toContain('value="Kingfisher"');
       expect(res.text).toContain('A fast river bird');
-      expect(res.text).not.toContain(PASSPHRASE);
+      expect(res.text).toContain(`id="passphraseAgain" name="passphraseAgain" value="${PASSPHRASE}"`);
       // 3 options, ε = 1, replace-one: a = 1/2, P(leader) ≥ 1/(1 + 2e^(−m/2)) (DESIGN §4, margin table);
       // 95% needs 2e^(−m/2) ≤ 1/19, i.e. m ≥ 2 ln 38 = 7.28, so 8 approvals.
       expect(res.text).toContain('<strong>8 approvals</strong>');
@@ -263,28 +265,23 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
       expect(fine.text).not.toContain('Weak privacy protection');
     });
 
-    it('returns to the guidance section, and says the passphrase must be typed again', async () => {
+    it('returns to the guidance section with the passphrase kept, in a no-store answer, never in a URL', async () => {
       const page = await agent.get('/organise/elections/new');
       expect(page.text).toMatch(/formaction="\/organise\/elections\/new\/guidance#guidance"/);
       expect(page.text).toContain('id="guidance"');
-      expect(page.text).not.toContain('id="passphrase-again-note"');
+      expect(page.headers['cache-control']).toBe('no-store');
       const res = await agent
         .post('/organise/elections/new/guidance')
         .type('form')
         .send(encode({ ...electionForm({ intent: 'guidance' }), _csrf: await csrfFrom(agent, '/organise/elections/new') }));
-      expect(res.text).toContain('id="passphrase-again-note"');
-      expect(res.text).toContain('Type the passphrase again');
-      expect(res.text).not.toContain(PASSPHRASE);
-      const empty = await agent
-        .post('/organise/elections/new/guidance')
-        .type('form')
-        .send(
-          encode({
-            ...electionForm({ intent: 'guidance', passphrase: '', passphraseAgain: '' }),
-            _csrf: await csrfFrom(agent, '/organise/elections/new'),
-          }),
-        );
-      expect(empty.text).not.toContain('id="passphrase-again-note"');
+      expect(res.status).toBe(200);
+      expect(res.headers['cache-control']).toBe('no-store');
+      expect(res.headers.location).toBeUndefined();
+      expect(res.text).toContain(`id="passphrase" name="passphrase" value="${PASSPHRASE}"`);
+      expect(res.text).not.toContain('Type the passphrase again');
+      // The only places it appears are the two fields' values: no action, link or hidden field carries it.
+      expect(res.text.split(PASSPHRASE)).toHaveLength(3);
+      for (const attr of res.text.matchAll(/(?:action|formaction|href)="([^"]*)"/g)) expect(attr[1]).not.toContain('heron');
     });
 
     it('takes an empty expected number of voters as "not given"', async () => {
@@ -292,6 +289,71 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
       expect(res.status).toBe(303);
       const id = /elections\/([0-9a-f-]{36})$/.exec(res.headers.location!)![1]!;
       expect((await findElection(db.knex, id))!.expectedVoters).toBeNull();
+    });
+
+    it('after "Add 5 more rows" every typed field comes back as typed, the passphrase included', async () => {
+      const typed = electionForm({
+        intent: 'more-rows-5',
+        title: 'Name the new sculling boat',
+        description: 'Two seats.\nPick every name you like.',
+        contact: 'Ask the boathouse captain',
+        optionLabel: ['Heron', 'Kingfisher', 'Otter', 'Swift'],
+        optionDescription: ['Grey and patient', 'A fast river bird', '', 'Never lands'],
+        seats: '2',
+        epsilon: '1.5',
+        neighbour: 'add-remove',
+        rule: 'permute-and-flip',
+        expectedVoters: '24',
+        timeZone: 'Europe/Oslo',
+        opensAt: '2026-06-11T18:00',
+        closesAt: '2026-06-13T20:30',
+        publishTurnout: 'yes',
+        retention: 'keep',
+        retentionDays: '12',
+        memberGroup: 'Sculling section',
+        liveTurnout: 'on',
+        liveTurnoutEpsilon: '0.25',
+        liveTurnoutInterval: '12',
+        passphrase: 'heron otter swift kingfisher',
+        passphraseAgain: 'heron otter swift kingfisher',
+      });
+      const res = await agent
+        .post('/organise/elections/new/guidance')
+        .type('form')
+        .send(encode({ ...typed, _csrf: await csrfFrom(agent, '/organise/elections/new') }));
+      expect(res.status).toBe(200);
+      const value = (id: string) => new RegExp(`id="${id}" name="\\w+" value="([^"]*)"`).exec(res.text)?.[1];
+      const checked = (id: string) => new RegExp(`id="${id}" name="\\w+" value="[^"]*" checked`).test(res.text);
+      for (const id of [
+        'title',
+        'contact',
+        'seats',
+        'epsilon',
+        'expectedVoters',
+        'opensAt',
+        'closesAt',
+        'retentionDays',
+        'memberGroup',
+        'liveTurnoutEpsilon',
+        'passphrase',
+        'passphraseAgain',
+      ])
+        expect(value(id), id).toBe(typed[id]);
+      expect(res.text).toContain('>Two seats.\nPick every name you like.</textarea>');
+      (typed.optionLabel as string[]).forEach((label, i) => expect(value(`option-${i + 1}-label`)).toBe(label));
+      (typed.optionDescription as string[]).forEach((d, i) => expect(value(`option-${i + 1}-description`)).toBe(d));
+      expect(value('option-9-label')).toBe('');
+      for (const id of [
+        'neighbour-add-remove',
+        'rule-permute-and-flip',
+        'publishTurnout-yes',
+        'retention-keep',
+        'liveTurnout-on',
+        'electorate-printed',
+      ])
+        expect(checked(id), id).toBe(true);
+      expect(res.text).toMatch(/<option value="Europe\/Oslo"[^>]* selected>/);
+      expect(res.text).toMatch(/<option value="12" selected>/);
     });
 
     it('adds option rows without saving anything', async () => {

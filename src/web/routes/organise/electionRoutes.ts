@@ -14,25 +14,33 @@ import { organiserOf } from './auth.ts';
 import { groupBudget } from './groupBudget.ts';
 import { groupNameOf } from '../../../elections/ledger.ts';
 import { draftFromValues, intentSchema, MAX_ROWS, readElectionForm, readPassphrase, type ElectionFormValues } from './electionSchema.ts';
-import { errorsFrom, type FieldErrors } from './forms.ts';
+import { errorsFrom, field, type FieldErrors } from './forms.ts';
+import { noStore } from '../../middleware/security.ts';
 
-/** Whether either passphrase field held something when the form was sent (the form never echoes it back). */
-function typedPassphrase(body: unknown): boolean {
+/**
+ * The two passphrase fields as typed, for a new election's form to show again when it comes back
+ * (Add rows, Update the guidance, a refusal), so the organiser types it once. They go back only in
+ * the body of the answer to the POST that carried them, never into a URL, a log line, the resume
+ * box (resumeForm.ts) or an error page, and every answer of the form is no-store.
+ */
+function typedPassphrase(body: unknown): { passphrase: string; passphraseAgain: string } {
   const b = (body ?? {}) as Record<string, unknown>;
-  return [b.passphrase, b.passphraseAgain].some((v) => typeof v === 'string' && v !== '');
+  return { passphrase: field(b, 'passphrase'), passphraseAgain: field(b, 'passphraseAgain') };
 }
 
 /** The elections list, the new-election form, the draft editor and the guidance refresh. */
 export function electionRoutes(deps: AppDeps): Router {
   const router = Router();
   const { ctx } = deps;
+  // The form may carry the tally passphrase back (typedPassphrase): no answer of it is stored by a browser or proxy.
+  router.use(['/organise/elections/new', '/organise/elections/:id/edit', '/organise/elections/:id/guidance'], noStore);
 
   async function renderForm(
     res: Response,
     status: number,
     electionId: string | null,
     values: ElectionFormValues,
-    extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphraseCleared?: boolean } = {},
+    extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphrase?: { passphrase: string; passphraseAgain: string } } = {},
   ) {
     const budget = await groupBudget(ctx, values, electionId, organiserOf(res).id);
     const stored = electionId === null ? null : (await ownedElection(ctx.knex, electionId, organiserOf(res).id, { lock: false })).rosterId;
@@ -70,14 +78,14 @@ export function electionRoutes(deps: AppDeps): Router {
     const { draft, errors, ambiguous } = draftFromValues(values);
     const pass = readPassphrase(req.body);
     const all = { ...errors, ...pass.errors };
-    const passphraseCleared = typedPassphrase(req.body);
-    if (!draft || Object.keys(all).length > 0) return await renderForm(res, 400, null, values, { errors: all, ambiguous, passphraseCleared });
+    const passphrase = typedPassphrase(req.body);
+    if (!draft || Object.keys(all).length > 0) return await renderForm(res, 400, null, values, { errors: all, ambiguous, passphrase });
     try {
       const { electionId } = await createElection(ctx, { organiserId: organiserOf(res).id, draft, passphrase: pass.passphrase });
       res.redirect(303, `/organise/elections/${electionId}`);
     } catch (e) {
       if (!(e instanceof InvalidInput)) throw e;
-      await renderForm(res, 400, null, values, { errors: errorsFrom(e), ambiguous, passphraseCleared });
+      await renderForm(res, 400, null, values, { errors: errorsFrom(e), ambiguous, passphrase });
     }
   });
 
@@ -107,7 +115,7 @@ export function electionRoutes(deps: AppDeps): Router {
     const intent = intentSchema.parse(req.body?.intent);
     const addRows = intent === 'more-rows-5' ? 5 : intent === 'more-rows-25' ? 25 : 0;
     const { ambiguous } = draftFromValues(values);
-    await renderForm(res, 200, electionId, values, { addRows, ambiguous, passphraseCleared: typedPassphrase(req.body) });
+    await renderForm(res, 200, electionId, values, { addRows, ambiguous, passphrase: typedPassphrase(req.body) });
   });
 
   return router;
