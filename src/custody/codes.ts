@@ -1,36 +1,18 @@
 import type { RandomSource as RandomBytes } from '../mechanism/random.ts';
 import { CodeMalformed, CodeTypo, ReceiptMalformed } from './errors.ts';
-import {
-  ALPHABET,
-  CHECK_ALPHABET,
-  bigIntToBytes,
-  bytesToBigInt,
-  checkSymbol,
-  decodeInteger,
-  encodeInteger,
-  normaliseSymbols,
-  symbolValue,
-} from './crockford.ts';
+import { ALPHABET, bigIntToBytes, bytesToBigInt, decodeInteger, encodeInteger, normaliseSymbols, symbolValue } from './crockford.ts';
 import { checkDigit, isValid } from './damm32.ts';
 
 /**
  * Ballot codes: 80 random bits written as 16 Crockford base32 symbols plus one check symbol
  * from the same alphabet (damm32.ts), 17 letters and digits in all, shown as four groups
  * (4-4-4-5, 20 characters with the hyphens). Only their keyed hash is stored, and the shared
- * guess limits keep guessing hopeless (DEVELOPERS.md, "Ballot codes").
- *
- * Codes issued before this format (128 bits, 26 symbols plus Crockford's mod-37 check, which
- * may be one of * ~ $ = U) are still accepted: the two formats differ in length.
+ * guess limits keep guessing hopeless (DEVELOPERS.md, "Ballot codes"). It is the only format.
  */
 export const CODE_BYTES = 10;
 const DATA_SYMBOLS = 16; // 80 / 5
 export const CODE_SYMBOLS = DATA_SYMBOLS + 1;
 const GROUPS = [4, 4, 4, 5] as const;
-
-const LEGACY_BYTES = 16;
-const LEGACY_DATA_SYMBOLS = 26; // ceil(128 / 5); the first symbol carries only 3 bits
-export const LEGACY_CODE_SYMBOLS = LEGACY_DATA_SYMBOLS + 1;
-const LEGACY_MAX = 1n << 128n;
 
 export interface BallotCode {
   /** What the member sees: 17 symbols in groups of 4-4-4-5, joined by hyphens. */
@@ -47,15 +29,8 @@ export function canonicalFromBytes(bytes: Uint8Array): string {
   return data + ALPHABET[checkDigit(digitsOf(data))]!;
 }
 
-/** The old 27-symbol form of 16 bytes; kept so that codes already handed out still read. */
-export function legacyCanonicalFromBytes(bytes: Uint8Array): string {
-  if (bytes.byteLength !== LEGACY_BYTES) throw new RangeError('a legacy code has 16 bytes');
-  const v = bytesToBigInt(bytes);
-  return encodeInteger(v, LEGACY_DATA_SYMBOLS) + checkSymbol(v);
-}
-
 export function formatCode(canonical: string): string {
-  if (canonical.length !== CODE_SYMBOLS) return canonical.match(/.{1,4}/g)!.join('-');
+  if (canonical.length !== CODE_SYMBOLS) throw new RangeError('a code has 17 symbols');
   const parts: string[] = [];
   let at = 0;
   for (const size of GROUPS) {
@@ -73,37 +48,21 @@ export function generateCode(random: RandomBytes): BallotCode {
 }
 
 /**
- * Canonical form of a typed code, in either format. Wrong length or characters: CodeMalformed.
+ * Canonical form of a typed code. Wrong length or characters: CodeMalformed.
  * Right shape but the check symbol disagrees: CodeTypo, decided here before any database lookup.
  */
 export function normaliseCode(input: string): string {
   if (typeof input !== 'string' || input.length > 200) throw new CodeMalformed();
   const s = normaliseSymbols(input);
-  if (s.length === CODE_SYMBOLS) {
-    const digits = digitsOf(s);
-    if (digits.some((d) => d < 0)) throw new CodeMalformed();
-    if (!isValid(digits)) throw new CodeTypo();
-    return s;
-  }
-  if (s.length === LEGACY_CODE_SYMBOLS) return normaliseLegacy(s);
-  throw new CodeMalformed();
-}
-
-function normaliseLegacy(s: string): string {
-  const v = decodeInteger(s.slice(0, LEGACY_DATA_SYMBOLS));
-  const check = s[LEGACY_DATA_SYMBOLS]!;
-  if (v < 0n || !CHECK_ALPHABET.includes(check)) throw new CodeMalformed();
-  if (checkSymbol(v) !== check) throw new CodeTypo();
-  // Passing the check but above 2^128 cannot come from one slip of a real code.
-  if (v >= LEGACY_MAX) throw new CodeMalformed();
+  if (s.length !== CODE_SYMBOLS) throw new CodeMalformed();
+  const digits = digitsOf(s);
+  if (digits.some((d) => d < 0)) throw new CodeMalformed();
+  if (!isValid(digits)) throw new CodeTypo();
   return s;
 }
 
-/** The random bytes behind a canonical code (from normaliseCode): 10, or 16 for the old format. */
+/** The 10 random bytes behind a canonical code (from normaliseCode). */
 export function codeBytes(canonical: string): Buffer {
-  if (canonical.length === LEGACY_CODE_SYMBOLS) {
-    return bigIntToBytes(decodeInteger(canonical.slice(0, LEGACY_DATA_SYMBOLS)), LEGACY_BYTES);
-  }
   return bigIntToBytes(decodeInteger(canonical.slice(0, DATA_SYMBOLS)), CODE_BYTES);
 }
 

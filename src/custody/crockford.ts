@@ -1,11 +1,10 @@
 /**
  * Crockford's Base32 (Douglas Crockford, "Base 32", crockford.com/base32.html):
  * 32 symbols without I, L, O and U; on input O reads as 0 and I, L as 1; case and
- * hyphens are ignored. The optional check symbol is the value modulo 37, written
- * with five extra symbols * ~ $ = U for 32..36.
+ * hyphens are ignored. Ballot codes carry their own check symbol from this alphabet (damm32.ts),
+ * not Crockford's optional mod-37 one.
  */
 export const ALPHABET = '0123456789ABCDEFGHJKMNPQRSTVWXYZ';
-export const CHECK_ALPHABET = ALPHABET + '*~$=U';
 
 const VALUE = new Map<string, number>();
 for (let i = 0; i < ALPHABET.length; i++) VALUE.set(ALPHABET[i]!, i);
@@ -54,15 +53,6 @@ export function decodeInteger(symbols: string): bigint {
     v = (v << 5n) | BigInt(d);
   }
   return v;
-}
-
-/**
- * Crockford's check symbol: value mod 37. Because 37 is prime and neither 32 nor 31 is a
- * multiple of it, a change of one symbol (difference d·32^k with 0 < |d| < 32) or a swap of
- * two neighbours (difference d·31·32^k) is never a multiple of 37, so both are always caught.
- */
-export function checkSymbol(value: bigint): string {
-  return CHECK_ALPHABET[Number(value % 37n)]!;
 }
 
 export function bytesToBigInt(bytes: Uint8Array): bigint {

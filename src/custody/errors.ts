@@ -43,7 +43,7 @@ export class CodeMalformed extends VeiltallyError {
   readonly code = 'CodeMalformed';
   override readonly status = 400;
   constructor() {
-    super('That is not a ballot code. A code has 17 letters and digits (27 on older slips), shown in groups.');
+    super('That is not a ballot code. A code has 17 letters and digits, shown in groups.');
   }
 }
 

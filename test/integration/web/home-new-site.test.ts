@@ -9,7 +9,7 @@ import { csrfFrom, organiseContext, PASSWORD } from './organiseSupport.ts';
 
 /**
  * The README's first step says the home page of a new site offers the sample elections: a newcomer
- * who opens the address finds the button there, without knowing it is behind "Organisers". Once
+ * who opens the address finds the button there, without knowing it is behind "Sign in to organise". Once
  * the site has a real organiser the home page offers it no more.
  */
 describe.each(engines)('the home page of a new site [%s]', (engine) => {

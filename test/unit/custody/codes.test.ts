@@ -5,21 +5,17 @@ import {
   CODE_BYTES,
   canonicalFromBytes,
   codeBytes,
-  legacyCanonicalFromBytes,
   formatCode,
   generateCode,
   generateReceipt,
   normaliseCode,
   normaliseReceipt,
 } from '../../../src/custody/codes.ts';
-import { ALPHABET, CHECK_ALPHABET } from '../../../src/custody/crockford.ts';
+import { ALPHABET } from '../../../src/custody/crockford.ts';
 import { checkDigit, gfMul, isValid, quasigroup } from '../../../src/custody/damm32.ts';
 import { CodeMalformed, CodeTypo, ReceiptMalformed } from '../../../src/custody/errors.ts';
 
-// Crockford, "Base 32" (crockford.com/base32.html): alphabet and decoding of O/I/L (both formats),
-// and the mod-37 check symbol of the old 27-symbol format.
-const legacyZero = legacyCanonicalFromBytes(Buffer.alloc(16));
-const legacyOne = legacyCanonicalFromBytes(Buffer.from('00000000000000000000000000000001', 'hex'));
+// Crockford, "Base 32" (crockford.com/base32.html): alphabet and decoding of O/I/L.
 const random = (n: number) => crypto.randomBytes(n);
 
 /** Every code one slip away: each single substitution by another alphabet symbol, each adjacent swap. */
@@ -157,52 +153,15 @@ describe('ballot codes', () => {
   });
 });
 
-describe('ballot codes of the old 27-symbol format (still accepted)', () => {
-  it('encodes by hand-checkable examples: 0 → all zeros, check 0; 1 → …1, check 1; 37 → …15, check 0', () => {
-    expect(legacyZero).toBe('0'.repeat(27));
-    expect(legacyOne).toBe('0'.repeat(25) + '11');
-    // 37 = 1·32 + 5, and 37 mod 37 = 0
-    expect(legacyCanonicalFromBytes(Buffer.from('00000000000000000000000000000025', 'hex'))).toBe('0'.repeat(24) + '150');
-    // 2^128 − 1 mod 37: 2^36 ≡ 1 (mod 37) by Fermat, so 2^128 = 2^(36·3+20) ≡ 2^20 = 1048576
-    // = 37·28339 + 33 ≡ 33; 2^128 − 1 ≡ 32 → the first extra check symbol '*'. Top symbol holds 3 bits: '7'.
-    expect(legacyCanonicalFromBytes(Buffer.alloc(16, 0xff))).toBe('7' + 'Z'.repeat(25) + '*');
-  });
-
+describe('the 27-symbol format of earlier versions is gone', () => {
+  // No deployment ever issued them: a well-formed one (1 in 26 Crockford symbols with its mod-37 check, Crockford,
+  // "Base 32") is not a ballot code, and is refused as one before any lookup.
   it.each([
-    ['lower case, old grouping', '0000-0000-0000-0000-0000-0000-011'.toLowerCase(), legacyOne],
-    ['O for zero', 'OOOO-oooo-0000-0000-0000-0000-011', legacyOne],
-    ['l for one', '0000-0000-0000-0000-0000-0000-0ll', legacyOne],
-  ])('normalises %s', (_name, input, expected) => {
-    expect(normaliseCode(input)).toBe(expected);
-  });
-
-  it.each([
-    ['U in the data', 'U000-0000-0000-0000-0000-0000-011'],
-    ['a check-only symbol in the data', '*000-0000-0000-0000-0000-0000-011'],
-    ['2^128, one past the range, with a valid check', '8' + '0'.repeat(25) + '~'], // 2^128 ≡ 33 (above) → '~'
-  ])('rejects %s as malformed', (_name, input) => {
+    ['1 with its check symbol', '0000-0000-0000-0000-0000-0000-011'],
+    ['zero', '0'.repeat(27)],
+    ['2^128 − 1 with its check symbol', '7' + 'Z'.repeat(25) + '*'],
+  ])('refuses %s as malformed', (_name, input) => {
     expect(() => normaliseCode(input)).toThrow(CodeMalformed);
-  });
-
-  it('reads its own codes back and round-trips their 16 bytes', () => {
-    const bytes = crypto.randomBytes(16);
-    const canonical = legacyCanonicalFromBytes(bytes);
-    expect(normaliseCode(canonical.match(/.{1,4}/g)!.join('-'))).toBe(canonical);
-    expect(codeBytes(canonical).equals(bytes)).toBe(true);
-  });
-
-  it('still catches every substitution and adjacent transposition of one random old code (exhaustive)', () => {
-    const code = legacyCanonicalFromBytes(crypto.randomBytes(16));
-    let tried = 0;
-    for (let pos = 0; pos < 27; pos++) {
-      for (const r of pos < 26 ? ALPHABET : CHECK_ALPHABET) {
-        if (r === code[pos]) continue;
-        tried++;
-        expect(() => normaliseCode(code.slice(0, pos) + r + code.slice(pos + 1))).toThrow(CodeTypo);
-      }
-    }
-    expect(tried).toBe(26 * 31 + 36);
-    for (const typed of oneSlipAway(code, '').transpositions) expect(() => normaliseCode(typed)).toThrow();
   });
 });
 

@@ -74,6 +74,10 @@ export function helpRouter(): Router {
   const newSettings = new RateLimiterMemory({ points: HELP_NEW_SETTINGS_PER_MINUTE, duration: 60 });
   const clientOf = (req: Request) => req.ip ?? req.socket.remoteAddress ?? 'unknown';
 
+  router.get('/help', (_req, res) => {
+    res.render('help/index', { title: 'Help', pages: { drawn: HELP_DRAWN_PATH, epsilon: HELP_EPSILON_PATH } });
+  });
+
   router.get(HELP_DRAWN_PATH, (_req, res) => {
     res.render('help/how-drawn', { title: 'How the result is drawn' });
   });

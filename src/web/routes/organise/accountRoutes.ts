@@ -86,7 +86,7 @@ export function accountRoutes(deps: AppDeps): Router {
 
   const renderOrganisers = async (res: Response, status: number, email: string, errors: FieldErrors, added: boolean) =>
     res.status(status).render('organise/organisers', {
-      title: 'Organisers',
+      title: 'Organiser accounts',
       organisers: await allOrganisers(ctx),
       me: organiserOf(res),
       email,

@@ -98,13 +98,9 @@ export function tallyRoutes(deps: AppDeps): Router {
     const dash = await load(res, id);
     const statement = storedStatement(dash.election);
     const d = dashboardView(dash);
-    if (dash.status !== 'tallied' || !statement) {
-      return renderNotNow(
-        res,
-        d,
-        dash.election.state === 'published' ? 'This result has already been published.' : 'There is no drawn result to publish yet.',
-      );
-    }
+    // Back or Reload on this page after publishing: the election's page says it is published.
+    if (dash.election.state === 'published') return res.redirect(303, `/organise/elections/${d.id}`);
+    if (dash.status !== 'tallied' || !statement) return renderNotNow(res, d, 'There is no drawn result to publish yet.');
     res.status(status).render('organise/publish', {
       title: `Publish ${d.title}`,
       d,
@@ -122,6 +118,7 @@ export function tallyRoutes(deps: AppDeps): Router {
     const dash = await load(res, req.params.id);
     if (dash.status === 'drawing') return renderNotNow(res, dashboardView(dash), 'There is no drawn result to publish yet.');
     if (!confirmed(req.body)) return renderPublish(res, req.params.id, 400, 'Tick the box to confirm that publishing is final.');
+    if (dash.election.state === 'published') return res.redirect(303, `/organise/elections/${req.params.id}`);
     try {
       await publishResult(ctx, { electionId: req.params.id, organiserId: organiserOf(res).id });
     } catch (e) {

@@ -229,7 +229,7 @@ export function voteRouter(deps: AppDeps): Router {
     const election = votingElectionView(e, ctx.now());
     const receipt = receipts.read(req, e.id, ctx.now());
     if (!receipt) return res.status(404).render('vote/receipt-gone', { title: `No receipt to show: ${election.title}`, election });
-    res.render('vote/receipt', { title: `Ballot received: ${election.title}`, election, receipt: formatReceipt(receipt) });
+    res.render('vote/receipt', { title: `Your ballot has been received: ${election.title}`, election, receipt: formatReceipt(receipt) });
   });
 
   // The cast is only ever a POST; a GET of it (a bookmark) goes to the read-back, which knows where the member is.

@@ -3,7 +3,7 @@ import { z } from 'zod';
 /**
  * Member forms. Form values are strings; anything else (a repeated field, a missing one)
  * becomes an empty value, which the code check then calls malformed. The ballot code's own
- * shape (17 symbols with a check symbol, or 27 in the older format) is judged by the custody layer, not here.
+ * shape (17 symbols with a check symbol) is judged by the custody layer, not here.
  * Only the code step takes the code, and only the ballot step takes ticks; what a member reached
  * is kept in the sealed step cookie (stepCookie.ts), not in hidden fields.
  */
