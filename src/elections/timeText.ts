@@ -12,6 +12,8 @@ export function offsetLabel(instant: Date, zone: string): string {
   return `UTC${sign}${pad(Math.floor(a / 60))}:${pad(a % 60)}`;
 }
 
+const UTC_ZONES = new Set(['UTC', 'Etc/UTC', 'Etc/UCT', 'UCT', 'Etc/Universal', 'Universal', 'Etc/Zulu', 'Zulu']);
+
 /** A readable date and time in the election's zone, with the offset: "Thu 14 May 2026, 18:30 (UTC+01:00, Europe/London)". */
 export function describeInstant(instant: Date, zone: string): string {
   const text = new Intl.DateTimeFormat('en-GB', {
@@ -24,6 +26,8 @@ export function describeInstant(instant: Date, zone: string): string {
     minute: '2-digit',
     hourCycle: 'h23',
   }).format(instant);
+  // UTC itself has no offset to tell apart: "(UTC)", not "(UTC+00:00, UTC)".
+  if (UTC_ZONES.has(zone)) return `${text} (UTC)`;
   return `${text} (${offsetLabel(instant, zone)}, ${zone})`;
 }
 

@@ -59,11 +59,13 @@ export interface SlipsView {
   qr: string | null;
   opens: string;
   closes: string;
+  /** Printed from a draft: the opening time is a plan the organiser can bring forward with "Open now". */
+  openingPlanned: boolean;
   codes: string[];
 }
 
 export function slipsView(
-  e: Pick<Election, 'id' | 'title' | 'opensAt' | 'closesAt' | 'timeZone'>,
+  e: Pick<Election, 'id' | 'title' | 'opensAt' | 'closesAt' | 'timeZone' | 'state'>,
   publicUrl: string,
   codes: string[],
   qr: string | null = null,
@@ -75,6 +77,7 @@ export function slipsView(
     qr,
     opens: describeInstant(e.opensAt, e.timeZone),
     closes: describeInstant(e.closesAt, e.timeZone),
+    openingPlanned: e.state === 'draft',
     codes,
   };
 }

@@ -1,5 +1,6 @@
 import type { GroupLedger } from '../../elections/ledger.ts';
 import { yearBefore } from '../../mechanism/index.ts';
+import { describeInstant } from '../../elections/timeText.ts';
 
 const UNPROTECTED_TEXT: Record<string, string> = {
   'anyone-voted': 'whether anyone voted at all',
@@ -30,7 +31,8 @@ export interface LedgerPageView {
   windowStart: string;
 }
 
-const minuteText = (d: Date) => `${d.toISOString().slice(0, 10)} ${d.toISOString().slice(11, 16)} UTC`;
+/** The ledger spans elections in several zones, so its times are in UTC, in the style of every other page. */
+const minuteText = (d: Date) => describeInstant(d, 'UTC');
 
 /** The public ledger page: every charge to the group, newest first, and the 12-month totals. */
 export function ledgerPageView(l: GroupLedger): LedgerPageView {

@@ -68,6 +68,9 @@ describe.each(engines)('the privacy ledger [%s]', (engine) => {
     expect(page).toContain('ε = 2 in total'); // how: 1 + 1
     expect(page).toContain('not protected: at least one result published its exact turnout');
     expect(page).toContain('Theorem 3.16');
+    // Times in the style every other page uses ("Fri, 4 Dec 2026, 13:05 (UTC)"), never a raw ISO date.
+    expect(page).not.toMatch(/>\d{4}-\d{2}-\d{2} \d{2}:\d{2} UTC</);
+    expect(page).toMatch(/<time datetime="[^"]+">[A-Z][a-z]{2}, \d{1,2} [A-Z][a-z]{2} \d{4}, \d{2}:\d{2} \(UTC\)<\/time>/);
     // The published statement carries the totals at its draw, withheld draw included.
     const st = JSON.parse((await request(s.app).get(`/results/${p.id}/statement.json`).expect(200)).text).statement;
     expect(st.ledger).toMatchObject({ draws: 2, howVotedEpsilon: '2', whetherVotedEpsilon: '1.5', exactTurnoutReleases: 1 });

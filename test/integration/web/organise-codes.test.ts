@@ -129,6 +129,10 @@ describe.each(engines)('organiser ballot codes [%s]', (engine) => {
     expect(res.text).toContain('Tenants’ repair fund');
     expect(res.text.match(/class="slip-code code">([0-9A-Z-]{20})</g)).toHaveLength(2);
     expect(res.text).toContain('shown only this once');
+    // Printed from a draft, the opening time is a plan: "Open now" would make a slip that said "opens" wrong.
+    expect(res.text).toContain('Voting is planned to open');
+    expect(res.text).toContain('the organiser may open it sooner');
+    expect(res.text).not.toContain('Voting opens');
     // A short address to type, which leads to the ballot page, and a QR code on every slip.
     const short = new RegExp(`${PUBLIC_URL}/v/([0-9a-z]{8})`).exec(res.text)![1]!;
     const followed = await agent.get(`/v/${short.toUpperCase()}`);

@@ -59,6 +59,9 @@ describe.each(engines)('member voting pages [%s]', (engine) => {
     expect(cast.headers['cache-control']).toBe('no-store');
     expect(cast.text).toContain('Your ballot has been received');
     expect(cast.text).toContain('Keep this receipt');
+    // The page and "Show my receipt again" agree: this browser shows it again for 15 minutes, then nobody can.
+    expect(cast.text).not.toContain('shown only once');
+    expect(cast.text).toContain('This browser can show it again for 15 minutes after casting');
     const receipt = /<p class="receipt">([0-9A-Z]{5}-[0-9A-Z]{5})<\/p>/.exec(cast.text)?.[1];
     expect(receipt).toBeDefined();
     expect(cast.text).not.toContain(typed);

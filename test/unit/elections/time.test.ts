@@ -99,6 +99,9 @@ describe('round trip and display', () => {
   it('names the offset and zone in words, so both 01:30s of a fall-back night are told apart', () => {
     expect(describeInstant(new Date('2026-10-25T00:30:00Z'), 'Europe/London')).toBe('Sun, 25 Oct 2026, 01:30 (UTC+01:00, Europe/London)');
     expect(describeInstant(new Date('2026-10-25T01:30:00Z'), 'Europe/London')).toBe('Sun, 25 Oct 2026, 01:30 (UTC+00:00, Europe/London)');
+    // A zone that is UTC itself is named once, not as "(UTC+00:00, UTC)".
+    expect(describeInstant(new Date('2026-10-25T01:30:00Z'), 'UTC')).toBe('Sun, 25 Oct 2026, 01:30 (UTC)');
+    expect(describeInstant(new Date('2026-10-25T01:30:00Z'), 'Etc/UTC')).toBe('Sun, 25 Oct 2026, 01:30 (UTC)');
     expect(shortInstant(new Date('2026-06-10T08:00:00Z'), 'Europe/London')).toBe('10 Jun 2026, 09:00');
   });
 });

@@ -12,9 +12,12 @@ import { formatReceipt, parseApprovals, tickedOptions, votingElectionView, type 
 import { generateCastToken, normaliseCode } from '../../../custody/index.ts';
 import { isSecureSite } from '../../middleware/sessions.ts';
 import { VoteStepLapsed } from '../../errors.ts';
-import { receiptCookie } from './receiptCookie.ts';
+import { RECEIPT_COOKIE_MS, receiptCookie } from './receiptCookie.ts';
 import { memberSteps, readBackTag } from './stepCookie.ts';
 import { castForm, codeForm, idParam, ticksForm } from './schema.ts';
+
+/** How long this browser can show a receipt again after casting, as the receipt pages say. */
+const RECEIPT_MINUTES = RECEIPT_COOKIE_MS / 60_000;
 
 /** What the member-facing error pages (views/errors/Code*.ejs, ElectionNotOpen.ejs) may use. */
 export interface MemberContext {
@@ -81,7 +84,7 @@ export function voteRouter(deps: AppDeps): Router {
   }
 
   function alreadyCast(res: Response, election: VotingElectionView) {
-    res.render('vote/already-cast', { title: `Ballot already cast: ${election.title}`, election });
+    res.render('vote/already-cast', { title: `Ballot already cast: ${election.title}`, election, receiptMinutes: RECEIPT_MINUTES });
   }
 
   router.get('/vote/:id', async (req, res) => {
@@ -229,7 +232,12 @@ export function voteRouter(deps: AppDeps): Router {
     const election = votingElectionView(e, ctx.now());
     const receipt = receipts.read(req, e.id, ctx.now());
     if (!receipt) return res.status(404).render('vote/receipt-gone', { title: `No receipt to show: ${election.title}`, election });
-    res.render('vote/receipt', { title: `Your ballot has been received: ${election.title}`, election, receipt: formatReceipt(receipt) });
+    res.render('vote/receipt', {
+      title: `Your ballot has been received: ${election.title}`,
+      election,
+      receipt: formatReceipt(receipt),
+      receiptMinutes: RECEIPT_MINUTES,
+    });
   });
 
   // The cast is only ever a POST; a GET of it (a bookmark) goes to the read-back, which knows where the member is.
