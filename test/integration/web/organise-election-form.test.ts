@@ -179,6 +179,31 @@ describe.each(engines)('organiser election form: create and guidance [%s]', (eng
     expect(res.text).not.toContain('1 seats');
   });
 
+  it('refuses an opening or closing time already past on the form itself, saying the time now, and keeps what was typed', async () => {
+    // The test clock reads 2026-06-01 10:00 in London (BST, UTC+1) when this file starts; the times below are before it.
+    const res = await create({ title: 'Name the late boat', opensAt: '2026-05-30T09:00', closesAt: '2026-05-31T18:00' });
+    expect(res.status).toBe(400);
+    expect(res.text).toContain('That opening time has already passed: it is now');
+    expect(res.text).toContain('That closing time has already passed: it is now');
+    expect(res.text).toContain('(UTC+01:00, Europe/London)');
+    expect(res.text).toContain('value="Name the late boat"');
+    expect(res.text).toContain('value="2026-05-30T09:00"');
+    // A draft saved with future times and edited after its opening time passed is refused the same way.
+    const id = await createElectionViaForm(agent, { opensAt: '2026-06-01T10:05', closesAt: '2026-06-02T18:00' });
+    clock.advance(10 * 60_000);
+    const edit = await postForm(
+      agent,
+      `/organise/elections/${id}/edit`,
+      `/organise/elections/${id}/edit`,
+      electionForm({ opensAt: '2026-06-01T10:05', closesAt: '2026-06-02T18:00' }),
+    );
+    expect(edit.status).toBe(400);
+    expect(edit.text).toContain('That opening time has already passed');
+    expect(edit.text).toContain('Open now');
+    expect(edit.text).not.toContain('That closing time has already passed');
+    expect((await findElection(db.knex, id))!.opensAt.toISOString()).toBe('2026-06-01T09:05:00.000Z');
+  });
+
   it('a time repeated when the clocks go back takes its first occurrence', async () => {
     // 01:30 on 25 Oct 2026 happens twice in London (tzdata: Rule EU 1996 max Oct lastSun 1:00u): first at 00:30 UTC.
     const id = await createElectionViaForm(agent, { opensAt: '2026-10-25T01:30', closesAt: '2026-10-26T12:00' });

@@ -75,7 +75,7 @@ export function electionRoutes(deps: AppDeps): Router {
 
   router.post('/organise/elections/new', async (req, res) => {
     const values = readElectionForm(req.body);
-    const { draft, errors, ambiguous } = draftFromValues(values);
+    const { draft, errors, ambiguous } = draftFromValues(values, ctx.now());
     const pass = readPassphrase(req.body);
     const all = { ...errors, ...pass.errors };
     const passphrase = typedPassphrase(req.body);
@@ -97,7 +97,7 @@ export function electionRoutes(deps: AppDeps): Router {
   router.post('/organise/elections/:id/edit', async (req, res) => {
     const e = await ownDraft(res, req.params.id);
     const values = readElectionForm(req.body);
-    const { draft, errors, ambiguous } = draftFromValues(values);
+    const { draft, errors, ambiguous } = draftFromValues(values, ctx.now());
     if (!draft) return await renderForm(res, 400, e.id, values, { errors, ambiguous });
     try {
       await updateDraft(ctx, { electionId: e.id, organiserId: organiserOf(res).id, draft });

@@ -3,6 +3,7 @@ import { InvalidInput } from '../../../errors.ts';
 import { tallyPassphraseSchema } from '../../../custody/index.ts';
 import { checkDraft, DRAFT_LIMITS, type DraftInput } from '../../../elections/draft.ts';
 import { zonedToUtc } from '../../../elections/time.ts';
+import { describeInstant } from '../../../elections/timeText.ts';
 import { drawRuleOr } from '../../../mechanism/index.ts';
 import { field, fields, type FieldErrors } from './forms.ts';
 
@@ -81,7 +82,10 @@ const wholeNumber = (s: string): number | null => (/^\s*\d{1,9}\s*$/.test(s) ? N
  * Turns the typed values into a DraftInput and checks it with the election rules
  * (checkDraft), mapping every issue back to the field, and option row, it came from.
  */
-export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | null; errors: FieldErrors; ambiguous: ('opensAt' | 'closesAt')[] } {
+export function draftFromValues(
+  v: ElectionFormValues,
+  now?: Date,
+): { draft: DraftInput | null; errors: FieldErrors; ambiguous: ('opensAt' | 'closesAt')[] } {
   const errors: FieldErrors = {};
   const rowOf: number[] = [];
   const options: DraftInput['options'] = [];
@@ -112,6 +116,15 @@ export function draftFromValues(v: ElectionFormValues): { draft: DraftInput | nu
       if (r.ambiguous) ambiguous.push(key);
     } else if (r.reason === 'unknown-zone') errors.timeZone = r.message;
     else errors[key] = r.message;
+  }
+  // Given the clock (saving, not re-rendering the guidance), a time already past is refused here,
+  // with the reason, instead of only on the Open page.
+  if (now) {
+    const nowText = () => describeInstant(now, v.timeZone); // the zone is known good once a time parsed
+    if (times.opensAt && times.opensAt <= now)
+      errors.opensAt = `That opening time has already passed: it is now ${nowText()}. Choose a later time; to start voting at once, save a time soon and press “Open now” on the election’s page.`;
+    if (times.closesAt && times.closesAt <= now)
+      errors.closesAt = `That closing time has already passed: it is now ${nowText()}. Choose a later closing time.`;
   }
 
   const candidate: DraftInput = {
