@@ -199,7 +199,7 @@ describe.each(engines)('the offline checker /verify offers [%s]', (engine) => {
     expect(list, '/verify lists the OpenSSL commands').toBeTruthy();
     const unescape = (t: string) =>
       t.replace(/&lt;/g, '<').replace(/&gt;/g, '>').replace(/&#34;/g, '"').replace(/&#39;/g, "'").replace(/&amp;/g, '&');
-    const commands = [...list!.matchAll(/<pre class="commands"><code>([\s\S]*?)<\/code><\/pre>/g)].map((m) => unescape(m[1]!));
+    const commands = [...list!.matchAll(/<pre class="commands"[^>]*><code>([\s\S]*?)<\/code><\/pre>/g)].map((m) => unescape(m[1]!));
     expect(commands).toHaveLength(6);
     expect(commands.join('\n')).toContain('openssl pkeyutl -verify -pubin -inkey key.pem -rawin -in signed.json -sigfile signature.bin');
 
