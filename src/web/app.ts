@@ -7,12 +7,13 @@ import { errorHandler, notFoundHandler } from './middleware/errorHandler.ts';
 import { createLimits } from './middleware/limits.ts';
 import { refuseNulBytes } from './middleware/input.ts';
 import { requestLog } from './middleware/requestLog.ts';
+import { fairShare, type FairShare } from './middleware/fairShare.ts';
 import { routers } from './routes/index.ts';
 import { resumeExpiredVote } from './routes/vote/resume.ts';
 import { resumeOrganiserForm } from './routes/organise/resumeForm.ts';
 
 /** Builds the whole site. Never listens: main.ts does, and tests drive the app directly. */
-export function createApp(given: Omit<AppDeps, 'limits'> & { limits?: AppDeps['limits'] }): Express {
+export function createApp(given: Omit<AppDeps, 'limits'> & { limits?: AppDeps['limits']; turns?: FairShare }): Express {
   const deps: AppDeps = { ...given, limits: given.limits ?? createLimits(given.ctx.knex) };
   const app = express();
   app.disable('x-powered-by');
@@ -30,6 +31,11 @@ export function createApp(given: Omit<AppDeps, 'limits'> & { limits?: AppDeps['l
   app.use(requestLog(deps.logger));
   app.use(securityHeaders(isSecureSite(deps.config.publicUrl)));
   app.use('/static', express.static(PUBLIC_DIR, { index: false, maxAge: '1h' }));
+  // Pages are read one at a time per client, in arrival order: a flood of any page from one
+  // address waits its own turn and cannot slow other members' pages. Posts are not queued: each
+  // one that does work passes an attempt limit counted in the database (codes, sign-ins, passphrases).
+  const turns = given.turns ?? fairShare();
+  app.use((req, res, next) => (req.method === 'GET' || req.method === 'HEAD' ? turns(req, res, next) : next()));
   app.use(express.urlencoded({ extended: false, limit: '512kb', parameterLimit: 5000 }));
   app.use(refuseNulBytes);
   app.use(sessionMiddleware(deps));

@@ -119,6 +119,7 @@ async function postgresIntake(opts: BenchOptions): Promise<Figure[]> {
       VEILTALLY_DATA_DIR: dataDir,
       VEILTALLY_CODE_PEPPER: pepper.toString('hex'),
       VEILTALLY_KEY_DIR: testKeyDirectory(db).dir,
+      TRUST_PROXY: 'loopback', // each member sends its own address (support/voters.ts)
     });
     try {
       for (const { concurrency, casts } of levels) {
@@ -168,6 +169,7 @@ async function embeddedIntake(opts: BenchOptions): Promise<Figure[]> {
       VEILTALLY_DATA_DIR: dataDir,
       VEILTALLY_CODE_PEPPER: pepper.toString('hex'),
       VEILTALLY_KEY_DIR: testKeyDirectory(db).dir,
+      TRUST_PROXY: 'loopback', // each member sends its own address (support/voters.ts)
     });
     try {
       const prepared = await prepareCasts(server.url, electionId, codes, approvalsFor);

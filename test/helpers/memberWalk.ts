@@ -145,13 +145,21 @@ export class CookieJar {
 }
 
 /** A member over fetch against a listening server (real server processes, loopback apps). */
-export function fetchMember(base: string, options: { signal?: AbortSignal; jar?: CookieJar } = {}): MemberHttp & { jar: CookieJar } {
+/**
+ * `address`, when given, is sent as X-Forwarded-For: the member's own client address, for a server
+ * that trusts loopback as its proxy (TRUST_PROXY=loopback), so many members are many clients.
+ */
+export function fetchMember(
+  base: string,
+  options: { signal?: AbortSignal; jar?: CookieJar; address?: string } = {},
+): MemberHttp & { jar: CookieJar } {
   const jar = options.jar ?? new CookieJar();
+  const from: Record<string, string> = options.address ? { 'x-forwarded-for': options.address } : {};
   const send = async (method: 'GET' | 'POST', path: string, body?: URLSearchParams): Promise<Answer> => {
     const res = await fetch(new URL(path, base), {
       method,
       redirect: 'manual',
-      headers: { cookie: jar.header(), ...(body ? { 'content-type': 'application/x-www-form-urlencoded' } : {}) },
+      headers: { cookie: jar.header(), ...from, ...(body ? { 'content-type': 'application/x-www-form-urlencoded' } : {}) },
       body,
       signal: options.signal,
     });

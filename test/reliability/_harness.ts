@@ -110,19 +110,30 @@ export async function launch(target: Target, extra: Record<string, string> = {})
   return startServer({ LOG_LEVEL: 'warn', ...target.env, ...extra }, target.dataDir);
 }
 
+/**
+ * Member n's client address (198.18.0.0/15, the range RFC 2544 sets aside for benchmarks), sent as
+ * X-Forwarded-For to a server launched with TRUST_PROXY=loopback: the server reads each member's
+ * pages in that member's own turn (src/web/middleware/fairShare.ts), as it would for real members.
+ */
+export function memberAddress(n: number): string {
+  return `198.${18 + ((n >> 16) & 1)}.${(n >> 8) & 255}.${n & 255}`;
+}
+
 /** A member's browser, reduced to its form-token cookie and form token; each cast walks the steps from there. */
 export interface Member {
   cookie: string;
   csrf: string;
+  /** The member's client address (X-Forwarded-For), when the server trusts loopback as its proxy. */
+  address?: string;
 }
 
-export async function memberSession(base: string, electionId: string): Promise<Member> {
-  const res = await fetch(`${base}/vote/${electionId}`);
+export async function memberSession(base: string, electionId: string, address?: string): Promise<Member> {
+  const res = await fetch(`${base}/vote/${electionId}`, { headers: address ? { 'x-forwarded-for': address } : {} });
   const html = await res.text();
   const csrf = /name="_csrf" value="([^"]+)"/.exec(html)?.[1];
   const cookie = (res.headers.getSetCookie?.() ?? []).map((c) => c.split(';')[0]).join('; ');
   if (res.status !== 200 || !csrf) throw new Error(`code page gave ${res.status}`);
-  return { cookie, csrf };
+  return { cookie, csrf, ...(address ? { address } : {}) };
 }
 
 export interface CastResult {
@@ -134,6 +145,7 @@ export interface CastResult {
 export interface PreparedCast {
   base: string;
   cookie: string;
+  address?: string;
   form: { action: string; fields: [string, string][] };
 }
 
@@ -151,17 +163,18 @@ export async function prepareCast(
 ): Promise<PreparedCast> {
   const jar = new CookieJar();
   jar.take(m.cookie.split('; ').filter(Boolean));
-  const browser = fetchMember(base, { jar, signal });
+  const browser = fetchMember(base, { jar, signal, ...(m.address ? { address: m.address } : {}) });
   const confirm = await toConfirm(browser, electionId, code, approvals);
-  return { base, cookie: jar.header(), form: hiddenFields(confirm.text, `/vote/${electionId}/cast`) };
+  return { base, cookie: jar.header(), ...(m.address ? { address: m.address } : {}), form: hiddenFields(confirm.text, `/vote/${electionId}/cast`) };
 }
 
 /** Sends the prepared cast; on 303 reads the receipt page with the cookies that answer set. */
 export async function sendCast(p: PreparedCast, signal?: AbortSignal): Promise<CastResult> {
+  const from: Record<string, string> = p.address ? { 'x-forwarded-for': p.address } : {};
   const res = await fetch(new URL(p.form.action, p.base), {
     method: 'POST',
     redirect: 'manual',
-    headers: { 'content-type': 'application/x-www-form-urlencoded', cookie: p.cookie },
+    headers: { 'content-type': 'application/x-www-form-urlencoded', cookie: p.cookie, ...from },
     body: new URLSearchParams(p.form.fields),
     signal,
   });
@@ -171,7 +184,7 @@ export async function sendCast(p: PreparedCast, signal?: AbortSignal): Promise<C
   const jar = new CookieJar();
   jar.take(p.cookie.split('; ').filter(Boolean));
   jar.take(res.headers.getSetCookie?.() ?? []);
-  const page = await fetch(new URL(res.headers.get('location')!, p.base), { headers: { cookie: jar.header() }, signal });
+  const page = await fetch(new URL(res.headers.get('location')!, p.base), { headers: { cookie: jar.header(), ...from }, signal });
   const html = await page.text();
   return { status: page.status, receipt: page.status === 200 ? (/<p class="receipt">([^<]+)<\/p>/.exec(html)?.[1] ?? null) : null };
 }

@@ -8,6 +8,7 @@ import {
   keyDirOf,
   countRows,
   launch,
+  memberAddress,
   memberSession,
   prepareCast,
   sendCast,
@@ -29,7 +30,8 @@ describe.runIf(PG_URL)('casting under load [postgres]', () => {
   beforeAll(async () => {
     target = await postgresTarget(secrets.env);
     await prepareElection(target, secrets.pepper, secrets.seed, 1); // migrates before two servers start
-    [a, b] = await Promise.all([launch(target), launch(target)]);
+    // Members are many clients, as in a real vote: each sends its own address through the loopback proxy.
+    [a, b] = await Promise.all([launch(target, { TRUST_PROXY: 'loopback' }), launch(target, { TRUST_PROXY: 'loopback' })]);
   });
   afterAll(async () => {
     await Promise.all([a?.stop(), b?.stop()]);
@@ -74,7 +76,7 @@ describe.runIf(PG_URL)('casting under load [postgres]', () => {
   it('2,000 codes cast by 50 clients across two instances: 2,000 ballots, 2,000 distinct receipts, every one found', async () => {
     const f = await prepareElection(target, secrets.pepper, secrets.seed, 2000);
     const servers = [a, b];
-    const members = await Promise.all(Array.from({ length: 50 }, (_x, c) => memberSession(servers[c % 2]!.url, f.id)));
+    const members = await Promise.all(Array.from({ length: 50 }, (_x, c) => memberSession(servers[c % 2]!.url, f.id, memberAddress(c))));
     const results = await pool(f.codes.length, 50, 200_000, (i, c) =>
       cast(servers[c % 2]!.url, members[c]!, f.id, f.codes[i]!, [i % 4, (i + 1) % 4]),
     );

@@ -9,6 +9,7 @@ import {
   keyDirOf,
   countRows,
   launch,
+  memberAddress,
   memberSession,
   pgliteTarget,
   postgresTarget,
@@ -38,12 +39,12 @@ async function run(target: Target, label: string) {
   let serverErrors = 0;
   let kills = 0;
   let next = 0;
-  let server: RunningServer = await launch(target);
+  let server: RunningServer = await launch(target, { TRUST_PROXY: 'loopback' });
 
   const deadline = Date.now() + 200_000;
   for (let round = 0; round <= KILL_AFTER.length; round++) {
     const stopAt = KILL_AFTER[round] ?? CODES;
-    const members: Member[] = await Promise.all(Array.from({ length: 5 }, () => memberSession(server.url, f.id)));
+    const members: Member[] = await Promise.all(Array.from({ length: 5 }, (_x, c) => memberSession(server.url, f.id, memberAddress(c))));
     const controller = new AbortController();
     let killed = false;
     await Promise.all(
@@ -71,7 +72,7 @@ async function run(target: Target, label: string) {
     if (round < KILL_AFTER.length) {
       if (target.engine === 'pglite') {
         // While it is down, nothing else may take over its directory... and once a process holds it, a second is refused.
-        server = await launch(target);
+        server = await launch(target, { TRUST_PROXY: 'loopback' });
         const port = await freePort();
         const second = spawnSync(process.execPath, ['--import', 'tsx', 'src/main.ts'], {
           cwd: REPO_ROOT,
@@ -82,7 +83,7 @@ async function run(target: Target, label: string) {
         expect(second.status).toBe(1);
         expect(second.stderr).toContain(`process ${server.child.pid}`);
       } else {
-        server = await launch(target);
+        server = await launch(target, { TRUST_PROXY: 'loopback' });
       }
     }
   }

@@ -13,6 +13,13 @@ export interface PreparedCast {
   path: string;
   body: string;
   cookie: string;
+  /** The member's own client address, sent as X-Forwarded-For (the server trusts loopback as its proxy). */
+  address: string;
+}
+
+/** Member i's address in 198.18.0.0/15 (RFC 2544's benchmarking range): many members are many clients. */
+export function benchAddress(i: number): string {
+  return `198.${18 + ((i >> 16) & 1)}.${(i >> 8) & 255}.${i & 255}`;
 }
 
 interface Reply {
@@ -22,9 +29,9 @@ interface Reply {
   cookies: string[];
 }
 
-function request(agent: http.Agent, base: URL, method: string, path: string, cookie: string, body?: string): Promise<Reply> {
+function request(agent: http.Agent, base: URL, method: string, path: string, cookie: string, address: string, body?: string): Promise<Reply> {
   return new Promise((resolve, reject) => {
-    const headers: http.OutgoingHttpHeaders = { cookie, origin: base.origin };
+    const headers: http.OutgoingHttpHeaders = { cookie, origin: base.origin, 'x-forwarded-for': address };
     if (body !== undefined) {
       headers['content-type'] = 'application/x-www-form-urlencoded';
       headers['content-length'] = Buffer.byteLength(body);
@@ -51,16 +58,24 @@ function request(agent: http.Agent, base: URL, method: string, path: string, coo
 export const formFields = hiddenFields;
 
 /** The bench's own HTTP client as the member walk's browser: bounded keep-alive sockets, a cookie jar. */
-function browser(agent: http.Agent, base: URL, jar: CookieJar): MemberHttp {
+function browser(agent: http.Agent, base: URL, jar: CookieJar, address: string): MemberHttp {
   const answer = (r: Reply): Answer => {
     jar.take(r.cookies);
     return { status: r.status, location: r.location || undefined, text: r.body, setCookies: r.cookies };
   };
   return {
-    get: async (path) => answer(await request(agent, base, 'GET', path, jar.header())),
+    get: async (path) => answer(await request(agent, base, 'GET', path, jar.header(), address)),
     post: async (path, fields) =>
       answer(
-        await request(agent, base, 'POST', path, jar.header(), new URLSearchParams(fields.map(([k, v]): [string, string] => [k, v])).toString()),
+        await request(
+          agent,
+          base,
+          'POST',
+          path,
+          jar.header(),
+          address,
+          new URLSearchParams(fields.map(([k, v]): [string, string] => [k, v])).toString(),
+        ),
       ),
   };
 }
@@ -91,9 +106,10 @@ export async function prepareCasts(
   try {
     await pool([...codes.keys()], 8, async (i) => {
       const jar = new CookieJar();
-      const confirm = await toConfirm(browser(agent, base, jar), electionId, codes[i]!, approvalsFor(i));
+      const address = benchAddress(i);
+      const confirm = await toConfirm(browser(agent, base, jar, address), electionId, codes[i]!, approvalsFor(i));
       const cast = hiddenFields(confirm.text, '/cast');
-      prepared[i] = { path: cast.action, body: new URLSearchParams(cast.fields).toString(), cookie: jar.header() };
+      prepared[i] = { path: cast.action, body: new URLSearchParams(cast.fields).toString(), cookie: jar.header(), address };
     });
   } finally {
     agent.destroy();
@@ -123,7 +139,7 @@ export async function castAll(baseUrl: string, casts: readonly PreparedCast[], c
     await pool(casts, concurrency, async (c) => {
       const t = performance.now();
       try {
-        const reply = await request(agent, base, 'POST', c.path, c.cookie, c.body);
+        const reply = await request(agent, base, 'POST', c.path, c.cookie, c.address, c.body);
         if (!(reply.status === 200 || (reply.status === 303 && /\/receipt\b/.test(reply.location)))) errors++;
       } catch {
         errors++;

@@ -74,7 +74,7 @@ describe('fair share: one request in flight per client, the rest in turn', () =>
       until(() => waiting('198.18.0.1') === i, 'the one before queued').then(() => get(`/hold/${n}`, '198.18.0.1')),
     );
     await until(() => waiting('198.18.0.1') === 3, 'three waiting');
-    expect(share.clients().get('198.18.0.1')).toEqual({ inFlight: 1, waiting: 3 });
+    expect(share.clients().get('198.18.0.1')).toEqual({ inFlight: 1, waiting: 3, pacing: false });
     expect(entered).toEqual(['1']);
     for (const n of ['1', '2', '3', '4']) {
       await release(n);
@@ -164,15 +164,52 @@ describe('fair share: one request in flight per client, the rest in turn', () =>
     await until(() => share.clients().size === 0, 'no client left');
   });
 
-  it('refuses past the per-minute allowance with a Retry-After from the limiter', async () => {
+  it('alone, a client is read at full speed, however much it has used', async () => {
     server.closeAllConnections();
     await new Promise((resolve) => server.close(resolve));
-    await listen({ perMinute: 5 });
-    for (let i = 0; i < 5; i++) expect((await get('/now', '198.18.0.6')).status).toBe(200);
-    const refused = await get('/now', '198.18.0.6');
-    expect(refused.status).toBe(429);
-    expect(Number(refused.retryAfter)).toBeGreaterThanOrEqual(1);
-    expect(Number(refused.retryAfter)).toBeLessThanOrEqual(60);
-    expect((await get('/now', '198.18.0.7')).status).toBe(200);
+    await listen({ msPerSecond: 10, minChargeMs: 10 });
+    for (let i = 0; i < 5; i++) {
+      expect((await get('/now', '198.18.0.9')).status).toBe(200);
+      expect(share.clients().get('198.18.0.9')?.pacing ?? false).toBe(false);
+    }
+  });
+
+  it('while another client is served, one past its share waits in its turn, not refused; a third client is not slowed', async () => {
+    server.closeAllConnections();
+    await new Promise((resolve) => server.close(resolve));
+    await listen({ msPerSecond: 10, minChargeMs: 10 });
+    const other = get('/hold/b', '198.18.0.10'); // another client, in flight
+    await until(() => entered.includes('b'), 'the other client in flight');
+    expect((await get('/now', '198.18.0.6')).status).toBe(200); // charged 10 ms: its share for this second
+    const paced = get('/now', '198.18.0.6');
+    const after = get('/now', '198.18.0.6');
+    await until(() => share.clients().get('198.18.0.6')?.pacing === true, 'the next request waiting for its share');
+    expect(share.clients().get('198.18.0.6')).toEqual({ inFlight: 1, waiting: 1, pacing: true });
+    expect(await get('/now', '198.18.0.7')).toMatchObject({ status: 200, text: 'now' });
+    expect((await Promise.all([paced, after])).map((r) => r.status)).toEqual([200, 200]);
+    await release('b');
+    expect((await other).text).toBe('done b');
+    await until(() => share.clients().size === 0, 'no client left');
+  });
+
+  it('a paced request whose client goes away is never run, and passes the turn on', async () => {
+    server.closeAllConnections();
+    await new Promise((resolve) => server.close(resolve));
+    await listen({ msPerSecond: 10, minChargeMs: 10 });
+    const other = get('/hold/o', '198.18.0.13');
+    await until(() => entered.includes('o'), 'the other client in flight');
+    expect((await get('/now', '198.18.0.8')).status).toBe(200);
+    const gone = new AbortController();
+    const abandoned = get('/hold/p', '198.18.0.8', gone.signal).catch((e: Error) => e.name);
+    await until(() => share.clients().get('198.18.0.8')?.pacing === true, 'paced');
+    const next = get('/now', '198.18.0.8');
+    await until(() => waiting('198.18.0.8') === 1, 'one waiting');
+    gone.abort();
+    expect(await abandoned).toBe('AbortError');
+    expect(await next).toMatchObject({ status: 200, text: 'now' });
+    expect(entered).not.toContain('p');
+    await release('o');
+    await other;
+    await until(() => share.clients().size === 0, 'no client left');
   });
 });
