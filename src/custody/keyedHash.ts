@@ -39,3 +39,16 @@ export function memberHash(pepper: Uint8Array, canonicalAddress: string): Buffer
   if (pepper.byteLength < 32) throw new RangeError('the pepper must have at least 32 bytes');
   return hmacSha256(pepper, Buffer.concat([Buffer.from('veiltally/member/1\0', 'utf8'), Buffer.from(canonicalAddress, 'utf8')]));
 }
+
+/**
+ * The key of an attempt-limit row (an address, an address and an account, an election id):
+ * HMAC-SHA-256 under the instance pepper, domain "veiltally/limit-key/1", base64url, 32 characters
+ * (192 bits). An unkeyed hash of an IPv4 address is undone by hashing all 2³² of them; without the
+ * pepper, a copy of the database cannot test a guessed address or account against these rows.
+ */
+export function limitKeyHash(pepper: Uint8Array, value: string): string {
+  if (pepper.byteLength < 32) throw new RangeError('the pepper must have at least 32 bytes');
+  return hmacSha256(pepper, Buffer.concat([Buffer.from('veiltally/limit-key/1\0', 'utf8'), Buffer.from(value, 'utf8')]))
+    .toString('base64url')
+    .slice(0, 32);
+}

@@ -14,7 +14,7 @@ import { resumeOrganiserForm } from './routes/organise/resumeForm.ts';
 
 /** Builds the whole site. Never listens: main.ts does, and tests drive the app directly. */
 export function createApp(given: Omit<AppDeps, 'limits'> & { limits?: AppDeps['limits']; turns?: FairShare }): Express {
-  const deps: AppDeps = { ...given, limits: given.limits ?? createLimits(given.ctx.knex) };
+  const deps: AppDeps = { ...given, limits: given.limits ?? createLimits(given.ctx.knex, given.ctx.secrets.codePepper) };
   const app = express();
   app.disable('x-powered-by');
   // Forwarding headers only from the configured proxies (TRUST_PROXY), never from any peer.

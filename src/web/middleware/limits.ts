@@ -1,4 +1,4 @@
-import crypto from 'node:crypto';
+import { limitKeyHash } from '../../custody/keyedHash.ts';
 import type { Request, RequestHandler, Response } from 'express';
 import type { Knex } from 'knex';
 import { RateLimiterPostgres, type RateLimiterRes } from 'rate-limiter-flexible';
@@ -47,9 +47,6 @@ interface Rule {
    */
   readonly ceiling?: boolean;
 }
-
-/** Keys hold addresses and e-mail addresses: store only a hash of them. */
-const hashed = (value: string) => crypto.createHash('sha256').update(value).digest('base64url').slice(0, 32);
 
 const clientOf: KeyOf = (req) => req.ip ?? req.socket.remoteAddress ?? 'unknown';
 /** Election ids are UUIDs, which PostgreSQL compares case-blind: key on the canonical lower-case form. */
@@ -121,6 +118,8 @@ export class AttemptLimit {
     private readonly what: string,
     private readonly mode: Mode,
     rules: readonly Rule[],
+    /** Keys hold addresses and e-mail addresses: rows store only this keyed hash of them. */
+    private readonly hashed: (value: string) => string,
     known?: Known,
   ) {
     const storeClient = knexStoreClient(knex);
@@ -145,7 +144,7 @@ export class AttemptLimit {
   private keys(req: Request): Key[] {
     return this.limiters.flatMap(({ rule, store }) => {
       const k = rule.key(req);
-      return k ? [{ rule, store, key: hashed(k) }] : [];
+      return k ? [{ rule, store, key: this.hashed(k) }] : [];
     });
   }
 
@@ -174,12 +173,12 @@ export class AttemptLimit {
 
   private async isKnown(req: Request): Promise<boolean> {
     const k = this.known?.rule.key(req);
-    return Boolean(k && (await this.known!.store.get(hashed(k))));
+    return Boolean(k && (await this.known!.store.get(this.hashed(k))));
   }
 
   private async remember(req: Request): Promise<void> {
     const k = this.known?.rule.key(req);
-    if (k) await this.known!.store.set(hashed(k), 1, Math.ceil(this.known!.rule.windowMs / 1000));
+    if (k) await this.known!.store.set(this.hashed(k), 1, Math.ceil(this.known!.rule.windowMs / 1000));
   }
 
   readonly middleware: RequestHandler = async (req, res, next) => {
@@ -271,12 +270,19 @@ const MIN = 60_000;
  * attempts, per account and per source): a whole meeting may share one address, so per-address
  * allowances are generous where a person's own key (account, election) is the tight one.
  */
-export function createLimits(knex: Knex): Limits {
+export function createLimits(knex: Knex, pepper: Uint8Array): Limits {
+  const hashed = (value: string) => limitKeyHash(pepper, value);
   return {
-    codeAttempts: new AttemptLimit(knex, 'ballot code attempts', 'failures-only', [
-      { name: 'code-client', points: 300, windowMs: 10 * MIN, key: clientOf },
-      { name: 'code-election', points: 3000, windowMs: 10 * MIN, key: electionOf, ceiling: true },
-    ]).middleware,
+    codeAttempts: new AttemptLimit(
+      knex,
+      'ballot code attempts',
+      'failures-only',
+      [
+        { name: 'code-client', points: 300, windowMs: 10 * MIN, key: clientOf },
+        { name: 'code-election', points: 3000, windowMs: 10 * MIN, key: electionOf, ceiling: true },
+      ],
+      hashed,
+    ).middleware,
     // Per (address, account) is the tight limit, so guessing from elsewhere never locks the owner's
     // own address; the account's ceiling (NIST SP 800-63B §5.2.2: at most 100 consecutive failures
     // per account) binds many addresses together, and spares an address the owner signed in from
@@ -290,28 +296,50 @@ export function createLimits(knex: Knex): Limits {
         { name: 'signin-client', points: 100, windowMs: 15 * MIN, key: clientOf },
         { name: 'signin-account', points: 100, windowMs: 15 * MIN, key: emailOf, ceiling: true },
       ],
+      hashed,
       { name: 'signin-known', windowMs: 30 * 24 * 60 * MIN, key: both(clientOf, emailOf) },
     ).middleware,
-    passphraseAttempts: new AttemptLimit(knex, 'tally passphrase attempts', 'refuse', [
-      { name: 'passphrase-client-election', points: 10, windowMs: 15 * MIN, key: both(clientOf, electionOf) },
-      { name: 'passphrase-client', points: 50, windowMs: 15 * MIN, key: clientOf },
-      { name: 'passphrase-election', points: 100, windowMs: 15 * MIN, key: electionOf, ceiling: true },
-    ]).middleware,
-    receiptChecks: new AttemptLimit(knex, 'receipt checks', 'every', [{ name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf }])
-      .middleware,
+    passphraseAttempts: new AttemptLimit(
+      knex,
+      'tally passphrase attempts',
+      'refuse',
+      [
+        { name: 'passphrase-client-election', points: 10, windowMs: 15 * MIN, key: both(clientOf, electionOf) },
+        { name: 'passphrase-client', points: 50, windowMs: 15 * MIN, key: clientOf },
+        { name: 'passphrase-election', points: 100, windowMs: 15 * MIN, key: electionOf, ceiling: true },
+      ],
+      hashed,
+    ).middleware,
+    receiptChecks: new AttemptLimit(
+      knex,
+      'receipt checks',
+      'every',
+      [{ name: 'receipt-client', points: 1000, windowMs: 10 * MIN, key: clientOf }],
+      hashed,
+    ).middleware,
     // One failed look-up is one guess against every open election. It counts per address only: a
     // site-wide allowance let one address's refused guesses lock the box for everyone.
-    codeLookups: new AttemptLimit(knex, 'ballot code attempts', 'failures-only', [
-      { name: 'lookup-client', points: 300, windowMs: 10 * MIN, key: clientOf },
-    ]).middleware,
-    replacementRequests: new AttemptLimit(knex, 'requests for a replacement code', 'every', [
-      {
-        name: 'replace-client-election',
-        points: REPLACEMENT_LIMITS.perClient,
-        windowMs: REPLACEMENT_LIMITS.windowMs,
-        key: both(clientOf, electionOf),
-      },
-      { name: 'replace-election', points: REPLACEMENT_LIMITS.perElection, windowMs: REPLACEMENT_LIMITS.windowMs, key: electionOf, ceiling: true },
-    ]).middleware,
+    codeLookups: new AttemptLimit(
+      knex,
+      'ballot code attempts',
+      'failures-only',
+      [{ name: 'lookup-client', points: 300, windowMs: 10 * MIN, key: clientOf }],
+      hashed,
+    ).middleware,
+    replacementRequests: new AttemptLimit(
+      knex,
+      'requests for a replacement code',
+      'every',
+      [
+        {
+          name: 'replace-client-election',
+          points: REPLACEMENT_LIMITS.perClient,
+          windowMs: REPLACEMENT_LIMITS.windowMs,
+          key: both(clientOf, electionOf),
+        },
+        { name: 'replace-election', points: REPLACEMENT_LIMITS.perElection, windowMs: REPLACEMENT_LIMITS.windowMs, key: electionOf, ceiling: true },
+      ],
+      hashed,
+    ).middleware,
   };
 }

@@ -7,6 +7,7 @@ import { testApp } from '../../helpers/app.ts';
 import { testClock } from '../../helpers/context.ts';
 import type { UseCaseContext } from '../../../src/elections/context.ts';
 import { generateCode } from '../../../src/custody/index.ts';
+import { limitKeyHash } from '../../../src/custody/keyedHash.ts';
 import { closeElection } from '../../../src/elections/closeElection.ts';
 import { openElectionFixture } from '../../helpers/fixtures.ts';
 import { makeOrganiser, organiseContext, PASSWORD, tokenIn } from './organiseSupport.ts';
@@ -17,7 +18,8 @@ import { makeOrganiser, organiseContext, PASSWORD, tokenIn } from './organiseSup
  * letting one address lock out others (README, Threat model, "Attempt limits").
  */
 const HOUR = 3600_000;
-const hashed = (value: string) => crypto.createHash('sha256').update(value).digest('base64url').slice(0, 32);
+/** How the rows were keyed before: an unkeyed SHA-256, which anyone can compute for a guessed address. */
+const unkeyed = (value: string) => crypto.createHash('sha256').update(value).digest('base64url').slice(0, 32);
 
 describe.each(engines)('attempt limits under bursts [%s]', (engine) => {
   let db: TestDatabase;
@@ -61,7 +63,7 @@ describe.each(engines)('attempt limits under bursts [%s]', (engine) => {
       (
         await db
           .knex('rate_limits')
-          .where({ key: `${name}:${hashed(key)}` })
+          .where({ key: `${name}:${limitKeyHash(ctx.secrets.codePepper, key)}` })
           .first('points')
       )?.points ?? 0,
     );
@@ -166,5 +168,19 @@ describe.each(engines)('attempt limits under bursts [%s]', (engine) => {
     expect((await post(other, `/vote/${f.id}/ballot`, otherBallot.cookie, { _csrf: otherBallot.csrf, code: wrong() })).status).toBe(404);
     expect((await post(other, '/ballot', otherHome.cookie, { _csrf: otherHome.csrf, code: wrong() })).status).toBe(404);
     expect((await post(noisy, '/ballot', home.cookie, { _csrf: home.csrf, code: wrong() })).status).toBe(429);
+  });
+
+  it('a copy of the database cannot test a guessed address or account against the limit rows; the pepper can', async () => {
+    const owner = await makeOrganiser(ctx, 'secretary@tenants.example');
+    await signIn('203.0.113.77', owner.email, 'not the password, twice over');
+    const keys: string[] = (await db.knex('rate_limits').select('key')).map((r: { key: string }) => r.key.split(':').slice(1).join(':'));
+    // Whoever holds only the rows hashes every address of the /24 and every pairing with the account.
+    const guesses = Array.from({ length: 256 }, (_, i) => `203.0.113.${i}`).flatMap((a) => [a, `${a}\u0000${owner.email}`]);
+    expect(guesses.filter((g) => keys.includes(unkeyed(g)))).toEqual([]);
+    expect(keys.includes(unkeyed(owner.email))).toBe(false);
+    // The operator, who holds the pepper, can (a control: the rows are there).
+    // (Earlier tests here signed in from other addresses of the /24 too.)
+    const found = guesses.filter((g) => keys.includes(limitKeyHash(ctx.secrets.codePepper, g)));
+    expect(found).toEqual(expect.arrayContaining(['203.0.113.77', `203.0.113.77\u0000${owner.email}`]));
   });
 });
