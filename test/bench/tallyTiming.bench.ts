@@ -24,7 +24,13 @@ import { startCompiledServer } from './support/server.ts';
 
 const EMAIL = 'organiser@rowing.example';
 const ORGANISER_ADDRESS = '198.18.0.1';
-const POLLERS = { healthz: '198.18.0.2', ballot: '198.18.0.3' } as const;
+/**
+ * Each poll comes from another address of its poller's /24, as many members each reading a page would:
+ * one address polling every 20 ms while others are served is paced by the server's fair share
+ * (src/web/middleware/fairShare.ts), which would measure that pacing instead of the tally.
+ */
+const POLLERS = { healthz: '198.18.2', ballot: '198.18.3' } as const;
+let polls = 0;
 const GAP_MS = 20;
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
@@ -79,7 +85,7 @@ async function poll(base: string, ballotPath: string, done: Promise<unknown>): P
   const one = async (path: string, address: string, into: number[]) => {
     while (!stop) {
       const t = performance.now();
-      const res = await fetch(`${base}${path}`, { headers: { 'x-forwarded-for': address } });
+      const res = await fetch(`${base}${path}`, { headers: { 'x-forwarded-for': `${address}.${1 + (polls++ % 250)}` } });
       await res.arrayBuffer();
       if (res.status !== 200) throw new Error(`${path} answered ${res.status}`);
       into.push(performance.now() - t);
