@@ -21,6 +21,16 @@ export interface MemberHttp {
   post(path: string, fields: ReadonlyArray<readonly [string, string]>): Promise<Answer>;
 }
 
+/**
+ * Member n's client address (198.18.0.0/15, the range RFC 2544 sets aside for benchmarks), sent as
+ * X-Forwarded-For to a server trusting loopback as its proxy (TRUST_PROXY=loopback): the server then
+ * reads each member's pages in that member's own turn (src/web/middleware/fairShare.ts), as it would
+ * for real members. Shared by the reliability harness and the benchmarks.
+ */
+export function memberAddress(n: number): string {
+  return `198.${18 + ((n >> 16) & 1)}.${(n >> 8) & 255}.${n & 255}`;
+}
+
 export const RECEIPT = /<p class="receipt">([0-9A-Z]{5}-[0-9A-Z]{5})<\/p>/;
 
 export { csrfOf };

@@ -9,7 +9,7 @@ import { TEST_KDF } from '../helpers/context.ts';
 import { keyDirectory } from '../../src/keyfiles/keyDirectory.ts';
 import { createOrganiser, openElectionFixture, type ElectionFixture } from '../helpers/fixtures.ts';
 import { startServer, type RunningServer } from '../helpers/server.ts';
-import { CookieJar, StepFailed, fetchMember, hiddenFields, toConfirm } from '../helpers/memberWalk.ts';
+import { CookieJar, StepFailed, fetchMember, hiddenFields, memberAddress, toConfirm } from '../helpers/memberWalk.ts';
 
 /**
  * Shared by the reliability suite: real server processes on loopback, a real database (a fresh
@@ -110,14 +110,7 @@ export async function launch(target: Target, extra: Record<string, string> = {})
   return startServer({ LOG_LEVEL: 'warn', ...target.env, ...extra }, target.dataDir);
 }
 
-/**
- * Member n's client address (198.18.0.0/15, the range RFC 2544 sets aside for benchmarks), sent as
- * X-Forwarded-For to a server launched with TRUST_PROXY=loopback: the server reads each member's
- * pages in that member's own turn (src/web/middleware/fairShare.ts), as it would for real members.
- */
-export function memberAddress(n: number): string {
-  return `198.${18 + ((n >> 16) & 1)}.${(n >> 8) & 255}.${n & 255}`;
-}
+export { memberAddress };
 
 /** A member's browser, reduced to its form-token cookie and form token; each cast walks the steps from there. */
 export interface Member {

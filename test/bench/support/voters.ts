@@ -1,6 +1,6 @@
 import http from 'node:http';
 import { percentile } from './figures.ts';
-import { CookieJar, hiddenFields, toConfirm, type Answer, type MemberHttp } from '../../helpers/memberWalk.ts';
+import { CookieJar, hiddenFields, memberAddress, toConfirm, type Answer, type MemberHttp } from '../../helpers/memberWalk.ts';
 
 /**
  * A bounded HTTP client for intake benchmarks: members who each hold one ballot code walk
@@ -15,11 +15,6 @@ export interface PreparedCast {
   cookie: string;
   /** The member's own client address, sent as X-Forwarded-For (the server trusts loopback as its proxy). */
   address: string;
-}
-
-/** Member i's address in 198.18.0.0/15 (RFC 2544's benchmarking range): many members are many clients. */
-export function benchAddress(i: number): string {
-  return `198.${18 + ((i >> 16) & 1)}.${(i >> 8) & 255}.${i & 255}`;
 }
 
 interface Reply {
@@ -106,7 +101,7 @@ export async function prepareCasts(
   try {
     await pool([...codes.keys()], 8, async (i) => {
       const jar = new CookieJar();
-      const address = benchAddress(i);
+      const address = memberAddress(i);
       const confirm = await toConfirm(browser(agent, base, jar, address), electionId, codes[i]!, approvalsFor(i));
       const cast = hiddenFields(confirm.text, '/cast');
       prepared[i] = { path: cast.action, body: new URLSearchParams(cast.fields).toString(), cookie: jar.header(), address };
