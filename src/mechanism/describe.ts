@@ -45,6 +45,15 @@ function whetherVotedNote(s: PrivacyStatement): string | null {
   return `The live turnout released while voting ran adds its ε = ${s.liveTurnout.epsilon} for whether a member voted, which is protected at ε = ${s.protects.whetherVoted.epsilon} in all (the costs add up).`;
 }
 
+/**
+ * Under replace-one, whether a member voted: covered by the ballot's protection, and more tightly, since voting only
+ * adds a ballot (a monotone change: ε/2 for the draw, test/unit/mechanism/whetherVoted.test.ts). The factor is the
+ * statement's own, so a statement signed before the tight figure (which says ε, the general bound) stays true.
+ */
+function whetherReplaceOne(whether: NonNullable<PrivacyStatement['protects']['whetherVoted']>): string {
+  return `This covers whether a member voted as well as how, and at least as strongly: not voting looks the same as a ballot with nothing ticked, and voting only adds a ballot, which can raise counts but never lower any. Voting or not could at most have multiplied or divided the chance of this announcement by ${whether.factorAtMost} (the number e ≈ 2.718 raised to the power ${whether.epsilon}).`;
+}
+
 function privacyParagraph(s: PrivacyStatement): string {
   const setting = `Here the privacy setting, written ε (epsilon), is ${s.epsilon}: the smaller it is, the more strongly each ballot is protected.`;
   const how = s.protects.howVoted;
@@ -63,9 +72,7 @@ function privacyParagraph(s: PrivacyStatement): string {
   ].join(' ');
   if (s.neighbour === 'replace-one') {
     const first = `Whatever any one member ticked could at most have multiplied or divided the chance of this announcement by ${factorExplained(how.factorAtMost, 'ε')}.`;
-    const second = whether
-      ? `This covers whether a member voted as well as how: not voting looks the same as a ballot with nothing ticked. ${anyoneVoted}`
-      : turnoutNote;
+    const second = whether ? `${whetherReplaceOne(whether)} ${anyoneVoted}` : turnoutNote;
     return `${setting} ${first} ${second}`;
   }
   const ticked = `Whatever any one member ticked could at most have multiplied or divided the chance of this announcement by ${factorExplained(how.factorAtMost, '2ε')}: a changed ballot counts as one ballot removed and another added. The organiser chose this weaker setting on purpose.`;

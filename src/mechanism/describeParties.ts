@@ -39,14 +39,13 @@ function hours(n: number): string {
 
 export function describeParties(privacy: PrivacyCost, s: PartySettings): PartyText[] {
   const how = factorExplained(factorAtMost(privacy.howVoted), s.neighbour === 'replace-one' ? 'ε' : '2ε');
-  // Under replace-one the two factors are the same, explained once in the sentence before.
-  const whetherFactor =
-    s.neighbour === 'replace-one' ? `${factorAtMost(privacy.whetherVoted)}, as above` : factorExplained(factorAtMost(privacy.whetherVoted), 'ε');
+  // Under replace-one voting or not is a monotone change and costs ε/2 (draw.ts); under add-remove, ε.
+  const whetherFactor = factorExplained(factorAtMost(privacy.whetherVoted), s.neighbour === 'replace-one' ? 'ε/2' : 'ε');
   const howVoted = `How a member voted: with the privacy setting at ε = ${privacy.epsilon}, whatever one member ticks can at most multiply or divide the chance of any announced result by ${how}. No count of approvals is ever shown.`;
   const whetherVoted = s.publishTurnout
     ? 'Whether a member voted: the organiser chose before opening to publish the turnout, so the exact number of ballots is published and is not protected. It shows how many members voted, and whether a given member voted to anyone who knows what all the others did.'
     : s.neighbour === 'replace-one'
-      ? `Whether a member voted: protected like the ballot itself, since not voting looks the same as a ballot with nothing ticked; voting or not can at most multiply or divide the chance of any announced result by ${whetherFactor}. The turnout is never published.`
+      ? `Whether a member voted: protected at least as well as the ballot itself, since not voting looks the same as a ballot with nothing ticked, and twice as strongly: voting or not only adds one ballot, which can raise counts but never lower any, so it can at most multiply or divide the chance of any announced result by ${whetherFactor}. The turnout is never published.`
       : `Whether a member voted: voting or not can at most multiply or divide the chance of any announced result by ${whetherFactor}. The turnout is never published.`;
   const liveForOthers = 'While voting runs: nothing about who has voted, or how many, is shown, only the opening and closing times.';
   const anyone = 'Whether anyone voted at all is shown: with no ballots no winner is drawn, and the result says so.';

@@ -1,7 +1,7 @@
 import { computeBounds, type Bounds } from './bounds.ts';
 import { toEpsilon, type Epsilon } from './epsilon.ts';
 import { InvalidMechanismConfig, InvalidScores, quoteForMessage } from './errors.ts';
-import { NEIGHBOURS, SENSITIVITY, type Neighbour } from './neighbour.ts';
+import { NEIGHBOURS, SENSITIVITY, whetherVotedEpsilonText, type Neighbour } from './neighbour.ts';
 import { peelSeats } from './peeling.ts';
 import { divideByInteger, multiplyByInteger, rational, rationalToNumber, rationalToText, type Rational } from './rational.ts';
 import type { RandomSource } from './random.ts';
@@ -21,6 +21,12 @@ export interface PrivacyCost {
   /** ε for what a member ticked. */
   howVoted: string;
   composition: 'single-draw' | 'basic';
+}
+
+/** ε for whether a member voted, for a draw at `epsilon` in all under `neighbour`: ε/2 under replace-one, else ε. */
+export function whetherVotedFor(epsilon: string | Epsilon, neighbour: Neighbour): string {
+  const e = toEpsilon(epsilon);
+  return neighbour === 'replace-one' ? whetherVotedEpsilonText(rational(e.num, e.den), neighbour) : e.text;
 }
 
 /** A checked draw for one election's settings, under any draw rule (src/mechanism/rules/). */
@@ -101,7 +107,7 @@ export function makeDraw(cfg: DrawConfig): SeatDraw {
   const privacy: PrivacyCost = Object.freeze({
     epsilon: epsilon.text,
     perRoundEpsilon,
-    whetherVoted: epsilon.text,
+    whetherVoted: whetherVotedFor(epsilon, neighbour),
     // A changed ballot is one removal plus one addition: 2ε under add-remove.
     howVoted: neighbour === 'replace-one' ? epsilon.text : doubled,
     composition: seats === 1 ? 'single-draw' : 'basic',

@@ -41,6 +41,7 @@ export {
   makeExponentialDraw,
   makePermuteAndFlipDraw,
   makeDraw,
+  whetherVotedFor,
 } from './draw.ts';
 export {
   type DrawRule,

@@ -4,8 +4,8 @@
  * (Dwork & Roth 2014, Def. 2.4; the bound holds both ways, since the neighbours are symmetric).
  * `power` is what e is raised to: ε, or 2ε for what a member ticked under add-or-remove neighbours.
  */
-export function factorExplained(factor: number, power: 'ε' | '2ε'): string {
-  const symbol = power === 'ε' ? 'e^ε' : 'e^(2ε)';
+export function factorExplained(factor: number, power: 'ε' | '2ε' | 'ε/2'): string {
+  const symbol = power === 'ε' ? 'e^ε' : `e^(${power})`;
   return `${factor} (that is ${symbol}: the number e ≈ 2.718 raised to the power ${power}; the nearer to 1, the stronger the protection, and 1 would mean no effect at all)`;
 }
 

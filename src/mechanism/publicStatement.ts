@@ -277,12 +277,27 @@ export function recheckStatement(s: PublicStatement): ParameterCheck[] {
         : 'the live turnout settings are not valid',
     );
   }
-  const whetherEpsilon = live ? sumEpsilons([draw.privacy.whetherVoted, live.epsilon]) : draw.privacy.whetherVoted;
-  const whether = published ? null : { epsilon: whetherEpsilon, factorAtMost: factorAtMost(whetherEpsilon) };
+  const protection = (drawPart: string): Protection => {
+    const e = live ? sumEpsilons([drawPart, live.epsilon]) : drawPart;
+    return { epsilon: e, factorAtMost: factorAtMost(e) };
+  };
+  const whether = published ? null : protection(draw.privacy.whetherVoted);
+  // Statements signed before the tight ε/2 under replace-one gave the draw's ε, the general bound: true, looser, and
+  // still accepted as such (the signature, not this check, is what holds a statement to its signed words).
+  const general = published || m.neighbour !== 'replace-one' ? null : protection(draw.privacy.epsilon);
+  const tight = isDeepStrictEqual(s.privacy.whetherVoted, whether);
+  const drawPart = tight ? draw.privacy.whetherVoted : draw.privacy.epsilon;
+  const stated = tight ? whether : general;
   add(
-    isDeepStrictEqual(s.privacy.whetherVoted, whether),
-    whether
-      ? `whether a member voted is protected at ε = ${whether.epsilon}${live ? ` (the draw's ${draw.privacy.whetherVoted} and the live turnout's ${live.epsilon}, basic composition)` : ''}`
+    tight || (general !== null && isDeepStrictEqual(s.privacy.whetherVoted, general)),
+    stated
+      ? `whether a member voted is protected at ε = ${stated.epsilon}${live ? ` (the draw's ${drawPart} and the live turnout's ${live.epsilon}, basic composition)` : ''}${
+          m.neighbour === 'replace-one'
+            ? tight
+              ? ' (voting only adds a ballot: ε/2 for the draw, by monotonicity)'
+              : ' (the general bound ε for the draw; the tight figure is ε/2)'
+            : ''
+        }`
       : 'whether a member voted is not protected, because an exact turnout was published',
   );
   const q = s.released.quorum;

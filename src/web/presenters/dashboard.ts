@@ -12,7 +12,7 @@ import {
   type ElectorateWarning,
   type ProtectionWarning,
 } from './electorate.ts';
-import { RULE_NAMES, drawRuleOr, makeExponentialDraw, turnoutError, turnoutSchedule } from '../../mechanism/index.ts';
+import { RULE_NAMES, drawRuleOr, makeExponentialDraw, turnoutError, turnoutSchedule, whetherVotedFor } from '../../mechanism/index.ts';
 
 const capitalised = (text: string): string => text.charAt(0).toUpperCase() + text.slice(1);
 
@@ -203,7 +203,7 @@ export function dashboardView(d: Dashboard): DashboardView {
   // What the drawn result reveals; what the organiser sees besides is said in the turnout note.
   const protects =
     e.neighbour === 'replace-one'
-      ? `In the drawn result: whether and how each member voted, both at ε = ${e.epsilon}` +
+      ? `In the drawn result: how each member voted at ε = ${e.epsilon}, and whether they voted at ε/2 = ${whetherVotedFor(e.epsilon, 'replace-one')}` +
         (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '')
       : `In the drawn result: whether a member voted at ε = ${e.epsilon}` +
         (e.publishTurnout ? ' (but the published turnout counts who voted exactly)' : '') +

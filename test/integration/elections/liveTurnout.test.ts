@@ -87,14 +87,14 @@ describe.each(engines)('live turnout releases [%s]', (engine) => {
     const stored = await findStatement(ctx.knex, on.id);
     const s = stored!.envelope.statement;
     expect(s.released.liveTurnout).toEqual({ counter: 'binary-tree', epsilon: '1', releases: 7, intervalHours: 24, nodeScale: '3' });
-    expect(s.privacy.whetherVoted?.epsilon).toBe('2'); // the draw's 1 and the live turnout's 1
+    expect(s.privacy.whetherVoted?.epsilon).toBe('1.5'); // the draw's ε/2 = 0.5 (replace-one) and the live turnout's 1
     const row = await ctx.knex('privacy_ledger').where({ election_id: on.id }).first('how_voted_epsilon', 'whether_voted_epsilon');
-    expect(row).toMatchObject({ how_voted_epsilon: '1', whether_voted_epsilon: '2' });
+    expect(row).toMatchObject({ how_voted_epsilon: '1', whether_voted_epsilon: '1.5' });
     // An election without it is charged as before.
     await tallyFixture(ctx, off, true);
     const plain = (await findStatement(ctx.knex, off.id))!.envelope.statement;
     expect('liveTurnout' in plain.released).toBe(false);
-    expect(plain.privacy.whetherVoted?.epsilon).toBe('1');
+    expect(plain.privacy.whetherVoted?.epsilon).toBe('0.5'); // the draw's ε/2 alone
   });
 
   it('an election whose settings the core refuses does not hold up the others', async () => {

@@ -109,7 +109,7 @@ describe.each(engines)('the privacy ledger per member [%s]', (engine) => {
     s.clock.advance(2 * 60_000);
     await publishResult(s.ctx, { electionId: fits.id, organiserId: s.organiserId });
     const st = JSON.parse((await request(s.app).get(`/results/${fits.id}/statement.json`).expect(200)).text).statement as PublicStatement;
-    expect(st.ledger).toMatchObject({ members: 3, draws: 3, howVotedEpsilon: '10', whetherVotedEpsilon: '10' });
+    expect(st.ledger).toMatchObject({ members: 3, draws: 3, howVotedEpsilon: '10', whetherVotedEpsilon: '5' }); // whether: ε/2 each, 2 + 2 + 1
     expect(st.ledger).not.toHaveProperty('groupId');
     // The statement with a members' ledger matches the published schema and passes the offline check.
     const text = (await request(s.app).get(`/results/${fits.id}/statement.json`).expect(200)).text;

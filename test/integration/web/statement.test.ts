@@ -63,7 +63,7 @@ describe.each(engines)('the signed statement, the key and the ledger pages [%s]'
     expect(st.mechanism).toMatchObject({ rule: 'exponential', epsilon: '4', neighbour: 'replace-one', seats: 1 });
     expect(st.released).toEqual({ anyoneVoted: true, winners: d.winners, turnout: null });
     expect(st.privacy.unprotected).toEqual(['anyone-voted']);
-    expect(st.ledger).toMatchObject({ groupName: 'Rowing club members', draws: 1, howVotedEpsilon: '4', whetherVotedEpsilon: '4' });
+    expect(st.ledger).toMatchObject({ groupName: 'Rowing club members', draws: 1, howVotedEpsilon: '4', whetherVotedEpsilon: '2' }); // ε/2 for whether, under replace-one
 
     const schema = await request(s.app)
       .get('/schemas/statement-v1.schema.json')

@@ -4,13 +4,14 @@ import { describeBounds, describeParties, makeExponentialDraw } from '../../../s
 /**
  * The statement's sentences for every combination of settings, party by party. Factors are
  * e^ε (replace one ballot) and e^(2ε) for what a member ticked under add/remove (a changed ballot
- * is one removal and one addition; Dwork & Roth 2014, Def. 2.4 and Thm. 3.10), rounded up to
- * two decimals: e^1 = 2.71828…, e^2 = 7.38905…, e^0.5 = 1.64872…, e^(1/3) = 1.39561….
+ * is one removal and one addition; Dwork & Roth 2014, Def. 2.4 and Thm. 3.10), and e^(ε/2) for whether a member
+ * voted under replace-one (a monotone change; whetherVoted.test.ts), rounded up to two decimals: e^1 = 2.71828…,
+ * e^2 = 7.38905…, e^0.5 = 1.64872…, e^0.25 = 1.28402…, e^(1/3) = 1.39561….
  */
 const cases = [
-  { epsilon: '1', neighbour: 'replace-one', how: '2.72 (that is e^ε:', whether: '2.72, as above' },
+  { epsilon: '1', neighbour: 'replace-one', how: '2.72 (that is e^ε:', whether: '1.65 (that is e^(ε/2):' },
   { epsilon: '1', neighbour: 'add-remove', how: '7.39 (that is e^(2ε):', whether: '2.72 (that is e^ε:' },
-  { epsilon: '0.5', neighbour: 'replace-one', how: '1.65 (that is e^ε:', whether: '1.65, as above' },
+  { epsilon: '0.5', neighbour: 'replace-one', how: '1.65 (that is e^ε:', whether: '1.29 (that is e^(ε/2):' },
   { epsilon: '0.5', neighbour: 'add-remove', how: '2.72 (that is e^(2ε):', whether: '1.65 (that is e^ε:' },
 ] as const;
 

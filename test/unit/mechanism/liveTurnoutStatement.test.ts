@@ -36,13 +36,14 @@ describe('the statement names a live turnout, its ε and its releases', () => {
     const s = buildPublicStatement(input(null));
     expect('liveTurnout' in s.released).toBe(false);
     expect(canonicalJson(s)).not.toContain('liveTurnout');
-    expect(s.privacy.whetherVoted).toEqual({ epsilon: '1', factorAtMost: 2.72 });
+    // The draw at ε = 1 under replace-one: whether a member voted is a monotone change, ε/2 (whetherVoted.test.ts).
+    expect(s.privacy.whetherVoted).toEqual({ epsilon: '0.5', factorAtMost: 1.65 }); // e^0.5 = 1.6487, rounded up
   });
 
-  it('on: 168 hourly releases at ε = 0.5, node scale 16; whether a member voted is 1 + 0.5 (basic composition); schema and recheck agree', () => {
+  it('on: 168 hourly releases at ε = 0.5, node scale 16; whether a member voted is 0.5 + 0.5 (the draw at ε/2 and the live turnout, basic composition); schema and recheck agree', () => {
     const s = buildPublicStatement(input({ epsilon: '0.5', releases: 168, intervalHours: 1 }));
     expect(s.released.liveTurnout).toEqual({ counter: 'binary-tree', epsilon: '0.5', releases: 168, intervalHours: 1, nodeScale: '16' });
-    expect(s.privacy.whetherVoted).toEqual({ epsilon: '1.5', factorAtMost: 4.49 }); // e^1.5 = 4.4817, rounded up
+    expect(s.privacy.whetherVoted).toEqual({ epsilon: '1', factorAtMost: 2.72 }); // e^1 = 2.7183, rounded up
     expect(s.privacy.howVoted.epsilon).toBe('1');
     expect(schemaProblems(envelope(s))).toEqual([]);
     const checks = recheckStatement(s);
@@ -52,7 +53,8 @@ describe('the statement names a live turnout, its ε and its releases', () => {
 
   it('a statement that leaves the live turnout out of whether a member voted, or shrinks its noise, fails the recheck', () => {
     const s = buildPublicStatement(input({ epsilon: '0.5', releases: 168, intervalHours: 1 }));
-    const understated = { ...s, privacy: { ...s.privacy, whetherVoted: { epsilon: '1', factorAtMost: 2.72 } } };
+    // The draw's 0.5 alone, the live turnout's 0.5 left out; nor may the draw's general ε replace the sum.
+    const understated = { ...s, privacy: { ...s.privacy, whetherVoted: { epsilon: '0.5', factorAtMost: 1.65 } } };
     expect(recheckStatement(understated).some((c) => !c.ok && c.what.startsWith('whether a member voted'))).toBe(true);
     const lessNoise = { ...s, released: { ...s.released, liveTurnout: { ...s.released.liveTurnout!, nodeScale: '8' } } };
     expect(recheckStatement(lessNoise).some((c) => !c.ok && c.what.includes('live turnout'))).toBe(true);

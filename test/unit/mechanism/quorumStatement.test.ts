@@ -44,7 +44,7 @@ const envelope = (s: unknown) =>
 const failed = (s: PublicStatement) => recheckStatement(s).filter((c) => !c.ok);
 
 describe('a bylaw quorum in the signed statement: one exact, unprotected bit', () => {
-  it('without a quorum every statement is byte for byte what main signed before quorums existed (fixture made at 4cd23ce)', () => {
+  it('without a quorum every statement is byte for byte what main signed before quorums existed (fixture made at 4cd23ce), but for the tight ε/2', () => {
     const before = JSON.parse(fs.readFileSync(new URL('./fixtures/statements-before-quorum.json', import.meta.url), 'utf8')) as Record<
       string,
       string
@@ -53,8 +53,26 @@ describe('a bylaw quorum in the signed statement: one exact, unprotected bit', (
     for (const [name, bytes] of Object.entries(before)) {
       const [neighbour, rule, kind] = name.split(' ') as [Neighbour, Rule, 'live' | 'turnout'];
       const o = { neighbour, rule, publishedTurnout: kind === 'turnout' ? 7 : null, live: kind === 'live' };
-      expect(canonicalJson(buildPublicStatement(input(o))), name).toBe(bytes);
-      expect(canonicalJson(buildPublicStatement(input({ ...o, quorum: null }))), name).toBe(bytes);
+      const old = JSON.parse(bytes) as PublicStatement;
+      // Signed before the tight figure: the draw's 1.5 plus the live turnout's 0.5 for whether a member voted. Now,
+      // under replace-one, the draw's part is 1.5/2 = 0.75: 1.25 in all, e^1.25 = 3.4903 → 3.50 (rounded up).
+      const expected =
+        neighbour === 'replace-one' && kind === 'live'
+          ? canonicalJson({ ...old, privacy: { ...old.privacy, whetherVoted: { epsilon: '1.25', factorAtMost: 3.5 } } })
+          : bytes;
+      expect(canonicalJson(buildPublicStatement(input(o))), name).toBe(expected);
+      expect(canonicalJson(buildPublicStatement(input({ ...o, quorum: null }))), name).toBe(expected);
+      // And what was signed then under replace-one still rechecks: ε for the draw is the general bound, true if not
+      // tight. (Under add-remove this input's ledger, 1.5 for how members voted, is below the draw's own 2ε = 3.)
+      if (neighbour === 'replace-one') expect(failed(old), name).toEqual([]);
+      if (neighbour === 'replace-one' && kind === 'live') {
+        expect(
+          recheckStatement(old)
+            .map((c) => c.what)
+            .join(' '),
+          name,
+        ).toContain('the general bound ε for the draw; the tight figure is ε/2');
+      }
     }
   });
 

@@ -35,10 +35,11 @@ describe('buildStatement', () => {
       notReleased: ['approval-counts', 'ballots', 'turnout'],
     });
     expect(s.bounds).toEqual(draw.bounds(0.05));
-    // e^1.5 = 4.4817 → 4.49: a factor is rounded up, never understated (decimal arithmetic).
+    // e^1.5 = 4.4817 → 4.49: a factor is rounded up, never understated (decimal arithmetic). Whether a member voted
+    // is a monotone change, ε/2 = 0.75 under replace-one (whetherVoted.test.ts): e^0.75 = 2.1170 → 2.12.
     expect(s.protects).toEqual({
       howVoted: { epsilon: '1.50', factorAtMost: 4.49 },
-      whetherVoted: { epsilon: '1.50', factorAtMost: 4.49 },
+      whetherVoted: { epsilon: '0.75', factorAtMost: 2.12 },
     });
   });
 
