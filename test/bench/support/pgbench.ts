@@ -1,6 +1,6 @@
 /**
  * The intake's ceiling: the app's own one-statement cast (oneStatementCast in src/elections/ballotRepo.ts, the text
- * castInOneStatement sends) run by pgbench, PostgreSQL's benchmark client (Debian's postgresql-client), against
+ * castInOneStatement sends) run by pgbench, PostgreSQL's benchmark client (on Debian 12 in postgresql-15), against
  * real unspent codes of an open election, with ballots the size the app's own casts stored in the same run.
  *
  * How the text gets there: knex turns the builder's `?` placeholders into `$1…$n` for pg (toSQL().toNative(),
@@ -9,8 +9,9 @@
  *   code hash    sha256(int8send(n))         32 bytes, as HMAC-SHA-256 is; the codes were inserted with these hashes
  *   receipt hash sha256(int8send(n + 2^40))  32 bytes, scattered over the key's index as the app's are
  *   token hash   sha256(int8send(n + 2^41))  (when the app's casts carried a cast token, as the member walk's do)
- *   ballot id    md5(int8send(n))::uuid      random-looking, as randomUuid's are
- * Everything else is the app's text unchanged and goes as a parameter, as pg sends it. Two sha256 and one md5 of
+ *   ballot id    md5(int8send(n + salt))::uuid  random-looking, as randomUuid's are; ballot ids are unique across
+ *                elections, so each run adds its own random salt (2^47 to 2^48)
+ * Everything else is the app's text unchanged and goes as a parameter, as pg sends it. Three sha256 and one md5 of
  * 8 bytes cost the server a few microseconds, against the milliseconds a cast takes.
  *
  * Which code each transaction spends: client c (pgbench's :client_id, 0-based) runs exactly `perClient`
@@ -137,7 +138,7 @@ export async function pgbenchCasts(
     if (same(v, s.perCast.codeHash)) return 'sha256(int8send(:n::int8))';
     if (same(v, s.perCast.receiptHash)) return 'sha256(int8send(:receipt::int8))';
     if (same(v, s.perCast.tokenHash)) return 'sha256(int8send(:token::int8))';
-    if (same(v, s.perCast.ballotId)) return 'md5(int8send(:n::int8))::uuid';
+    if (same(v, s.perCast.ballotId)) return 'md5(int8send(:ballot::int8))::uuid';
     if (v instanceof Date && v.getTime() === s.now.getTime()) return ':now';
     if (v === election.id) return ':election_id';
     if (v === election.optionCount) return ':option_count';
@@ -158,6 +159,7 @@ export async function pgbenchCasts(
         '\\set i :i + 1',
         `\\set receipt :n + ${2 ** 40}`,
         `\\set token :n + ${2 ** 41}`,
+        `\\set ballot :n + ${crypto.randomInt(2 ** 47) + 2 ** 47}`,
         `${statement.trim()};`,
         '',
       ].join('\n'),
