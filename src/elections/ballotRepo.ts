@@ -83,22 +83,10 @@ export interface OneStatementCast {
 export type OneStatementOutcome = 'stored' | 'not-stored' | 'receipt-taken';
 
 /**
- * The whole cast as one statement (data-modifying CTEs, PostgreSQL manual §7.8.4), so a cast is
- * one round trip instead of BEGIN, a check, an update, three inserts and COMMIT. Run outside any
- * transaction, the statement is its own transaction: all of it happens or none of it.
- *  - `e` finds the election only while it accepts ballots at `now` (acceptsBallotsAt's rule) and
- *    only under the key and option count the ballot was sealed for. FOR SHARE, as in
- *    votingElection: a tally's FOR UPDATE waits for this cast, and a cast arriving during a tally
- *    waits for it and then re-reads the row (READ COMMITTED), so it sees the election closed.
- *  - `spent` spends the code with the same conditional UPDATE as spendCode, whose row lock lets
- *    exactly one of many concurrent casts with one code through.
- *  - the receipt, the ballot and the cast token rows are inserted only from the spent row.
- * The receipt insert has no ON CONFLICT: a receipt hash already taken (50-bit receipts can collide
- * in a very large election) fails the whole statement, so nothing is spent, and the caller draws
- * another receipt. 'not-stored': the election is not open, the code is not spendable or the key
- * differs; nothing was written and the caller finds out why on the slower path.
+ * The text castInOneStatement sends, with knex's `?` placeholders, and its bindings in order. Exported so that
+ * the intake benchmark's pgbench ceiling (test/bench/support/pgbench.ts) runs this very text.
  */
-export async function castInOneStatement(db: Knex, c: OneStatementCast): Promise<OneStatementOutcome> {
+export function oneStatementCast(c: OneStatementCast): { sql: string; bindings: Knex.RawBinding[] } {
   const tokenCte = c.castToken
     ? `, token as (
         insert into cast_tokens (election_id, token_hash, sealed_receipt)
@@ -132,6 +120,27 @@ export async function castInOneStatement(db: Knex, c: OneStatementCast): Promise
     c.sealed,
     ...(c.castToken ? [c.castToken.hash, c.castToken.sealedReceipt] : []),
   ];
+  return { sql, bindings };
+}
+
+/**
+ * The whole cast as one statement (data-modifying CTEs, PostgreSQL manual §7.8.4), so a cast is
+ * one round trip instead of BEGIN, a check, an update, three inserts and COMMIT. Run outside any
+ * transaction, the statement is its own transaction: all of it happens or none of it.
+ *  - `e` finds the election only while it accepts ballots at `now` (acceptsBallotsAt's rule) and
+ *    only under the key and option count the ballot was sealed for. FOR SHARE, as in
+ *    votingElection: a tally's FOR UPDATE waits for this cast, and a cast arriving during a tally
+ *    waits for it and then re-reads the row (READ COMMITTED), so it sees the election closed.
+ *  - `spent` spends the code with the same conditional UPDATE as spendCode, whose row lock lets
+ *    exactly one of many concurrent casts with one code through.
+ *  - the receipt, the ballot and the cast token rows are inserted only from the spent row.
+ * The receipt insert has no ON CONFLICT: a receipt hash already taken (50-bit receipts can collide
+ * in a very large election) fails the whole statement, so nothing is spent, and the caller draws
+ * another receipt. 'not-stored': the election is not open, the code is not spendable or the key
+ * differs; nothing was written and the caller finds out why on the slower path.
+ */
+export async function castInOneStatement(db: Knex, c: OneStatementCast): Promise<OneStatementOutcome> {
+  const { sql, bindings } = oneStatementCast(c);
   try {
     const rows = rawRows(await db.raw(sql, bindings));
     return toCount(rows[0]?.stored ?? 0) === 1 ? 'stored' : 'not-stored';

@@ -1,8 +1,10 @@
 /**
  * Intake: real casts over HTTP against the compiled server, with fresh pre-issued codes, on
  * PostgreSQL at 50 and 200 concurrent members, and on the embedded database. Ceiling for
- * PostgreSQL: the same spend-and-insert transaction sent straight through pg at the same
- * concurrency and the app's pool size, without HTTP or crypto, measured in this run.
+ * PostgreSQL, measured in this run right after the HTTP casts: the app's own cast statement run by
+ * pgbench with as many clients as members (support/pgbench.ts), no HTTP, no crypto, no pool. A second
+ * reference, reported without a target: the cast sent step by step (BEGIN, spend, receipt, ballot,
+ * COMMIT) through pg at the same concurrency and the app's pool size.
  * Invented data: a rowing club choosing among 20 names for its new boat.
  */
 import crypto from 'node:crypto';
@@ -19,6 +21,7 @@ import { findElection } from '../../src/elections/electionRepo.ts';
 import { TEST_KDF, testKeyDirectory } from '../helpers/context.ts';
 import { createOrganiser, openElectionFixture } from '../helpers/fixtures.ts';
 import { figure, percentile, type BenchOptions, type Figure } from './support/figures.ts';
+import { pgbenchCasts, pgbenchVersion, spareConnections, storedLengths, type PgbenchCasts } from './support/pgbench.ts';
 import { postgresAnswers, scratchDatabase } from './support/postgres.ts';
 import { startCompiledServer } from './support/server.ts';
 import { castStatements } from './support/castQueries.ts';
@@ -48,7 +51,7 @@ async function openBoatElection(ctx: UseCaseContext, organiserId: string, codes:
   });
 }
 
-/** The ceiling: spend a code, store a receipt and a ballot in one transaction, through pg alone. */
+/** The second reference: spend a code, store a receipt and a ballot in one transaction, step by step through pg alone. */
 async function ceiling(db: Database, url: string, electionId: string, casts: number, concurrency: number): Promise<IntakeResult> {
   const hashes = Array.from({ length: casts }, () => crypto.randomBytes(32));
   await insertCodeHashes(db.knex, electionId, hashes);
@@ -100,11 +103,14 @@ async function ceiling(db: Database, url: string, electionId: string, casts: num
 
 async function postgresIntake(opts: BenchOptions): Promise<Figure[]> {
   const levels = opts.quick
-    ? [{ concurrency: 50, casts: 150 }]
+    ? [{ concurrency: 50, casts: 150, pgbenchCasts: 1000 }]
     : [
-        { concurrency: 50, casts: 1500 },
-        { concurrency: 200, casts: 2000 },
+        { concurrency: 50, casts: 1500, pgbenchCasts: 5000 },
+        { concurrency: 200, casts: 2000, pgbenchCasts: 5000 },
       ];
+  const pgbench = pgbenchVersion();
+  if (pgbench) console.log(`  ceiling: ${pgbench}`);
+  else console.log('  pgbench not found (Debian: apt-get install postgresql-client): intake on PostgreSQL is reported without its ceiling');
   const scratch = await scratchDatabase();
   const pepper = crypto.randomBytes(32);
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'vt-bench-'));
@@ -122,19 +128,50 @@ async function postgresIntake(opts: BenchOptions): Promise<Figure[]> {
       TRUST_PROXY: 'loopback', // each member sends its own address (support/voters.ts)
     });
     try {
-      for (const { concurrency, casts } of levels) {
+      for (const { concurrency, casts, pgbenchCasts: pgbenchTransactions } of levels) {
         const f = await openBoatElection(ctx, organiserId, casts);
         const prepared = await prepareCasts(server.url, f.id, f.codes, approvalsFor);
         const http = await castAll(server.url, prepared, concurrency);
+        let bench: PgbenchCasts | null = null;
+        if (pgbench) {
+          const clients = Math.min(concurrency, await spareConnections(db));
+          if (clients < concurrency)
+            console.log(`  pgbench: the server has room for ${clients} more connections, not ${concurrency}: ${clients} clients`);
+          const target = await openBoatElection(ctx, organiserId, 1);
+          const e = await findElection(db.knex, target.id);
+          bench = await pgbenchCasts(
+            db,
+            scratch.url,
+            { id: target.id, publicKey: e!.publicKey!, optionCount: OPTIONS.length },
+            await storedLengths(db, f.id),
+            clients,
+            pgbenchTransactions,
+          );
+        }
         const base = await openBoatElection(ctx, organiserId, 1);
         const raw = await ceiling(db, scratch.url, base.id, casts, concurrency);
         const label = `intake, PostgreSQL, ${concurrency} members`;
         figures.push(
-          figure(`${label}: ballots/s`, http.ballotsPerSecond, 'ballots/s', raw.ballotsPerSecond, { atLeastRatio: 0.35 }),
-          figure(`${label}: p50`, http.p50Ms, 'ms', raw.p50Ms),
-          figure(`${label}: p99`, http.p99Ms, 'ms', raw.p99Ms, concurrency === 200 ? { below: 100 } : null),
+          figure(
+            `${label}: ballots/s`,
+            http.ballotsPerSecond,
+            'ballots/s',
+            bench?.castsPerSecond ?? null,
+            bench ? { atLeastRatio: concurrency >= 200 ? 0.45 : 0.5 } : null,
+          ),
+          figure(`${label}: p50`, http.p50Ms, 'ms', bench?.p50Ms ?? null),
+          figure(`${label}: p99`, http.p99Ms, 'ms', bench?.p99Ms ?? null, bench && concurrency === 200 ? { atMostRatio: 3 } : null),
           figure(`${label}: errors`, http.errors, 'casts', null, { below: 1 }),
+          figure(`${label}: ballots/s against the step-by-step cast through pg`, http.ballotsPerSecond, 'ballots/s', raw.ballotsPerSecond),
         );
+        if (bench) {
+          const pl = `pgbench, the cast statement, ${bench.clients} clients`;
+          figures.push(
+            figure(`${pl}: casts/s`, bench.castsPerSecond, 'casts/s', null),
+            figure(`${pl}: p99`, bench.p99Ms, 'ms', null),
+            figure(`${pl}: casts not stored`, bench.transactions - bench.stored, 'casts', null, { below: 1 }),
+          );
+        }
       }
     } finally {
       await server.stop();
