@@ -9,7 +9,8 @@ import { DRAFT_LIMITS } from '../../../src/elections/draft.ts';
 import { engines, freshDatabase, type TestDatabase } from '../../helpers/databases.ts';
 import { testApp } from '../../helpers/app.ts';
 import { testClock } from '../../helpers/context.ts';
-import { castAll, createDraft, openFixture, tallyFixture } from '../../helpers/fixtures.ts';
+import { castAll, createDraft, FIXTURE_PASSPHRASE, openFixture, tallyFixture } from '../../helpers/fixtures.ts';
+import { secretKeyFromRow } from '../../helpers/storedKeys.ts';
 import { rosterElection, rosterWith } from '../../helpers/roster.ts';
 import { encode, makeOrganiser, organiseContext, signedIn, tokenIn } from './organiseSupport.ts';
 
@@ -60,7 +61,12 @@ function formAsShown(html: string): Record<string, string[]> {
 
 /** Every table with an election_id column (read from the catalogue, so a new table is checked too). */
 async function tablesWithElectionId(db: TestDatabase): Promise<string[]> {
-  const rows = await db.knex('information_schema.columns').where({ column_name: 'election_id', table_schema: 'public' }).select('table_name');
+  // The schema the tests' tables are in (PostgreSQL runs each suite in a schema of its own).
+  const rows = await db
+    .knex('information_schema.columns')
+    .where({ column_name: 'election_id' })
+    .whereRaw('table_schema = current_schema()')
+    .select('table_name');
   return rows.map((r) => String(r.table_name)).sort();
 }
 
@@ -270,6 +276,10 @@ describe.each(engines)('copying an election as a new draft [%s]', (engine) => {
     expect(e.title).toBe('Which repairs this winter (copy)');
     expect(e.options.map((o) => o.label)).toEqual(['Roof over stair B', 'Bike shed', 'Laundry room dryers', 'Entry phone']);
     expect(await db.knex('audit_events').where({ election_id: copyId }).pluck('action')).toEqual(['created', 'draft-edited']);
+    // Its key opens with the passphrase typed on the copy page, not with the source's.
+    const row = await db.knex('elections').where({ id: copyId }).first('wrapped_key');
+    await expect(secretKeyFromRow(ctx, copyId, row.wrapped_key, NEW_PASSPHRASE)).resolves.toHaveLength(32);
+    await expect(secretKeyFromRow(ctx, copyId, row.wrapped_key, FIXTURE_PASSPHRASE)).rejects.toThrow();
   });
 
   it('a long title is marked and kept within the limit', async () => {
@@ -321,9 +331,7 @@ describe.each(engines)('copying an election as a new draft [%s]', (engine) => {
       expect(theirs.text).not.toContain('Which repairs this winter');
     }
     expect((await db.knex('elections').count({ n: '*' }).first())!.n).toBe(before!.n);
-    expect((await db.knex('elections').where({ owner_id: stranger.id }).count({ n: '*' }).first())!.n).toEqual(
-      typeof before!.n === 'string' ? '0' : 0,
-    );
+    expect(Number((await db.knex('elections').where({ owner_id: stranger.id }).count({ n: '*' }).first())!.n)).toBe(0);
     expect((await db.knex('audit_events').count({ n: '*' }).first())!.n).toBe(audit!.n);
   });
 
@@ -339,7 +347,6 @@ describe.each(engines)('copying an election as a new draft [%s]', (engine) => {
     const e = (await findElection(db.knex, copyId))!;
     expect(e.ownerId).toBe(partner.id);
     expect(e.rosterId).toBeNull();
-    expect(await db.knex('election_organisers').where({ election_id: copyId }).count({ n: '*' }).first()).toEqual({ n: expect.anything() });
     expect(Number((await db.knex('election_organisers').where({ election_id: copyId }).count({ n: '*' }).first())!.n)).toBe(0);
     // The partner's own ledger group, named as the source's.
     const group = await db.knex('member_groups').where({ id: e.groupId }).first('owner_id');
