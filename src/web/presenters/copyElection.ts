@@ -46,7 +46,7 @@ export function copyView(plan: CopyPlan): CopyView {
 }
 
 /** The note at the top of the new draft's form, right after the copy (`?copied=` on the redirect). */
-export function copiedNotice(kind: 'yes' | 'printed' | undefined): string[] | null {
+export function copiedNotice(kind: 'yes' | 'printed' | undefined): { className: 'notice-good' | 'notice-warn'; lines: string[] } | null {
   if (!kind) return null;
   const lines = [
     'This is a new draft, made from another election. Nothing has been sent and no ballot codes exist for it yet.',
@@ -56,5 +56,5 @@ export function copiedNotice(kind: 'yes' | 'printed' | undefined): string[] | nu
     lines.push(
       'Who votes is set to printed codes: the other election’s roster is not one you run. Choose one of your own rosters below if you have one.',
     );
-  return lines;
+  return { className: kind === 'printed' ? 'notice-warn' : 'notice-good', lines };
 }

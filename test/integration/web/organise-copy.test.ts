@@ -353,7 +353,7 @@ describe.each(engines)('copying an election as a new draft [%s]', (engine) => {
     expect(group.owner_id).toBe(partner.id);
     const edit = await partnerAgent.get(res.headers.location!);
     expect(edit.status).toBe(200);
-    expect(mainOf(edit.text)).toContain('printed codes');
+    expect(edit.text).toMatch(/<div class="notice notice-warn" id="copied-note">[\s\S]*?printed codes[\s\S]*?<\/div>/);
     expect(edit.text).toMatch(/id="electorate-printed"[^>]* checked/);
     // The owner cannot see the partner's copy.
     expect((await ownerAgent.get(`/organise/elections/${copyId}`)).status).toBe(404);

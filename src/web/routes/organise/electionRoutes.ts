@@ -47,7 +47,7 @@ export function electionRoutes(deps: AppDeps): Router {
       ambiguous?: string[];
       addRows?: number;
       passphrase?: { passphrase: string; passphraseAgain: string };
-      copied?: string[] | null;
+      copied?: ReturnType<typeof copiedNotice>;
     } = {},
   ) {
     const { copied = null, ...formExtra } = extra;
