@@ -155,6 +155,28 @@ describe('organiser basics', () => {
     await context.close();
   });
 
+  it('makes a new draft from a closed election, saved at once from its form', async () => {
+    const { ctx, clock, organiserId } = env.server;
+    const f = await openElectionFixture(ctx, organiserId, { title: 'Spring regatta crews', closesAt: new Date(clock.now().getTime() + 3600_000) });
+    await closeElection(ctx, { electionId: f.id, organiserId });
+    const { context, page } = await newPage(PHONE);
+    await signIn(page);
+    await page.goto(`${env.server.url}/organise/elections/${f.id}`);
+    await page.getByRole('link', { name: 'Make a new draft from this…' }).click();
+    await checkPage(page, 'flows-copy-phone');
+    await page.getByLabel('Passphrase', { exact: true }).fill('autumn regatta passphrase');
+    await page.getByLabel('Passphrase again').fill('autumn regatta passphrase');
+    await page.getByRole('button', { name: 'Make the new draft' }).click();
+    await page.waitForURL(/\/edit\?copied=yes$/);
+    await expect(page.getByText('This is a new draft, made from another election.').isVisible()).resolves.toBe(true);
+    await expect(page.getByLabel('Title').inputValue()).resolves.toBe('Spring regatta crews (copy)');
+    await checkPage(page, 'flows-copied-form-phone');
+    await page.getByRole('button', { name: 'Save the draft' }).click();
+    await page.waitForURL(/\/organise\/elections\/[0-9a-f-]{36}$/);
+    await expect(page.getByRole('heading', { level: 1 }).textContent()).resolves.toBe('Spring regatta crews (copy)');
+    await context.close();
+  });
+
   it('deletes a draft and changes the organiser’s own password', async () => {
     const { ctx, organiserId } = env.server;
     const f = await createDraft(ctx, organiserId, { title: 'Draft to bin' });

@@ -47,7 +47,9 @@ export function eventText(ev: AuditRow, zone: string): string {
   const d = ev.detail as Record<string, unknown>;
   switch (ev.action) {
     case 'created':
-      return 'Created the election';
+      return d.copy ? 'Created the election as a copy of another' : 'Created the election';
+    case 'copied':
+      return 'Made a new draft from this election';
     case 'draft-edited':
       return 'Edited the draft';
     case 'tally-key-set':

@@ -43,6 +43,12 @@ const ELECTION_ROUTES: Row[] = [
   { method: 'GET', path: '/organise/elections/:id/sharing' },
   { method: 'POST', path: '/organise/elections/:id/sharing', fields: ({ attacker }) => ({ email: attacker.email }) },
   { method: 'POST', path: '/organise/elections/:id/sharing/remove', fields: ({ victim }) => ({ organiserId: victim.id }) },
+  { method: 'GET', path: '/organise/elections/:id/copy' },
+  {
+    method: 'POST',
+    path: '/organise/elections/:id/copy',
+    fields: () => ({ passphrase: 'a copy made by another organiser', passphraseAgain: 'a copy made by another organiser' }),
+  },
   { method: 'GET', path: '/organise/elections/:id/codes' },
   { method: 'POST', path: '/organise/elections/:id/codes', fields: () => ({ count: '5', format: 'screen' }) },
   { method: 'POST', path: '/organise/elections/:id/codes/csv', fields: () => ({ batch: 'x', count: '5' }) },

@@ -16,6 +16,8 @@ import { groupNameOf } from '../../../elections/ledger.ts';
 import { draftFromValues, intentSchema, MAX_ROWS, readElectionForm, readPassphrase, type ElectionFormValues } from './electionSchema.ts';
 import { errorsFrom, field, type FieldErrors } from './forms.ts';
 import { noStore } from '../../middleware/security.ts';
+import { copiedNotice } from '../../presenters/copyElection.ts';
+import { readCopied } from './copySchema.ts';
 
 /**
  * The two passphrase fields as typed, for a new election's form to show again when it comes back
@@ -40,17 +42,25 @@ export function electionRoutes(deps: AppDeps): Router {
     status: number,
     electionId: string | null,
     values: ElectionFormValues,
-    extra: { errors?: FieldErrors; ambiguous?: string[]; addRows?: number; passphrase?: { passphrase: string; passphraseAgain: string } } = {},
+    extra: {
+      errors?: FieldErrors;
+      ambiguous?: string[];
+      addRows?: number;
+      passphrase?: { passphrase: string; passphraseAgain: string };
+      copied?: ReturnType<typeof copiedNotice>;
+    } = {},
   ) {
+    const { copied = null, ...formExtra } = extra;
     const budget = await groupBudget(ctx, values, electionId, organiserOf(res).id);
     const stored = electionId === null ? null : (await ownedElection(ctx.knex, electionId, organiserOf(res).id, { lock: false })).rosterId;
     const rosters = await electorateChoices(ctx, { organiserId: organiserOf(res).id, currentRosterId: stored });
-    const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, budget, rosters, ...extra });
+    const form = electionFormView({ electionId, values, maxRows: MAX_ROWS, budget, rosters, ...formExtra });
     res.status(status).render('organise/election-form', {
       title: electionId === null ? 'New election' : 'Edit the draft',
       form,
       errors: form.errors,
       electionId,
+      copied,
     });
   }
 
@@ -91,7 +101,7 @@ export function electionRoutes(deps: AppDeps): Router {
 
   router.get('/organise/elections/:id/edit', async (req, res) => {
     const e = await ownDraft(res, req.params.id);
-    await renderForm(res, 200, e.id, valuesFromElection(e, await groupNameOf(ctx, e.groupId)));
+    await renderForm(res, 200, e.id, valuesFromElection(e, await groupNameOf(ctx, e.groupId)), { copied: copiedNotice(readCopied(req.query)) });
   });
 
   router.post('/organise/elections/:id/edit', async (req, res) => {

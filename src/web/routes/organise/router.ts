@@ -3,6 +3,7 @@ import type { AppDeps } from '../../deps.ts';
 import { accountRoutes } from './accountRoutes.ts';
 import { requireOrganiser } from './auth.ts';
 import { codeRoutes } from './codeRoutes.ts';
+import { copyRoutes } from './copyRoutes.ts';
 import { dashboardRoutes } from './dashboardRoutes.ts';
 import { electionRoutes } from './electionRoutes.ts';
 import { tallyRoutes } from './tallyRoutes.ts';
@@ -25,6 +26,7 @@ export function organiseRouter(deps: AppDeps): Router {
   router.use('/organise', requireOrganiser(deps));
   // "new" is matched before ":id", so the order of these matters.
   router.use(electionRoutes(deps));
+  router.use(copyRoutes(deps));
   router.use(codeRoutes(deps));
   router.use(mailRoutes(deps));
   router.use(tallyRoutes(deps));
