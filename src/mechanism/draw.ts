@@ -1,7 +1,7 @@
 import { computeBounds, type Bounds } from './bounds.ts';
 import { toEpsilon, type Epsilon } from './epsilon.ts';
 import { InvalidMechanismConfig, InvalidScores, quoteForMessage } from './errors.ts';
-import { NEIGHBOURS, SENSITIVITY, whetherVotedEpsilonText, type Neighbour } from './neighbour.ts';
+import { NEIGHBOURS, SENSITIVITY, type Neighbour } from './neighbour.ts';
 import { peelSeats } from './peeling.ts';
 import { divideByInteger, multiplyByInteger, rational, rationalToNumber, rationalToText, type Rational } from './rational.ts';
 import type { RandomSource } from './random.ts';
@@ -23,10 +23,16 @@ export interface PrivacyCost {
   composition: 'single-draw' | 'basic';
 }
 
-/** ε for whether a member voted, for a draw at `epsilon` in all under `neighbour`: ε/2 under replace-one, else ε. */
+/**
+ * ε for whether a member voted, for a draw at `epsilon` in all under `neighbour`. Voting or not is a monotone change
+ * (a ballot against none; approval counts never fall as one is added), and on monotone scores one round at scale a
+ * is a-DP for either rule (test/unit/mechanism/whetherVoted.test.ts gives the argument and checks it with exact
+ * ratios): k rounds at a = (ε/k)/2 compose to ε/2 under replace-one; under add-remove the scale is already a = ε/k,
+ * so ε, as entered.
+ */
 export function whetherVotedFor(epsilon: string | Epsilon, neighbour: Neighbour): string {
   const e = toEpsilon(epsilon);
-  return neighbour === 'replace-one' ? whetherVotedEpsilonText(rational(e.num, e.den), neighbour) : e.text;
+  return neighbour === 'replace-one' ? rationalToText(divideByInteger(rational(e.num, e.den), 2n)) : e.text;
 }
 
 /** A checked draw for one election's settings, under any draw rule (src/mechanism/rules/). */
